@@ -1,0 +1,125 @@
+"""Command line: argument parsing, exit codes and error printing. No numerics here.
+
+Exit codes: 0 every rule holds (or the command ran), 1 at least one finding (or a stall),
+2 bad input or usage, 130 interrupted.
+"""
+
+from __future__ import annotations
+
+import argparse
+import signal
+import sys
+from collections.abc import Sequence
+
+from . import __version__
+from .errors import InputError, TrainStalled
+
+EXIT_OK, EXIT_FINDINGS, EXIT_INPUT, EXIT_INTERRUPTED = 0, 1, 2, 130
+
+
+def _positive(text: str) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"'{text}' is not a number") from None
+    if not value > 0:
+        raise argparse.ArgumentTypeError(f"must be greater than zero, got {text}")
+    return value
+
+
+def _nonnegative(text: str) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"'{text}' is not a number") from None
+    if not value >= 0:
+        raise argparse.ArgumentTypeError(f"must be zero or more, got {text}")
+    return value
+
+
+def _add_ride_options(p: argparse.ArgumentParser) -> None:
+    p.add_argument("track", help="centerline CSV (x, y, z [m]; optional roll_deg or up_*)")
+    group = p.add_mutually_exclusive_group()
+    group.add_argument("--train", help="train TOML (cars, seats, masses, resistances)")
+    group.add_argument("--ideal", action="store_true",
+                       help="one rider on the centerline, no rolling resistance, no drag")
+    p.add_argument("--operation", help="operation TOML (start speed, lift, launch, brakes)")
+    p.add_argument("--start-speed", type=_nonnegative, metavar="M_PER_S",
+                   help="speed at the start [m/s]; overrides the operation file")
+    p.add_argument("--rate", type=_positive, default=200.0, metavar="HZ",
+                   help="output sample rate [Hz] (default 200)")
+    p.add_argument("--units", choices=("m", "ft"), default="m",
+                   help="length unit of the track file (default m)")
+    p.add_argument("--smoothing", type=_nonnegative, default=0.0, metavar="METRES",
+                   help="RMS tolerance for smoothing noisy CAD samples (default 0: interpolate)")
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="checker",
+        description="Acceleration-envelope self-check for roller coaster layouts. A self-check, "
+                    "not a certification: the governing code, the authority having "
+                    "jurisdiction and licensed engineering review decide.")
+    parser.add_argument("--version", action="version", version=f"checker {__version__}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND")
+    sim = sub.add_parser("simulate", help="simulate a ride; write every seat's history (CSV)")
+    _add_ride_options(sim)
+    sim.add_argument("-o", "--output", required=True, metavar="HISTORY.csv",
+                     help="where to write the history")
+    return parser
+
+
+def _cmd_simulate(args: argparse.Namespace) -> int:
+    from .outputs import atomic_write_text, check_writable
+    from .ride import RideOptions, histories_frame, load_inputs, run_ride
+
+    check_writable(args.output)
+    line, train, ops = load_inputs(args.track, args.train, ideal=args.ideal,
+                                   operation=args.operation, start_speed_m_s=args.start_speed,
+                                   units=args.units)
+    result = run_ride(line, train, ops, RideOptions(rate_hz=args.rate,
+                                                    smoothing_m=args.smoothing))
+    frame = histories_frame(result.histories)
+    atomic_write_text(args.output, frame.to_csv(index=False, float_format="%.6g"))
+    print(f"wrote {args.output}: {len(result.histories)} seats, {len(frame)} rows, "
+          f"ride time {result.motion.duration_s:.1f} s, {result.motion.end_reason}")
+    if result.geometry.smoothing is not None:
+        sm = result.geometry.smoothing
+        print(f"smoothing {sm.tolerance_m:g} m: samples moved up to {sm.max_deviation_m:.3f} m; "
+              f"curvature removed rms {sm.rms_curvature_removed:.4f} 1/m, max "
+              f"{sm.max_curvature_removed:.4f} 1/m at station {sm.station_of_max_removed_m:.1f} m")
+    if result.motion.stall is not None:
+        print(f"checker: {result.motion.stall}; the history ends there", file=sys.stderr)
+        return EXIT_FINDINGS
+    return EXIT_OK
+
+
+COMMANDS = {"simulate": _cmd_simulate}
+
+
+def _on_terminate(signum, frame):  # SIGTERM behaves like Ctrl-C: unwind, no partial output
+    raise KeyboardInterrupt
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    if args.command is None:
+        parser.print_help()
+        return EXIT_INPUT
+    signal.signal(signal.SIGTERM, _on_terminate)
+    try:
+        return COMMANDS[args.command](args)
+    except InputError as exc:
+        print(f"checker: error: {exc.message()}", file=sys.stderr)
+        return EXIT_INPUT
+    except TrainStalled as exc:
+        print(f"checker: {exc}", file=sys.stderr)
+        return EXIT_FINDINGS
+    except KeyboardInterrupt:
+        print("checker: interrupted; no output was written or changed", file=sys.stderr)
+        return EXIT_INTERRUPTED
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

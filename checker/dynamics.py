@@ -1,0 +1,221 @@
+"""Speed and time along the track for the whole train.
+
+All cars share one speed. The tangential equation of the train, written for the specific
+kinetic energy e = v^2 / 2 [J/kg] against the lead car's station s [m], is
+
+    de/ds = -g0 * sum_j m_j t_z(s_j) / M                        (gravity at each car's station)
+            - mu / M * sum_j m_j |k(s_j) v^2 - g_perp(s_j)|     (rolling resistance ~ wheel load)
+            - rho CdA / (2 M) * (v + w) |v + w|                 (aerodynamic drag, head wind w)
+            + F / M                                             (launch force)
+
+with s_j = s - (j - 1) * spacing (Coulomb friction model; drag as 0.5 rho CdA v^2). It is
+integrated in space with Heun's method on the geometry's station grid; powered sections clamp e
+(lift: not below the chain speed; brake: down to a target at a bounded deceleration; launch:
+force or a controlled exit speed). Time follows from dt = 2 ds / (v_k + v_{k+1}), exact for
+constant acceleration over a step and finite from rest. The space-marching kernel is one
+sequential loop: compiled by numba when it is installed, plain Python otherwise (same code).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from .errors import TrainStalled
+from .geometry import TrackGeometry
+from .operation import Operation
+from .train import Train
+
+G0 = 9.80665  # standard gravity [m/s^2], 3rd CGPM (1901)
+
+FREE, LIFT, LAUNCH_FORCE, LAUNCH_SPEED, BRAKE = 0, 1, 2, 3, 4
+RAN_TO_END, STOPPED_BY_BRAKE, STALLED = 0, 1, 2
+
+
+@dataclass(frozen=True)
+class RideMotion:
+    """The train's motion on the station grid of its lead car."""
+
+    s: np.ndarray  # lead car station [m]
+    t: np.ndarray  # time [s]
+    v: np.ndarray  # speed [m/s]
+    a_t: np.ndarray  # tangential acceleration dv/dt [m/s^2]
+    section_code: np.ndarray  # powered section kind acting at each station
+    car_spacing_m: float
+    car_count: int
+    end_reason: str
+    stall: TrainStalled | None = None  # set when the train came to rest outside a stop brake
+
+    @property
+    def duration_s(self) -> float:
+        return float(self.t[-1])
+
+
+def _march(ds, gravity, p, q, r, w, masses, mu_over_m, drag_over_m, wind, code, remaining,
+           target_e, accel, force_over_m, cap_e, e0):
+    """Space-marching kernel; returns (e, last index, reason, fraction of the last step)."""
+    n = gravity.shape[0]
+    ncar = masses.shape[0]
+    e = np.zeros(n)
+    e[0] = e0
+    for k in range(n - 1):
+        ek = e[k]
+        c = code[k]
+        # Heun step of the free-rolling equation (plus launch force where it acts).
+        f1 = 0.0
+        f2 = 0.0
+        for stage in range(2):
+            kk = k + stage
+            if stage == 0:
+                ee = ek
+            else:
+                ee = ek + ds * f1
+                if ee < 0.0:
+                    ee = 0.0
+            v = math.sqrt(2.0 * ee)
+            load = 0.0
+            for j in range(ncar):
+                a1 = 2.0 * ee * p[kk, j] + q[kk, j]
+                a2 = -2.0 * ee * r[kk, j] + w[kk, j]
+                load += masses[j] * math.sqrt(a1 * a1 + a2 * a2)
+            air = v + wind
+            f = gravity[kk] - mu_over_m * load - drag_over_m * air * abs(air)
+            if c == LAUNCH_FORCE and (cap_e[k] <= 0.0 or ee < cap_e[k]):
+                f += force_over_m[k]
+            if stage == 0:
+                f1 = f
+            else:
+                f2 = f
+        ef = ek + 0.5 * ds * (f1 + f2)
+        if c == LIFT:
+            chain = ek + accel[k] * ds
+            if chain > target_e[k]:
+                chain = target_e[k]
+            en = ef if ef > chain else chain
+        elif c == LAUNCH_SPEED:
+            en = ek + (target_e[k] - ek) / remaining[k]
+        elif c == BRAKE:
+            if ef <= target_e[k]:
+                en = ef
+            else:
+                en = ef - accel[k] * ds
+                if en < target_e[k]:
+                    en = target_e[k]
+        else:
+            en = ef
+        if en <= 0.0:
+            frac = ek / (ek - en) if ek - en > 0.0 else 0.0
+            reason = STOPPED_BY_BRAKE if (c == BRAKE and target_e[k] <= 0.0) else STALLED
+            return e, k, reason, frac
+        e[k + 1] = en
+    return e, n - 1, RAN_TO_END, 0.0
+
+
+try:  # a compiled kernel where numba is installed; the same code runs as Python otherwise
+    import numba
+
+    _march_kernel = numba.njit(cache=True)(_march)
+except ImportError:  # pragma: no cover - depends on the environment
+    _march_kernel = _march
+
+
+def _section_arrays(stations: np.ndarray, operation: Operation, track_length: float,
+                    train_length: float, ds: float):
+    n = len(stations)
+    code = np.zeros(n, dtype=np.int64)
+    remaining = np.ones(n)
+    target_e = np.zeros(n)
+    accel = np.zeros(n)
+    force = np.zeros(n)
+    cap_e = np.zeros(n)
+    spans = sorted(((sec.resolved(track_length), sec) for sec in operation.sections),
+                   key=lambda item: item[0][0])
+    for (a, b), sec in spans:  # later sections override where the train straddles two
+        active = (stations >= a) & (stations <= b + train_length)
+        idx = np.flatnonzero(active)
+        if idx.size == 0:
+            continue
+        if sec.kind == "lift":
+            code[idx] = LIFT
+            target_e[idx] = 0.5 * sec.speed_m_s**2
+            accel[idx] = sec.engage_accel_m_s2
+        elif sec.kind == "launch" and sec.exit_speed_m_s > 0:
+            code[idx] = LAUNCH_SPEED
+            target_e[idx] = 0.5 * sec.exit_speed_m_s**2
+            remaining[idx] = np.maximum(1.0, idx[-1] + 1 - idx)
+        elif sec.kind == "launch":
+            code[idx] = LAUNCH_FORCE
+            force[idx] = sec.force_n
+            cap_e[idx] = 0.5 * sec.max_speed_m_s**2
+        else:
+            code[idx] = BRAKE
+            target_e[idx] = 0.5 * sec.speed_m_s**2
+            accel[idx] = sec.max_decel_m_s2
+    return code, remaining, target_e, accel, force, cap_e
+
+
+def simulate_motion(
+    geometry: TrackGeometry,
+    train: Train,
+    operation: Operation,
+    *,
+    head_wind_m_s: float = 0.0,
+) -> RideMotion:
+    """Integrate the train's speed along the track.
+
+    The train starts with its last car at station 0 and the lead car at ``train.length_m``,
+    at ``operation.start_speed_m_s``, and runs until the lead car reaches the track's end or a
+    stopping brake brings it to rest. Raises :class:`TrainStalled` where it comes to rest
+    anywhere else: the motion up to that point is returned with ``stall`` set.
+    """
+    operation.check_against(geometry.length, train.length_m)
+    ds = geometry.step
+    start = train.length_m
+    count = int(np.floor((geometry.length - start) / ds + 1e-9))
+    stations = start + ds * np.arange(count + 1)
+    masses = train.car_masses()
+    total = float(masses.sum())
+    shape = (len(stations), train.car_count)
+    tz, p, q, r, w = (np.empty(shape) for _ in range(5))
+    for j in range(train.car_count):
+        tan, left, up, omega = geometry.sample(stations - j * train.spacing_m,
+                                               "tangent", "left", "up", "omega")
+        tz[:, j] = tan[:, 2]
+        p[:, j] = omega[:, 2]  # yaw: lateral curvature
+        q[:, j] = G0 * left[:, 2]
+        r[:, j] = omega[:, 1]  # pitch: minus the vertical curvature
+        w[:, j] = G0 * up[:, 2]
+    gravity = -G0 * (tz @ masses) / total
+    code, remaining, target_e, accel, force, cap_e = _section_arrays(
+        stations, operation, geometry.length, train.length_m, ds)
+    e, last, reason, frac = _march_kernel(
+        ds, gravity, p, q, r, w, masses, train.rolling_coefficient / total,
+        0.5 * train.air_density_kg_m3 * train.drag_area_m2 / total, float(head_wind_m_s),
+        code, remaining, target_e, accel, force / total, cap_e,
+        0.5 * operation.start_speed_m_s**2)
+    s = stations[: last + 1]
+    e = e[: last + 1]
+    codes = code[: last + 1]
+    if reason != RAN_TO_END:
+        s = np.append(s, s[-1] + frac * ds)
+        e = np.append(e, 0.0)
+        codes = np.append(codes, codes[-1])
+    v = np.sqrt(2.0 * np.maximum(e, 0.0))
+    dt = 2.0 * np.diff(s) / np.maximum(v[1:] + v[:-1], 1e-12)
+    t = np.concatenate([[0.0], np.cumsum(dt)])
+    stall = TrainStalled(float(s[-1]), float(t[-1]), 0.0) if reason == STALLED else None
+    if len(s) < 3:  # came to rest within the first step: nothing to integrate
+        stall = TrainStalled(float(s[-1]), float(t[-1]), float(v[-1]))
+        s = np.array([s[0], s[0] + 0.5 * ds, s[0] + ds])
+        e = np.zeros(3)
+        v = np.zeros(3)
+        t = np.array([0.0, 1.0, 2.0])
+        codes = np.zeros(3, dtype=codes.dtype)
+    a_t = np.gradient(e, s)
+    ends = {RAN_TO_END: "reached the end of the track",
+            STOPPED_BY_BRAKE: f"stopped by a brake at station {s[-1]:.1f} m",
+            STALLED: f"stalled at station {s[-1]:.1f} m"}
+    return RideMotion(s, t, v, a_t, codes, train.spacing_m, train.car_count, ends[reason],
+                      stall)

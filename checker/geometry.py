@@ -1,0 +1,294 @@
+"""Track geometry: arc-length parameterization, curvature and the rider frame.
+
+Pure numerics: takes arrays, returns a :class:`TrackGeometry` of arrays on a uniform grid of
+stations ``s`` [m]. The centerline is a degree-5 B-spline through (or, with a smoothing
+tolerance, near) the samples, parameterized by chord length and re-sampled by arc length.
+
+Frame conventions (ISO 8855 vehicle axes, see DEVELOPERS.md): ``tangent`` x forward, ``left``
+y to the rider's left, ``up`` z from seat to head. The level reference ``up0`` is world up
+projected onto the plane normal to the tangent, its sign kept continuous, carried across
+(near-)vertical tangents by parallel transport. Roll turns ``up0`` about the tangent, positive
+right side down.
+
+The frame's angular velocity per unit length, in frame components, is
+``omega = (twist, pitch, yaw)`` [rad/m] such that every frame vector e obeys de/ds = omega x e.
+The curvature vector is then k = yaw * left - pitch * up.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+from numpy.polynomial.legendre import leggauss
+from scipy.interpolate import (
+    CubicHermiteSpline,
+    make_interp_spline,
+    make_smoothing_spline,
+    make_splprep,
+)
+
+WORLD_UP = np.array([0.0, 0.0, 1.0])
+# Tangents within this angle of vertical carry the level reference across by a smooth,
+# twist-minimal bridge; SMOOTHING_LENGTH_M sets how gently the reference may turn [m].
+BLEND_START_DEG = 10.0
+SMOOTHING_LENGTH_M = 1.5
+
+
+@dataclass(frozen=True)
+class SmoothingReport:
+    """What a smoothing tolerance changed: sample deviation [m], curvature removed [1/m]."""
+
+    tolerance_m: float
+    max_deviation_m: float
+    rms_curvature_removed: float
+    max_curvature_removed: float
+    station_of_max_removed_m: float
+
+
+@dataclass(frozen=True)
+class TrackGeometry:
+    """The centerline and rider frame on a uniform station grid (all SI)."""
+
+    s: np.ndarray  # station [m], uniform, shape (n,)
+    position: np.ndarray  # [m], (n, 3)
+    tangent: np.ndarray  # unit, (n, 3)
+    left: np.ndarray  # unit, (n, 3)
+    up: np.ndarray  # unit, (n, 3)
+    curvature_vector: np.ndarray  # [1/m], (n, 3), world axes
+    omega: np.ndarray  # (twist, pitch, yaw) [rad/m], (n, 3), frame components
+    domega: np.ndarray  # d omega / ds [rad/m^2], (n, 3)
+    roll_deg: np.ndarray  # bank against the level reference [deg], (n,)
+    torsion: np.ndarray  # Frenet torsion of the centerline [1/m], (n,); nan where straight
+    sample_stations: np.ndarray  # station of each input sample [m]
+    smoothing: SmoothingReport | None = None
+    extras: dict = field(default_factory=dict)
+
+    @property
+    def length(self) -> float:
+        return float(self.s[-1])
+
+    @property
+    def step(self) -> float:
+        return float(self.s[1] - self.s[0])
+
+    @property
+    def curvature(self) -> np.ndarray:
+        return np.linalg.norm(self.curvature_vector, axis=1)
+
+    def sample(self, stations: np.ndarray, *names: str) -> list[np.ndarray]:
+        """Linear interpolation of the named grid arrays at ``stations`` [m] (clipped)."""
+        x = np.clip(np.asarray(stations, dtype=float), 0.0, self.length) / self.step
+        i = np.minimum(x.astype(np.intp), len(self.s) - 2)
+        f = x - i
+        out = []
+        for name in names:
+            a = getattr(self, name)
+            if a.ndim == 1:
+                out.append(a[i] * (1 - f) + a[i + 1] * f)
+            else:
+                out.append(a[i] * (1 - f)[:, None] + a[i + 1] * f[:, None])
+        return out
+
+
+def _unit(v: np.ndarray) -> np.ndarray:
+    return v / np.linalg.norm(v, axis=-1, keepdims=True)
+
+
+def rotation_minimizing_up(points: np.ndarray, tangent: np.ndarray,
+                           first_up: np.ndarray) -> np.ndarray:
+    """A rotation-minimizing (zero-twist) normal field along a sampled curve.
+
+    Double reflection method: Wang, Juettler, Zheng and Liu, "Computation of rotation
+    minimizing frames", ACM Transactions on Graphics 27(1), 2008.
+    """
+    n = len(points)
+    out = np.empty((n, 3))
+    rx, ry, rz = (float(c) for c in first_up)
+    out[0] = first_up
+    pts = points.tolist()
+    tans = tangent.tolist()
+    for i in range(n - 1):
+        (x0, y0, z0), (x1, y1, z1) = pts[i], pts[i + 1]
+        (tx, ty, tz), (ux, uy, uz) = tans[i], tans[i + 1]
+        v1x, v1y, v1z = x1 - x0, y1 - y0, z1 - z0
+        c1 = v1x * v1x + v1y * v1y + v1z * v1z
+        k = 2.0 / c1 * (v1x * rx + v1y * ry + v1z * rz)
+        rlx, rly, rlz = rx - k * v1x, ry - k * v1y, rz - k * v1z
+        k = 2.0 / c1 * (v1x * tx + v1y * ty + v1z * tz)
+        tlx, tly, tlz = tx - k * v1x, ty - k * v1y, tz - k * v1z
+        v2x, v2y, v2z = ux - tlx, uy - tly, uz - tlz
+        c2 = v2x * v2x + v2y * v2y + v2z * v2z
+        if c2 > 1e-30:
+            k = 2.0 / c2 * (v2x * rlx + v2y * rly + v2z * rlz)
+            rx, ry, rz = rlx - k * v2x, rly - k * v2y, rlz - k * v2z
+        else:
+            rx, ry, rz = rlx, rly, rlz
+        # re-orthogonalize against rounding drift
+        d = rx * ux + ry * uy + rz * uz
+        rx, ry, rz = rx - d * ux, ry - d * uy, rz - d * uz
+        norm = (rx * rx + ry * ry + rz * rz) ** 0.5
+        rx, ry, rz = rx / norm, ry / norm, rz / norm
+        out[i + 1] = (rx, ry, rz)
+    return out
+
+
+def level_reference(points: np.ndarray, tangent: np.ndarray, s: np.ndarray) -> np.ndarray:
+    """Level up vector ``up0`` for each grid station, continuous through vertical tangents.
+
+    The level direction (world up projected normal to the tangent) is measured as an angle
+    against a rotation-minimizing frame. Where the tangent is within BLEND_START_DEG of
+    vertical that angle is ill-conditioned and is left out; the angle is then fitted with a
+    cubic smoothing spline (scipy.interpolate.make_smoothing_spline) that follows the level
+    direction elsewhere and bridges the vertical stretches with a smooth, twist-minimal
+    transition. The sign ambiguity of the level direction (up or down the plane) is resolved
+    by continuity: the angle is unwrapped with period pi.
+    """
+    level = WORLD_UP - tangent[:, 2:3] * tangent
+    horizontal = np.linalg.norm(level, axis=1)
+    good = horizontal > np.sin(np.radians(BLEND_START_DEG))
+    if good[0]:
+        first = level[0] / horizontal[0]
+    else:
+        seed = np.array([1.0, 0.0, 0.0]) if abs(tangent[0, 0]) < 0.9 else np.array([0, 1.0, 0])
+        first = _unit(seed - seed @ tangent[0] * tangent[0])
+    rmf_up = rotation_minimizing_up(points, tangent, first)
+    if not good.any():
+        return rmf_up
+    rmf_left = np.cross(rmf_up, tangent)
+    angle = np.arctan2(np.einsum("ij,ij->i", level, rmf_left),
+                       np.einsum("ij,ij->i", level, rmf_up))
+    kept = np.unwrap(angle[good], period=np.pi)
+    if good.all() and np.ptp(kept) < 1e-12:
+        smooth = np.full(len(s), kept[0])
+    else:
+        weights = np.where(good, 1.0, 1e-9)
+        values = np.interp(s, s[good], kept)
+        step = s[1] - s[0]
+        lam = SMOOTHING_LENGTH_M**4 / step
+        smooth = make_smoothing_spline(s, values, w=weights, lam=lam)(s)
+    c, sn = np.cos(smooth)[:, None], np.sin(smooth)[:, None]
+    return c * rmf_up + sn * rmf_left
+
+
+def _fit_centerline(points: np.ndarray, smoothing_m: float):
+    chords = np.linalg.norm(np.diff(points, axis=0), axis=1)
+    u = np.concatenate([[0.0], np.cumsum(chords)])
+    interp = make_interp_spline(u, points, k=5 if len(points) >= 6 else 3, axis=0)
+    if smoothing_m <= 0:
+        return interp, interp, u
+    spline, _ = make_splprep(list(points.T), u=u, k=5 if len(points) >= 6 else 3,
+                             s=len(points) * smoothing_m**2)
+    return spline, interp, u
+
+
+def _curvature_of(spline, u: np.ndarray) -> np.ndarray:
+    d1, d2 = spline(u, 1), spline(u, 2)
+    if d1.ndim == 2 and d1.shape[0] == 3 and d1.shape[1] != 3:
+        d1, d2 = d1.T, d2.T
+    return np.linalg.norm(np.cross(d1, d2), axis=1) / np.linalg.norm(d1, axis=1) ** 3
+
+
+def _eval(spline, u: np.ndarray, nu: int = 0) -> np.ndarray:
+    out = np.asarray(spline(u, nu))
+    # make_splprep's splines give (ndim, n); make_interp_spline's give (n, ndim)
+    return out.T if out.shape[0] == 3 and out.shape[-1] != 3 else out
+
+
+def build_geometry(
+    points: np.ndarray,
+    roll_deg: np.ndarray | None = None,
+    up: np.ndarray | None = None,
+    *,
+    smoothing_m: float = 0.0,
+    step_m: float = 0.1,
+) -> TrackGeometry:
+    """Arc-length geometry and rider frame from centerline samples.
+
+    Parameters
+    ----------
+    points : (n, 3) samples [m] in travel order.
+    roll_deg : (n,) bank at each sample [deg], ISO 8855 sign; or None.
+    up : (n, 3) explicit up vectors at each sample; overrides roll; or None.
+    smoothing_m : RMS distance [m] the curve may keep from the samples (0 = interpolate).
+    step_m : station grid step [m].
+    """
+    points = np.asarray(points, dtype=float)
+    spline, interp, u = _fit_centerline(points, smoothing_m)
+    # Arc length s(u): 3-point Gauss-Legendre on sub-intervals no longer than step_m / 2.
+    chords = np.diff(u)
+    pieces = np.maximum(1, np.ceil(chords / (0.5 * step_m)).astype(int))
+    u_fine = np.concatenate(
+        [np.linspace(u[i], u[i + 1], pieces[i], endpoint=False) for i in range(len(chords))]
+        + [u[-1:]]
+    )
+    nodes, weights = leggauss(3)
+    h = np.diff(u_fine)
+    mids = 0.5 * (u_fine[1:] + u_fine[:-1])
+    quad = np.zeros_like(h)
+    for x, w in zip(nodes, weights):
+        speed = np.linalg.norm(_eval(spline, mids + 0.5 * h * x, 1), axis=1)
+        quad += 0.5 * h * w * speed
+    s_fine = np.concatenate([[0.0], np.cumsum(quad)])
+    speed_fine = np.linalg.norm(_eval(spline, u_fine, 1), axis=1)
+    u_of_s = CubicHermiteSpline(s_fine, u_fine, 1.0 / speed_fine)
+    length = float(s_fine[-1])
+    n = max(int(np.ceil(length / step_m)) + 1, 4)
+    s = np.linspace(0.0, length, n)
+    ug = np.clip(u_of_s(s), u[0], u[-1])
+    d1, d2, d3 = (_eval(spline, ug, k) for k in (1, 2, 3))
+    position = _eval(spline, ug, 0)
+    speed = np.linalg.norm(d1, axis=1)
+    tangent = d1 / speed[:, None]
+    curv = (d2 - np.einsum("ij,ij->i", d2, tangent)[:, None] * tangent) / speed[:, None] ** 2
+    cross = np.cross(d1, d2)
+    cross_sq = np.einsum("ij,ij->i", cross, cross)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        torsion = np.where(cross_sq > 1e-18 * speed**6,
+                           np.einsum("ij,ij->i", cross, d3) / cross_sq, np.nan)
+
+    up0 = level_reference(position, tangent, s)
+    left0 = np.cross(up0, tangent)
+    sample_s = np.interp(u, u_fine, s_fine)
+    # Roll at the samples, then a cubic spline in s (continuous roll acceleration).
+    if up is not None:
+        u0s = _unit(np.column_stack([np.interp(sample_s, s, up0[:, i]) for i in range(3)]))
+        l0s = _unit(np.column_stack([np.interp(sample_s, s, left0[:, i]) for i in range(3)]))
+        roll_samples = np.degrees(np.arctan2(-np.einsum("ij,ij->i", up, l0s),
+                                             np.einsum("ij,ij->i", up, u0s)))
+    elif roll_deg is not None:
+        roll_samples = np.asarray(roll_deg, dtype=float)
+    else:
+        roll_samples = np.zeros(len(points))
+    roll_samples = np.degrees(np.unwrap(np.radians(roll_samples)))
+    if np.ptp(roll_samples) == 0.0:
+        roll = np.full(n, roll_samples[0])
+        droll = np.zeros(n)
+    else:
+        roll_spline = make_interp_spline(sample_s, np.radians(roll_samples), k=3)
+        roll = np.degrees(roll_spline(s))
+        droll = roll_spline(s, 1)
+    phi = np.radians(roll)
+    c, sn = np.cos(phi)[:, None], np.sin(phi)[:, None]
+    up_v = c * up0 - sn * left0
+    left_v = c * left0 + sn * up0
+    twist0 = np.einsum("ij,ij->i", np.gradient(left0, s, axis=0), up0)
+    omega = np.column_stack([
+        twist0 + droll,
+        -np.einsum("ij,ij->i", curv, up_v),
+        np.einsum("ij,ij->i", curv, left_v),
+    ])
+    domega = np.gradient(omega, s, axis=0)
+
+    report = None
+    if smoothing_m > 0:
+        deviation = np.linalg.norm(_eval(spline, u) - points, axis=1)
+        removed = np.abs(_curvature_of(interp, u) - np.linalg.norm(
+            np.cross(_eval(spline, u, 1), _eval(spline, u, 2)), axis=1)
+            / np.linalg.norm(_eval(spline, u, 1), axis=1) ** 3)
+        worst = int(np.argmax(removed))
+        report = SmoothingReport(smoothing_m, float(deviation.max()),
+                                 float(np.sqrt(np.mean(removed**2))), float(removed[worst]),
+                                 float(sample_s[worst]))
+    return TrackGeometry(s, position, tangent, left_v, up_v, curv, omega, domega, roll,
+                         torsion, sample_s, report)

@@ -1,0 +1,119 @@
+"""How the ride is operated: start speed and powered sections along the track.
+
+A TOML file::
+
+    start_speed_m_s = 0.0
+    [[sections]]
+    kind = "lift"            # held at speed_m_s; engages at engage_accel_m_s2
+    start_m = 12.0
+    end_m = 70.0
+    speed_m_s = 3.0
+    [[sections]]
+    kind = "launch"          # either force_n (with optional max_speed_m_s) or exit_speed_m_s
+    start_m = 5.0
+    end_m = 40.0
+    exit_speed_m_s = 25.0
+    [[sections]]
+    kind = "brake"           # trims to speed_m_s (0 = stop) at no more than max_decel_m_s2
+    start_m = -45.0          # negative stations count back from the track's end
+    end_m = -5.0
+    speed_m_s = 0.0
+    max_decel_m_s2 = 3.0
+
+A section acts on the train while any car's reference point is within [start_m, end_m].
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from pathlib import Path
+
+from .errors import InputError
+from .tabular import Fields, load_toml
+
+SECTION_KINDS = ("lift", "launch", "brake")
+
+
+@dataclass(frozen=True)
+class Section:
+    """One powered section; stations [m] as written (negative = from the track's end)."""
+
+    kind: str
+    start_m: float
+    end_m: float
+    speed_m_s: float = 0.0  # lift: chain speed; brake: target speed (0 = stop)
+    engage_accel_m_s2: float = 1.0  # lift: how fast the chain brings a slow train to speed
+    force_n: float = 0.0  # launch: tractive force
+    max_speed_m_s: float = 0.0  # launch with force: no push above this speed (0 = no cap)
+    exit_speed_m_s: float = 0.0  # launch: controlled to reach this speed (0 = use force)
+    max_decel_m_s2: float = 3.0  # brake
+
+    def resolved(self, track_length_m: float) -> tuple[float, float]:
+        """Start and end station [m] on a track of the given length."""
+        def at(x: float) -> float:
+            return x + track_length_m if x < 0 else x
+        return at(self.start_m), at(self.end_m)
+
+
+@dataclass(frozen=True)
+class Operation:
+    start_speed_m_s: float = 0.0
+    sections: tuple[Section, ...] = ()
+    source: str = "<none>"
+
+    def check_against(self, track_length_m: float, train_length_m: float) -> None:
+        """Stations must lie on the track and sections must not overlap."""
+        spans = []
+        for i, sec in enumerate(self.sections):
+            a, b = sec.resolved(track_length_m)
+            key = f"sections[{i + 1}]"
+            if not (0 <= a < b <= track_length_m + 1e-9):
+                raise InputError(self.source, f"runs from {a:.1f} m to {b:.1f} m, outside the "
+                                 f"track (0 to {track_length_m:.1f} m) or backwards",
+                                 "give start_m < end_m within the track length", key=key)
+            spans.append((a, b, key))
+        spans.sort()
+        for (a1, b1, k1), (a2, _b2, k2) in zip(spans, spans[1:]):
+            if a2 < b1:
+                raise InputError(self.source, f"overlaps {k1} (from {a2:.1f} m to {b1:.1f} m)",
+                                 "sections must not overlap; shorten one of them", key=k2)
+        if train_length_m >= track_length_m:
+            raise InputError(self.source, f"the train ({train_length_m:.1f} m) is longer than "
+                             f"the track ({track_length_m:.1f} m)",
+                             "check the units of the track and the car spacing")
+
+
+def load_operation(path: str | Path) -> Operation:
+    path = Path(path)
+    doc = Fields(path, load_toml(path))
+    start = doc.number("start_speed_m_s", 0.0, minimum=0.0, maximum=100.0)
+    sections = []
+    for table in doc.table_list("sections"):
+        kind = table.text("kind", choices=SECTION_KINDS)
+        begin = table.number("start_m", minimum=-1e6, maximum=1e6)
+        end = table.number("end_m", minimum=-1e6, maximum=1e6)
+        if kind == "lift":
+            sec = Section(kind, begin, end,
+                          speed_m_s=table.number("speed_m_s", positive=True, maximum=30),
+                          engage_accel_m_s2=table.number("engage_accel_m_s2", 1.0,
+                                                         positive=True, maximum=20))
+        elif kind == "launch":
+            has_force, has_exit = table.has("force_n"), table.has("exit_speed_m_s")
+            if has_force == has_exit:
+                raise table.error("force_n", "a launch needs exactly one of force_n or "
+                                  "exit_speed_m_s", "give the tractive force or the exit speed")
+            sec = Section(kind, begin, end,
+                          force_n=table.number("force_n", 0.0, positive=has_force, maximum=1e7),
+                          max_speed_m_s=table.number("max_speed_m_s", 0.0, minimum=0,
+                                                     maximum=100),
+                          exit_speed_m_s=table.number("exit_speed_m_s", 0.0,
+                                                      positive=has_exit, maximum=100))
+        else:
+            sec = Section(kind, begin, end,
+                          speed_m_s=table.number("speed_m_s", minimum=0.0, maximum=100),
+                          max_decel_m_s2=table.number("max_decel_m_s2", 3.0, positive=True,
+                                                      maximum=50))
+        table.done()
+        sections.append(sec)
+    doc.done()
+    return Operation(start, tuple(sections), str(path))

@@ -1,0 +1,111 @@
+"""Track centerline input: loading and validating a sampled centerline from a CSV file.
+
+The file has the columns ``x, y, z`` [m] (z up), one row per sample in travel order, and
+optionally either ``roll_deg`` (bank angle, ISO 8855 sign: positive = right side down) or an
+explicit up vector ``up_x, up_y, up_z``. Lines starting with ``#`` are comments.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+
+from .errors import InputError
+from .tabular import read_numeric_csv
+
+FOOT_M = 0.3048  # international foot [m], exact by definition (1959 agreement)
+KINK_LIMIT_DEG = 45.0  # turn between successive chords that no track makes between samples
+MIN_CHORD_M = 1e-6
+
+
+@dataclass(frozen=True)
+class Centerline:
+    """Validated centerline samples in SI units.
+
+    ``points`` [m] has shape (n, 3). ``roll_deg`` [deg] or ``up`` (unit vectors, shape (n, 3))
+    is set when the file gives an orientation; never both.
+    """
+
+    points: np.ndarray
+    roll_deg: np.ndarray | None = None
+    up: np.ndarray | None = None
+    source: str = "<memory>"
+    lines: np.ndarray | None = None  # file line of each sample, for messages
+
+    @property
+    def count(self) -> int:
+        return len(self.points)
+
+
+def chord_turn_deg(points: np.ndarray) -> np.ndarray:
+    """Angle [deg] between successive chords at each interior sample (length n - 2)."""
+    chords = np.diff(points, axis=0)
+    a, b = chords[:-1], chords[1:]
+    cos = np.einsum("ij,ij->i", a, b) / (np.linalg.norm(a, axis=1) * np.linalg.norm(b, axis=1))
+    return np.degrees(np.arccos(np.clip(cos, -1.0, 1.0)))
+
+
+def validate_centerline(line: Centerline) -> Centerline:
+    """Check the geometric sanity of a centerline; raise InputError naming the sample."""
+    path, pts = line.source, line.points
+    rows = line.lines if line.lines is not None else np.arange(2, len(pts) + 2)
+    if len(pts) < 4:
+        raise InputError(path, f"has {len(pts)} samples; a centerline needs at least 4",
+                         "export the centerline with more points")
+    chords = np.linalg.norm(np.diff(pts, axis=0), axis=1)
+    repeated = np.flatnonzero(chords < MIN_CHORD_M)
+    if repeated.size:
+        i = repeated[0] + 1
+        raise InputError(path, "repeats the previous point", "delete the duplicated row",
+                         row=int(rows[i]), column="x")
+    turns = chord_turn_deg(pts)
+    kinks = np.flatnonzero(turns > KINK_LIMIT_DEG)
+    if kinks.size:
+        i = kinks[0] + 1
+        station = float(np.sum(chords[:i]))
+        raise InputError(path, f"kink of {turns[i - 1]:.0f} deg at station {station:.2f} m: a "
+                         f"track cannot turn more than {KINK_LIMIT_DEG:.0f} deg between samples",
+                         "check the row order or sample the curve more finely",
+                         row=int(rows[i]), column="x")
+    if line.up is not None:
+        norms = np.linalg.norm(line.up, axis=1)
+        zero = np.flatnonzero(norms < 1e-9)
+        if zero.size:
+            raise InputError(path, "up vector is zero", "give a non-zero up vector",
+                             row=int(rows[zero[0]]), column="up_x")
+        tangent = np.gradient(pts, axis=0)
+        tangent /= np.linalg.norm(tangent, axis=1)[:, None]
+        unit_up = line.up / norms[:, None]
+        along = np.abs(np.einsum("ij,ij->i", unit_up, tangent))
+        parallel = np.flatnonzero(along > np.cos(np.radians(5.0)))
+        if parallel.size:
+            raise InputError(path, "up vector is (nearly) parallel to the track tangent",
+                             "the up vector must point away from the rails, across the track",
+                             row=int(rows[parallel[0]]), column="up_x")
+    return line
+
+
+def load_centerline(path: str | Path, units: str = "m") -> Centerline:
+    """Load and validate a centerline CSV. ``units`` is ``"m"`` or ``"ft"`` for lengths."""
+    path = Path(path)
+    if units not in ("m", "ft"):
+        raise InputError(path, f"unknown length unit '{units}'", "use --units m or --units ft")
+    table = read_numeric_csv(path, ["x", "y", "z"], ["roll_deg", "up_x", "up_y", "up_z"],
+                             what="centerline")
+    scale = FOOT_M if units == "ft" else 1.0
+    points = np.column_stack([table.columns[c] for c in "xyz"]) * scale
+    up_names = [c for c in ("up_x", "up_y", "up_z") if table.has(c)]
+    if table.has("roll_deg") and up_names:
+        raise InputError(path, "gives both roll_deg and up vector columns",
+                         "keep one way of stating the bank: roll_deg or up_x/up_y/up_z",
+                         row=None, column="roll_deg")
+    if up_names and len(up_names) != 3:
+        missing = sorted({"up_x", "up_y", "up_z"} - set(up_names))[0]
+        raise InputError(path, "up vector needs all three columns up_x, up_y, up_z",
+                         f"add column '{missing}'", column=missing)
+    roll = table.columns["roll_deg"].copy() if table.has("roll_deg") else None
+    up = np.column_stack([table.columns[c] for c in up_names]) if up_names else None
+    line = Centerline(points, roll, up, str(path), table.lines)
+    return validate_centerline(line)
