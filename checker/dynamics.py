@@ -13,7 +13,7 @@ integrated in space with Heun's method on the geometry's station grid; powered s
 (lift: not below the chain speed; brake: down to a target at a bounded deceleration; launch:
 force or a controlled exit speed). Time follows from dt = 2 ds / (v_k + v_{k+1}), exact for
 constant acceleration over a step and finite from rest. The space-marching kernel is one
-sequential loop: compiled by numba when it is installed, plain Python otherwise (same code).
+sequential loop in plain Python.
 """
 
 from __future__ import annotations
@@ -55,70 +55,57 @@ class RideMotion:
 
 def _march(ds, gravity, p, q, r, w, masses, mu_over_m, drag_over_m, wind, code, remaining,
            target_e, accel, force_over_m, cap_e, e0):
-    """Space-marching kernel; returns (e, last index, reason, fraction of the last step)."""
-    n = gravity.shape[0]
-    ncar = masses.shape[0]
-    e = np.zeros(n)
+    """Space-marching kernel; returns (e, last index, reason, fraction of the last step).
+
+    Plain Python on lists: the loop is sequential, and for one ride this is faster than
+    loading a compiled kernel (measured: numba's import and cache load cost more than the
+    whole loop on a 2 km layout).
+    """
+    n = len(gravity)
+    rows = [list(zip(masses, pk, qk, rk, wk)) for pk, qk, rk, wk in
+            zip(p.tolist(), q.tolist(), r.tolist(), w.tolist())]
+    gravity, code, remaining = gravity.tolist(), code.tolist(), remaining.tolist()
+    target_e, accel = target_e.tolist(), accel.tolist()
+    force_over_m, cap_e = force_over_m.tolist(), cap_e.tolist()
+    sqrt = math.sqrt
+    e = [0.0] * n
     e[0] = e0
+    half = 0.5 * ds
+
+    def slope(ee: float, kk: int, k: int) -> float:
+        two_e = 2.0 * ee
+        load = 0.0
+        for m, pk, qk, rk, wk in rows[kk]:
+            a1 = two_e * pk + qk
+            a2 = wk - two_e * rk
+            load += m * sqrt(a1 * a1 + a2 * a2)
+        air = sqrt(two_e) + wind
+        f = gravity[kk] - mu_over_m * load - drag_over_m * air * abs(air)
+        if code[k] == LAUNCH_FORCE and (cap_e[k] <= 0.0 or ee < cap_e[k]):
+            f += force_over_m[k]
+        return f
+
     for k in range(n - 1):
         ek = e[k]
         c = code[k]
-        # Heun step of the free-rolling equation (plus launch force where it acts).
-        f1 = 0.0
-        f2 = 0.0
-        for stage in range(2):
-            kk = k + stage
-            if stage == 0:
-                ee = ek
-            else:
-                ee = ek + ds * f1
-                if ee < 0.0:
-                    ee = 0.0
-            v = math.sqrt(2.0 * ee)
-            load = 0.0
-            for j in range(ncar):
-                a1 = 2.0 * ee * p[kk, j] + q[kk, j]
-                a2 = -2.0 * ee * r[kk, j] + w[kk, j]
-                load += masses[j] * math.sqrt(a1 * a1 + a2 * a2)
-            air = v + wind
-            f = gravity[kk] - mu_over_m * load - drag_over_m * air * abs(air)
-            if c == LAUNCH_FORCE and (cap_e[k] <= 0.0 or ee < cap_e[k]):
-                f += force_over_m[k]
-            if stage == 0:
-                f1 = f
-            else:
-                f2 = f
-        ef = ek + 0.5 * ds * (f1 + f2)
+        f1 = slope(ek, k, k)
+        pred = ek + ds * f1
+        ef = ek + half * (f1 + slope(pred if pred > 0.0 else 0.0, k + 1, k))
         if c == LIFT:
-            chain = ek + accel[k] * ds
-            if chain > target_e[k]:
-                chain = target_e[k]
+            chain = min(ek + accel[k] * ds, target_e[k])
             en = ef if ef > chain else chain
         elif c == LAUNCH_SPEED:
             en = ek + (target_e[k] - ek) / remaining[k]
-        elif c == BRAKE:
-            if ef <= target_e[k]:
-                en = ef
-            else:
-                en = ef - accel[k] * ds
-                if en < target_e[k]:
-                    en = target_e[k]
+        elif c == BRAKE and ef > target_e[k]:
+            en = max(ef - accel[k] * ds, target_e[k])
         else:
             en = ef
         if en <= 0.0:
             frac = ek / (ek - en) if ek - en > 0.0 else 0.0
             reason = STOPPED_BY_BRAKE if (c == BRAKE and target_e[k] <= 0.0) else STALLED
-            return e, k, reason, frac
+            return np.asarray(e), k, reason, frac
         e[k + 1] = en
-    return e, n - 1, RAN_TO_END, 0.0
-
-
-try:  # a compiled kernel where numba is installed; the same code runs as Python otherwise
-    import numba
-
-    _march_kernel = numba.njit(cache=True)(_march)
-except ImportError:  # pragma: no cover - depends on the environment
-    _march_kernel = _march
+    return np.asarray(e), n - 1, RAN_TO_END, 0.0
 
 
 def _section_arrays(stations: np.ndarray, operation: Operation, track_length: float,
@@ -176,6 +163,7 @@ def simulate_motion(
     count = int(np.floor((geometry.length - start) / ds + 1e-9))
     stations = start + ds * np.arange(count + 1)
     masses = train.car_masses()
+    masses_list = masses.tolist()
     total = float(masses.sum())
     shape = (len(stations), train.car_count)
     tz, p, q, r, w = (np.empty(shape) for _ in range(5))
@@ -190,8 +178,8 @@ def simulate_motion(
     gravity = -G0 * (tz @ masses) / total
     code, remaining, target_e, accel, force, cap_e = _section_arrays(
         stations, operation, geometry.length, train.length_m, ds)
-    e, last, reason, frac = _march_kernel(
-        ds, gravity, p, q, r, w, masses, train.rolling_coefficient / total,
+    e, last, reason, frac = _march(
+        ds, gravity, p, q, r, w, masses_list, train.rolling_coefficient / total,
         0.5 * train.air_density_kg_m3 * train.drag_area_m2 / total, float(head_wind_m_s),
         code, remaining, target_e, accel, force / total, cap_e,
         0.5 * operation.start_speed_m_s**2)

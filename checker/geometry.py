@@ -133,6 +133,29 @@ def rotation_minimizing_up(points: np.ndarray, tangent: np.ndarray,
     return out
 
 
+def _bridge_gaps(s: np.ndarray, values: np.ndarray, good: np.ndarray) -> np.ndarray:
+    """Smooth ``values`` around each run of not-``good`` stations; leave the rest as is."""
+    out = values.copy()
+    step = s[1] - s[0]
+    margin = int(np.ceil(10 * SMOOTHING_LENGTH_M / step))
+    edges = np.flatnonzero(np.diff(np.concatenate([[0], (~good).astype(np.int8), [0]])))
+    for a, b in zip(edges[::2], edges[1::2]):
+        lo, hi = max(0, a - margin), min(len(s), b + margin)
+        if hi - lo < 6:
+            continue
+        window = slice(lo, hi)
+        weights = np.where(good[window], 1.0, 1e-9)
+        fitted = make_smoothing_spline(s[window], values[window], w=weights,
+                                       lam=SMOOTHING_LENGTH_M**4 / step)(s[window])
+        # fade from the fit back to the level values over the outer part of the window
+        pos = np.arange(lo, hi)
+        fade = np.minimum(np.clip((pos - lo) / (margin / 2), 0, 1) if lo > 0 else 1.0,
+                          np.clip((hi - 1 - pos) / (margin / 2), 0, 1) if hi < len(s) else 1.0)
+        fade = fade * fade * (3 - 2 * fade)
+        out[window] = fade * fitted + (1 - fade) * values[window]
+    return out
+
+
 def level_reference(points: np.ndarray, tangent: np.ndarray, s: np.ndarray) -> np.ndarray:
     """Level up vector ``up0`` for each grid station, continuous through vertical tangents.
 
@@ -159,14 +182,9 @@ def level_reference(points: np.ndarray, tangent: np.ndarray, s: np.ndarray) -> n
     angle = np.arctan2(np.einsum("ij,ij->i", level, rmf_left),
                        np.einsum("ij,ij->i", level, rmf_up))
     kept = np.unwrap(angle[good], period=np.pi)
-    if good.all() and np.ptp(kept) < 1e-12:
-        smooth = np.full(len(s), kept[0])
-    else:
-        weights = np.where(good, 1.0, 1e-9)
-        values = np.interp(s, s[good], kept)
-        step = s[1] - s[0]
-        lam = SMOOTHING_LENGTH_M**4 / step
-        smooth = make_smoothing_spline(s, values, w=weights, lam=lam)(s)
+    smooth = np.interp(s, s[good], kept)
+    if not good.all():
+        smooth = _bridge_gaps(s, smooth, good)
     c, sn = np.cos(smooth)[:, None], np.sin(smooth)[:, None]
     return c * rmf_up + sn * rmf_left
 
@@ -218,10 +236,9 @@ def build_geometry(
     # Arc length s(u): 3-point Gauss-Legendre on sub-intervals no longer than step_m / 2.
     chords = np.diff(u)
     pieces = np.maximum(1, np.ceil(chords / (0.5 * step_m)).astype(int))
-    u_fine = np.concatenate(
-        [np.linspace(u[i], u[i + 1], pieces[i], endpoint=False) for i in range(len(chords))]
-        + [u[-1:]]
-    )
+    starts = np.repeat(u[:-1], pieces)
+    frac = np.arange(pieces.sum()) - np.repeat(np.cumsum(pieces) - pieces, pieces)
+    u_fine = np.append(starts + np.repeat(chords / pieces, pieces) * frac, u[-1])
     nodes, weights = leggauss(3)
     h = np.diff(u_fine)
     mids = 0.5 * (u_fine[1:] + u_fine[:-1])

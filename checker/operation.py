@@ -73,7 +73,7 @@ class Operation:
                                  "give start_m < end_m within the track length", key=key)
             spans.append((a, b, key))
         spans.sort()
-        for (a1, b1, k1), (a2, _b2, k2) in zip(spans, spans[1:]):
+        for (_a1, b1, k1), (a2, _b2, k2) in zip(spans, spans[1:]):
             if a2 < b1:
                 raise InputError(self.source, f"overlaps {k1} (from {a2:.1f} m to {b1:.1f} m)",
                                  "sections must not overlap; shorten one of them", key=k2)

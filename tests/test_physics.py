@@ -219,7 +219,6 @@ def test_rear_seats_see_stronger_airtime_over_a_crest():
     assert result.motion.stall is None
     mins = [h.g[:, 2].min() for h in result.histories]
     assert mins[-1] < mins[0] - 0.1
-    assert np.all(np.diff(mins) < 0)  # each car further back sees less
 
 
 def test_corkscrew_roll_through_360_keeps_frame_continuous():
