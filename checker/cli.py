@@ -66,7 +66,93 @@ def build_parser() -> argparse.ArgumentParser:
     _add_ride_options(sim)
     sim.add_argument("-o", "--output", required=True, metavar="HISTORY.csv",
                      help="where to write the history")
+    chk = sub.add_parser("check", help="simulate and check every seat against a limit set")
+    _add_ride_options(chk)
+    _add_check_options(chk)
+    hist = sub.add_parser("check-history",
+                          help="check a recorded or exported history against a limit set")
+    hist.add_argument("history", help="CSV with t, gx, gy, gz (optional seat)")
+    hist.add_argument("--units", choices=("g", "m/s2"), default="g",
+                      help="unit of gx, gy, gz in the file (default g)")
+    _add_check_options(hist)
     return parser
+
+
+def _add_check_options(p: argparse.ArgumentParser) -> None:
+    p.add_argument("--limits", help="limits TOML (default: the bundled ILLUSTRATIVE set)")
+    p.add_argument("--json", metavar="FINDINGS.json", help="write the findings as JSON")
+    p.add_argument("--case", default="nominal", help="name of the load case (default nominal)")
+
+
+def _limits(args: argparse.Namespace):
+    from .envelope import load_limits
+    from .findings import BUNDLED_LIMITS
+
+    if args.limits is None:
+        print(f"limits: none given, using the bundled ILLUSTRATIVE set {BUNDLED_LIMITS.name} "
+              "(invented example values, not from any standard)")
+        return load_limits(BUNDLED_LIMITS)
+    return load_limits(args.limits)
+
+
+def _report_evaluation(args, evaluation, inputs, extra=None) -> int:
+    from .findings import CAUTION, evaluation_document, summary_table, to_json
+    from .outputs import atomic_write_text
+
+    for warning in evaluation.warnings:
+        print(f"warning: {warning}", file=sys.stderr)
+    print(summary_table(evaluation))
+    if evaluation.limits.illustrative:
+        print("note: the limit set is ILLUSTRATIVE; the verdict says nothing about compliance")
+    print("caution: " + CAUTION)
+    if args.json:
+        command = "checker " + " ".join(sys.argv[1:]) if sys.argv[1:] else "checker"
+        doc = evaluation_document(evaluation, inputs, command, extra)
+        atomic_write_text(args.json, to_json(doc))
+        print(f"wrote {args.json}")
+    return EXIT_FINDINGS if evaluation.verdict == "fail" else EXIT_OK
+
+
+def _inputs(*paths) -> list[tuple[str, str]]:
+    from .envelope import sha256_of
+
+    return [(str(p), sha256_of(p)) for p in paths if p is not None]
+
+
+def _cmd_check(args: argparse.Namespace) -> int:
+    from .outputs import check_writable
+    from .ride import RideOptions, load_inputs, run_ride
+    from .rules import evaluate
+
+    if args.json:
+        check_writable(args.json)
+    limits = _limits(args)
+    line, train, ops = load_inputs(args.track, args.train, ideal=args.ideal,
+                                   operation=args.operation, start_speed_m_s=args.start_speed,
+                                   units=args.units)
+    result = run_ride(line, train, ops, RideOptions(rate_hz=args.rate,
+                                                    smoothing_m=args.smoothing))
+    evaluation = evaluate(result.histories, limits, args.case)
+    if result.motion.stall is not None:
+        print(f"checker: {result.motion.stall}", file=sys.stderr)
+        evaluation.warnings.append(str(result.motion.stall))
+    inputs = _inputs(args.track, args.train, args.operation) + list(limits.files)
+    code = _report_evaluation(args, evaluation, inputs,
+                              {"stall": str(result.motion.stall) if result.motion.stall else None})
+    return EXIT_FINDINGS if result.motion.stall is not None else code
+
+
+def _cmd_check_history(args: argparse.Namespace) -> int:
+    from .history import load_history
+    from .outputs import check_writable
+    from .rules import evaluate
+
+    if args.json:
+        check_writable(args.json)
+    limits = _limits(args)
+    signals = load_history(args.history, args.units)
+    evaluation = evaluate(signals, limits, args.case)
+    return _report_evaluation(args, evaluation, _inputs(args.history) + list(limits.files))
 
 
 def _cmd_simulate(args: argparse.Namespace) -> int:
@@ -94,7 +180,8 @@ def _cmd_simulate(args: argparse.Namespace) -> int:
     return EXIT_OK
 
 
-COMMANDS = {"simulate": _cmd_simulate}
+COMMANDS = {"simulate": _cmd_simulate, "check": _cmd_check,
+            "check-history": _cmd_check_history}
 
 
 def _on_terminate(signum, frame):  # SIGTERM behaves like Ctrl-C: unwind, no partial output

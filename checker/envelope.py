@@ -1,0 +1,308 @@
+"""Limit sets: loading, validating and interpolating user-editable acceleration limits.
+
+A limit set is one TOML file (format in the README) with optional CSV tables beside it. It
+holds metadata, the signal filter, duration-dependent single-axis limits per axis and
+direction, combined-axis envelopes (polygons or ellipses) and onset-rate limits.
+"""
+
+from __future__ import annotations
+
+import hashlib
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+
+from .conditioning import FilterSpec
+from .errors import InputError
+from .tabular import Fields, load_toml, read_numeric_csv
+
+AXES = ("gx", "gy", "gz")
+PLANES = {("gx", "gz"): "x-z", ("gy", "gz"): "y-z", ("gx", "gy"): "x-y"}
+REST = {"gx": 0.0, "gy": 0.0, "gz": 1.0}  # a rider at rest in a level seat [g0]
+INTERPOLATIONS = ("linear", "log", "step")
+DIRECTION_WORDS = {"positive": 1, "negative": -1, "left": 1, "right": -1}
+
+
+@dataclass(frozen=True)
+class DurationLimit:
+    """Allowed level [g0] against sustained duration [s] for one axis and direction.
+
+    The allowed level at a duration below the first point is the first level; beyond the last
+    point the last level holds. ``linear`` interpolates in duration, ``log`` in log(duration),
+    ``step`` keeps each level until the next point's duration.
+    """
+
+    axis: str
+    sign: int  # +1: the signal above the level; -1: below (levels are negative)
+    durations_s: np.ndarray
+    levels_g: np.ndarray
+    interpolation: str = "linear"
+
+    @property
+    def name(self) -> str:
+        if self.axis == "gy":
+            return "Gy left" if self.sign > 0 else "Gy right"
+        return ("+" if self.sign > 0 else "-") + self.axis.capitalize()
+
+    def allowed(self, duration_s: np.ndarray) -> np.ndarray:
+        """Allowed level [g0] (signed) at each duration [s]."""
+        d = np.asarray(duration_s, dtype=float)
+        x, y = self.durations_s, self.levels_g
+        if len(x) == 1:
+            return np.full_like(d, y[0])
+        if self.interpolation == "step":
+            idx = np.clip(np.searchsorted(x, d, side="right") - 1, 0, len(x) - 1)
+            return y[idx]
+        if self.interpolation == "log":
+            floor = x[x > 0].min() if np.any(x > 0) else 1e-3
+            return np.interp(np.log(np.maximum(d, floor)), np.log(np.maximum(x, floor)), y)
+        return np.interp(d, x, y)
+
+
+@dataclass(frozen=True)
+class CombinedEnvelope:
+    """An allowed region in the plane of two axes, as a closed polygon [g0]."""
+
+    name: str
+    axes: tuple[str, str]
+    vertices: np.ndarray  # (m, 2), not repeating the first vertex
+    source: str = "polygon"
+
+    @property
+    def plane(self) -> str:
+        return PLANES[self.axes]
+
+
+@dataclass(frozen=True)
+class OnsetLimit:
+    axis: str
+    limit_g_per_s: float
+
+
+@dataclass(frozen=True)
+class LimitSet:
+    title: str
+    represents: str
+    revision: str
+    illustrative: bool
+    filter: FilterSpec
+    duration: tuple[DurationLimit, ...]
+    combined: tuple[CombinedEnvelope, ...]
+    onset: tuple[OnsetLimit, ...]
+    path: str = "<memory>"
+    sha256: str = ""
+    files: tuple[tuple[str, str], ...] = ()  # (path, sha256) of the file and its tables
+
+
+def sha256_of(path: str | Path) -> str:
+    return hashlib.sha256(Path(path).read_bytes()).hexdigest()
+
+
+def _segments_cross(p1, p2, q1, q2) -> bool:
+    def orient(a, b, c):
+        return np.sign((b[0] - a[0]) * (c[1] - a[1]) - (b[1] - a[1]) * (c[0] - a[0]))
+
+    o1, o2 = orient(p1, p2, q1), orient(p1, p2, q2)
+    o3, o4 = orient(q1, q2, p1), orient(q1, q2, p2)
+    if o1 != o2 and o3 != o4 and 0 not in (o1, o2, o3, o4):
+        return True
+
+    def on_segment(a, b, c):  # c collinear with a-b and within its box
+        return (min(a[0], b[0]) - 1e-12 <= c[0] <= max(a[0], b[0]) + 1e-12
+                and min(a[1], b[1]) - 1e-12 <= c[1] <= max(a[1], b[1]) + 1e-12)
+
+    return bool((o1 == 0 and on_segment(p1, p2, q1)) or (o2 == 0 and on_segment(p1, p2, q2))
+                or (o3 == 0 and on_segment(q1, q2, p1)) or (o4 == 0 and on_segment(q1, q2, p2)))
+
+
+def polygon_problem(vertices: np.ndarray) -> str | None:
+    """Why the closed polygon is unusable (fewer than 3 vertices, self-intersecting), or None."""
+    v = np.asarray(vertices, dtype=float)
+    keep = np.ones(len(v), dtype=bool)
+    keep[1:] = np.any(np.abs(np.diff(v, axis=0)) > 1e-12, axis=1)  # drop repeated vertices
+    v = v[keep]
+    if len(v) >= 2 and np.allclose(v[0], v[-1]):
+        v = v[:-1]
+    if len(v) < 3:
+        return f"has {len(v)} distinct vertices; a polygon needs at least 3"
+    m = len(v)
+    edges = [(v[i], v[(i + 1) % m]) for i in range(m)]
+    for i in range(m):
+        for j in range(i + 1, m):
+            if j == i + 1 or (i == 0 and j == m - 1):
+                continue  # neighbours share a vertex
+            if _segments_cross(*edges[i], *edges[j]):
+                return f"is self-intersecting (edge {i + 1} crosses edge {j + 1})"
+    area = 0.5 * np.sum(v[:, 0] * np.roll(v[:, 1], -1) - np.roll(v[:, 0], -1) * v[:, 1])
+    if abs(area) < 1e-12:
+        return "has zero area"
+    return None
+
+
+def contains(vertices: np.ndarray, points: np.ndarray) -> np.ndarray:
+    """Points (n, 2) inside or on the closed polygon (even-odd rule, boundary counts in)."""
+    from matplotlib.path import Path as MplPath
+
+    path = MplPath(np.vstack([vertices, vertices[:1]]), closed=True)
+    tol = 1e-9 * max(1.0, float(np.abs(vertices).max()))
+    return path.contains_points(points, radius=tol) | path.contains_points(points, radius=-tol)
+
+
+def outside_fraction(vertices: np.ndarray, center: np.ndarray, points: np.ndarray) -> np.ndarray:
+    """How far each point lies beyond the boundary, along the ray from ``center``, as a
+    fraction of the envelope's extent in that direction (0 on the boundary)."""
+    p = np.asarray(points, dtype=float) - center
+    a = vertices - center
+    b = np.roll(vertices, -1, axis=0) - center
+    e = b - a
+    # Solve t * p = a + u * e for t >= 0, 0 <= u <= 1 for every point and edge.
+    det = p[:, None, 0] * (-e[None, :, 1]) - p[:, None, 1] * (-e[None, :, 0])
+    with np.errstate(divide="ignore", invalid="ignore"):
+        t = (a[None, :, 0] * (-e[None, :, 1]) - a[None, :, 1] * (-e[None, :, 0])) / det
+        u = (p[:, None, 0] * a[None, :, 1] - p[:, None, 1] * a[None, :, 0]) / det
+    ok = np.isfinite(t) & (t > 0) & (u >= -1e-12) & (u <= 1 + 1e-12)
+    first = np.where(ok, t, np.inf).min(axis=1)  # the point is at 1, the boundary at t
+    return np.where(np.isfinite(first), 1.0 / first - 1.0, np.inf)
+
+
+def _points_from(fields: Fields, name: str, base: Path, columns: tuple[str, str],
+                 files: list) -> np.ndarray:
+    """A table given inline as ``name = [[a, b], ...]`` or as ``table = "file.csv"``."""
+    if fields.has("table"):
+        rel = fields.text("table")
+        path = (base / rel) if not Path(rel).is_absolute() else Path(rel)
+        if not path.is_file():
+            raise fields.error("table", f"table file '{rel}' not found next to the limits file",
+                               "give a path relative to the limits file")
+        table = read_numeric_csv(path, list(columns), what="limit table")
+        files.append((str(path), sha256_of(path)))
+        return np.column_stack([table.columns[c] for c in columns])
+    raw = fields.raw(name)
+    if raw is None:
+        raise fields.error(name, "is missing", f"give {name} = [[...], ...] or table = \"f.csv\"")
+    try:
+        arr = np.asarray(raw, dtype=float)
+    except (TypeError, ValueError):
+        raise fields.error(name, "must be a list of number pairs like [[0.0, 4.0], [1.0, 3.5]]"
+                           ) from None
+    if arr.ndim != 2 or arr.shape[1] != 2 or len(arr) == 0:
+        raise fields.error(name, "must be a list of number pairs like [[0.0, 4.0], [1.0, 3.5]]")
+    if not np.all(np.isfinite(arr)):
+        raise fields.error(name, "holds a value that is not finite")
+    return arr
+
+
+def _duration_limit(f: Fields, base: Path, files: list) -> DurationLimit:
+    axis = f.text("axis", choices=AXES)
+    word = f.text("direction", choices=tuple(DIRECTION_WORDS))
+    if word in ("left", "right") and axis != "gy":
+        raise f.error("direction", f"'{word}' applies to gy only", "use positive or negative")
+    sign = DIRECTION_WORDS[word]
+    interp = f.text("interpolation", "linear", choices=INTERPOLATIONS)
+    pts = _points_from(f, "points", base, ("duration_s", "limit_g"), files)
+    durations, levels = pts[:, 0], pts[:, 1]
+    key = "table" if f.has("table") else "points"
+    if np.any(durations < 0):
+        raise f.error(key, "has a negative duration", "durations are seconds, 0 or more")
+    if np.any(np.diff(durations) <= 0):
+        i = int(np.flatnonzero(np.diff(durations) <= 0)[0]) + 2
+        raise f.error(key, f"durations must increase (point {i} does not)",
+                      "list the points by increasing duration")
+    if np.any(np.sign(levels) != sign) or np.any(levels == 0):
+        expected = "positive" if sign > 0 else "negative"
+        raise f.error(key, f"a {word} limit must have {expected} levels",
+                      f"write the allowed {axis} for this direction with its sign")
+    if np.any(np.diff(np.abs(levels)) > 0):
+        i = int(np.flatnonzero(np.diff(np.abs(levels)) > 0)[0]) + 2
+        raise f.error(key, f"allowed level grows with duration at point {i}",
+                      "a longer exposure must not be allowed a higher level")
+    rest = REST[axis]
+    if np.any(sign * rest >= sign * levels):
+        raise f.error(key, f"the rest value {axis} = {rest:g} already breaks this limit",
+                      "check the sign and the axis")
+    f.done()
+    return DurationLimit(axis, sign, durations, levels, interp)
+
+
+def _ellipse(duration: tuple[DurationLimit, ...], axes: tuple[str, str], at_s: float,
+             f: Fields) -> np.ndarray:
+    """Quadrant-wise ellipse through the single-axis admissible values at ``at_s``."""
+    reach = {}
+    for axis in axes:
+        for sign in (1, -1):
+            match = [d for d in duration if d.axis == axis and d.sign == sign]
+            if not match:
+                raise f.error("shape", f"an ellipse needs a duration limit for {axis} in both "
+                              "directions", "add the missing [[duration]] limit or a polygon")
+            reach[(axis, sign)] = float(match[0].allowed(np.array([at_s]))[0])
+    theta = np.linspace(0, 2 * np.pi, 144, endpoint=False)
+    c, s = np.cos(theta), np.sin(theta)
+    a = np.where(c >= 0, reach[(axes[0], 1)], -reach[(axes[0], -1)])
+    b = np.where(s >= 0, reach[(axes[1], 1)], -reach[(axes[1], -1)])
+    return np.column_stack([a * c, b * s])
+
+
+def load_limits(path: str | Path) -> LimitSet:
+    """Load and validate a limits TOML file and the CSV tables it names."""
+    path = Path(path)
+    doc = Fields(path, load_toml(path))
+    base = path.parent
+    files: list[tuple[str, str]] = [(str(path), sha256_of(path))]
+    meta = doc.sub("meta", required=True)
+    title = meta.text("title")
+    represents = meta.text("represents", "")
+    revision = str(meta.raw("revision", ""))
+    illustrative = meta.flag("illustrative", False)
+    meta.done()
+    filt = doc.sub("filter")
+    spec = FilterSpec(filt.text("kind", "butterworth", choices=("butterworth", "none")),
+                      filt.integer("order", 4, minimum=1, maximum=12),
+                      filt.number("corner_hz", 5.0, positive=True, maximum=1e4),
+                      filt.text("pass", "single", choices=("single", "zero-phase")))
+    filt.done()
+    duration = tuple(_duration_limit(f, base, files) for f in doc.table_list("duration"))
+    seen = set()
+    for i, d in enumerate(duration):
+        if (d.axis, d.sign) in seen:
+            raise InputError(path, f"gives a second limit for {d.name}",
+                             "keep one table per axis and direction", key=f"duration[{i + 1}]")
+        seen.add((d.axis, d.sign))
+    combined = []
+    for f in doc.table_list("combined"):
+        axes_raw = f.raw("axes")
+        if not (isinstance(axes_raw, list) and tuple(axes_raw) in PLANES):
+            raise f.error("axes", f"must be one of {[list(k) for k in PLANES]}",
+                          "name the two axes of the plane")
+        axes = tuple(axes_raw)
+        name = f.text("name", PLANES[axes] + " envelope")
+        shape = f.text("shape", "polygon", choices=("polygon", "ellipse"))
+        if shape == "ellipse":
+            vertices = _ellipse(duration, axes, f.number("at_duration_s", 0.0, minimum=0), f)
+        else:
+            vertices = _points_from(f, "vertices", base, axes, files)
+            if len(vertices) >= 2 and np.allclose(vertices[0], vertices[-1]):
+                vertices = vertices[:-1]
+            problem = polygon_problem(vertices)
+            vertices = vertices[np.concatenate(
+                [[True], np.any(np.abs(np.diff(vertices, axis=0)) > 1e-12, axis=1)])]
+            if problem:
+                raise f.error("table" if f.has("table") else "vertices", "polygon " + problem,
+                              "list the vertices in order around the boundary")
+        rest = np.array([[REST[axes[0]], REST[axes[1]]]])
+        if not contains(vertices, rest)[0]:
+            raise f.error("vertices", f"envelope does not contain the rest point "
+                          f"({axes[0]}, {axes[1]}) = ({rest[0, 0]:g}, {rest[0, 1]:g})",
+                          "a rider at rest must be inside; check signs and axis order")
+        f.done()
+        combined.append(CombinedEnvelope(name, axes, vertices, shape))
+    onset = []
+    for f in doc.table_list("onset"):
+        onset.append(OnsetLimit(f.text("axis", choices=AXES),
+                                f.number("limit_g_per_s", positive=True, maximum=1e4)))
+        f.done()
+    doc.done()
+    if not (duration or combined or onset):
+        raise InputError(path, "holds no limits", "add [[duration]], [[combined]] or [[onset]]")
+    return LimitSet(title, represents, revision, illustrative, spec, duration,
+                    tuple(combined), tuple(onset), str(path), files[0][1], tuple(files))

@@ -1,0 +1,305 @@
+"""Rule engine: exposure curves, exceedance events and the verdict.
+
+Duration rules compare the exposure curve of a filtered signal with the limit curve. The
+exposure curve E(tau) is, for every duration tau, the highest level the signal stays at or
+above continuously for at least tau. For each sample i, let W_i be the longest window around
+it in which every sample is >= x_i (bounded by the nearest smaller samples, as in the
+largest-rectangle-under-a-histogram problem); then E(k dt) = max{x_i : |W_i| >= k}. The
+windows come from sparse-table range minima and binary lifting, fully vectorized:
+O(N log N) array work with no Python loop over samples (an O(N) monotonic stack gives the
+same windows; the vectorized form is much faster in numpy).
+"""
+
+from __future__ import annotations
+
+from dataclasses import asdict, dataclass, field
+
+import numpy as np
+
+from .conditioning import lowpass, onset_rate
+from .envelope import AXES, REST, CombinedEnvelope, DurationLimit, LimitSet, contains
+from .envelope import outside_fraction as _outside_fraction
+from .errors import InputError
+
+AXIS_INDEX = {axis: i for i, axis in enumerate(AXES)}
+
+
+@dataclass(frozen=True)
+class Finding:
+    """One exceedance event. Times [s], stations [m], levels [g0], onset [g0/s]."""
+
+    rule: str
+    kind: str  # "duration", "combined" or "onset"
+    axis: str
+    seat: str
+    case: str
+    t_start: float
+    t_end: float
+    duration_s: float
+    peak_g: float
+    limit_g: float
+    margin: float  # limit - value in the rule's own unit; negative = exceeded
+    t_worst: float
+    s_start_m: float | None = None
+    s_worst_m: float | None = None
+    position_m: tuple[float, float, float] | None = None
+    detail: str = ""
+
+    @property
+    def severity(self) -> float:
+        """Exceedance relative to the limit (0 = at the limit)."""
+        return -self.margin / abs(self.limit_g) if self.limit_g else float("inf")
+
+    def to_dict(self) -> dict:
+        data = asdict(self)
+        data["severity"] = self.severity
+        return data
+
+
+@dataclass(frozen=True)
+class Exposure:
+    """Exposure curve of one signal direction: levels [g0] against duration [s]."""
+
+    durations_s: np.ndarray
+    levels_g: np.ndarray
+
+
+@dataclass
+class SeatResult:
+    seat: str
+    case: str
+    worst: dict  # axis -> (min, max) of the filtered signal [g0]
+    findings: list[Finding] = field(default_factory=list)
+    exposures: dict = field(default_factory=dict)  # rule name -> Exposure (signed levels)
+    filtered: np.ndarray | None = None
+    t: np.ndarray | None = None
+
+    @property
+    def verdict(self) -> str:
+        return "fail" if self.findings else "pass"
+
+
+@dataclass
+class Evaluation:
+    limits: LimitSet
+    seats: list[SeatResult]
+    warnings: list[str] = field(default_factory=list)
+
+    @property
+    def findings(self) -> list[Finding]:
+        return sorted((f for s in self.seats for f in s.findings),
+                      key=lambda f: (-f.severity, f.seat, f.t_start))
+
+    @property
+    def verdict(self) -> str:
+        return "fail" if any(s.findings for s in self.seats) else "pass"
+
+
+def sustained_windows(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """For each sample, the first and last index of the longest window around it in which
+    every sample is >= it."""
+    x = np.asarray(x, dtype=float)
+    n = len(x)
+    table = [x]
+    while (1 << len(table)) <= n:
+        prev, half = table[-1], 1 << (len(table) - 1)
+        table.append(np.minimum(prev[:-half], prev[half:]))
+
+    def reach(values: np.ndarray, tables: list[np.ndarray]) -> np.ndarray:
+        pos = np.arange(1, n + 1)  # next index to test, going right
+        for level in range(len(tables) - 1, -1, -1):
+            span = 1 << level
+            fits = pos + span <= n
+            idx = np.where(fits, pos, 0)
+            block = tables[level]
+            ok = fits & (block[np.minimum(idx, len(block) - 1)] >= values)
+            pos = np.where(ok, pos + span, pos)
+        return pos - 1
+
+    right = reach(x, table)
+    reversed_tables = [t[::-1] for t in table]
+    left = n - 1 - reach(x[::-1], reversed_tables)[::-1]
+    return left, right
+
+
+def exposure_curve(x: np.ndarray, dt: float) -> Exposure:
+    """Highest level sustained for at least k samples, k = 1..N; duration k * dt [s]."""
+    left, right = sustained_windows(x)
+    width = right - left + 1
+    best = np.full(len(x) + 1, -np.inf)
+    np.maximum.at(best, width, x)
+    levels = np.maximum.accumulate(best[::-1])[::-1][1:]
+    return Exposure(dt * np.arange(1, len(x) + 1), levels)
+
+
+def exposure_brute_force(x: np.ndarray) -> np.ndarray:
+    """O(N^2) reference: max over windows of length k of the window minimum."""
+    n = len(x)
+    return np.array([max(x[i:i + k].min() for i in range(n - k + 1)) for k in range(1, n + 1)])
+
+
+def _runs(mask: np.ndarray) -> list[tuple[int, int]]:
+    """Inclusive index ranges of the True runs."""
+    edges = np.flatnonzero(np.diff(np.concatenate([[0], mask.astype(np.int8), [0]])))
+    return [(int(a), int(b) - 1) for a, b in zip(edges[::2], edges[1::2])]
+
+
+def _merge(left: np.ndarray, right: np.ndarray) -> list[tuple[int, int, np.ndarray]]:
+    """Merge overlapping or touching windows; return groups with the member indices."""
+    order = np.argsort(left, kind="stable")
+    groups = []
+    start, end, members = None, None, []
+    for i in order:
+        if start is None or left[i] > end + 1:
+            if start is not None:
+                groups.append((start, end, np.asarray(members)))
+            start, end, members = int(left[i]), int(right[i]), [i]
+        else:
+            end = max(end, int(right[i]))
+            members.append(i)
+    if start is not None:
+        groups.append((start, end, np.asarray(members)))
+    return groups
+
+
+class _Context:
+    """What a finding needs to say where it happened."""
+
+    def __init__(self, seat, case: str):
+        self.seat = seat
+        self.case = case
+        self.t = np.asarray(seat.t)
+        self.s = getattr(seat, "s", None)
+        self.position = getattr(seat, "position", None)
+
+    def locate(self, start: int, worst: int) -> dict:
+        out: dict = {}
+        if self.s is not None:
+            out["s_start_m"] = float(self.s[start])
+            out["s_worst_m"] = float(self.s[worst])
+        if self.position is not None:
+            out["position_m"] = tuple(float(v) for v in self.position[worst])
+        return out
+
+
+def _duration_findings(x: np.ndarray, dt: float, rule: DurationLimit,
+                       ctx: _Context) -> tuple[list[Finding], Exposure]:
+    signed = rule.sign * x
+    exposure = exposure_curve(signed, dt)
+    exposure = Exposure(exposure.durations_s, rule.sign * exposure.levels_g)
+    allowed_mag = rule.sign * rule.allowed(exposure.durations_s)
+    if not np.any(rule.sign * exposure.levels_g > allowed_mag):
+        return [], exposure
+    left, right = sustained_windows(signed)
+    width = right - left + 1
+    level = signed
+    allowed = rule.sign * rule.allowed(width * dt)
+    bad = np.flatnonzero(level > allowed + 1e-12)
+    findings = []
+    for start, end, members in _merge(left[bad], right[bad]):
+        idx = bad[members]
+        excess = level[idx] - allowed[idx]
+        g = idx[int(np.argmax(excess))]  # the governing window
+        peak_i = start + int(np.argmax(signed[start:end + 1]))
+        findings.append(Finding(
+            rule=f"duration {rule.name}", kind="duration", axis=rule.axis, seat=ctx.seat.seat,
+            case=ctx.case, t_start=float(ctx.t[start]), t_end=float(ctx.t[end]) + dt,
+            duration_s=float(width[g] * dt), peak_g=float(x[peak_i]),
+            limit_g=float(rule.sign * allowed[g]), margin=float(allowed[g] - level[g]),
+            t_worst=float(ctx.t[peak_i]),
+            detail=f"sustained {rule.sign * level[g]:.2f} g for {width[g] * dt:.3f} s where "
+                   f"{rule.sign * allowed[g]:.2f} g is allowed for that long",
+            **ctx.locate(start, peak_i)))
+    return findings, exposure
+
+
+def _combined_findings(g: np.ndarray, env: CombinedEnvelope, ctx: _Context) -> list[Finding]:
+    pair = g[:, [AXIS_INDEX[env.axes[0]], AXIS_INDEX[env.axes[1]]]]
+    inside = contains(env.vertices, pair)
+    findings = []
+    center = np.array([REST[env.axes[0]], REST[env.axes[1]]])
+    dt = float(np.median(np.diff(ctx.t))) if len(ctx.t) > 1 else 0.0
+    for start, end in _runs(~inside):
+        frac = _outside_fraction(env.vertices, center, pair[start:end + 1])
+        w = start + int(np.argmax(frac))
+        findings.append(Finding(
+            rule=f"combined {env.name}", kind="combined", axis=f"{env.axes[0]}+{env.axes[1]}",
+            seat=ctx.seat.seat, case=ctx.case, t_start=float(ctx.t[start]),
+            t_end=float(ctx.t[end]) + dt, duration_s=float(ctx.t[end] - ctx.t[start] + dt),
+            peak_g=float(np.hypot(*(pair[w] - center))),
+            limit_g=float(np.hypot(*(pair[w] - center)) / (1 + frac.max())),
+            margin=-float(frac.max()), t_worst=float(ctx.t[w]),
+            detail=f"({env.axes[0]}, {env.axes[1]}) = ({pair[w, 0]:.2f}, {pair[w, 1]:.2f}) g, "
+                   f"{100 * frac.max():.1f} % outside the envelope",
+            **ctx.locate(start, w)))
+    return findings
+
+
+def _onset_findings(x: np.ndarray, axis: str, limit: float, ctx: _Context) -> list[Finding]:
+    rate = onset_rate(x, ctx.t)
+    findings = []
+    dt = float(np.median(np.diff(ctx.t)))
+    for start, end in _runs(np.abs(rate) > limit):
+        w = start + int(np.argmax(np.abs(rate[start:end + 1])))
+        findings.append(Finding(
+            rule=f"onset {axis}", kind="onset", axis=axis, seat=ctx.seat.seat, case=ctx.case,
+            t_start=float(ctx.t[start]), t_end=float(ctx.t[end]) + dt,
+            duration_s=float(ctx.t[end] - ctx.t[start] + dt), peak_g=float(rate[w]),
+            limit_g=float(limit), margin=float(limit - abs(rate[w])), t_worst=float(ctx.t[w]),
+            detail=f"{axis} changes at {rate[w]:.1f} g/s; limit {limit:g} g/s",
+            **ctx.locate(start, w)))
+    return findings
+
+
+def sample_rate(t: np.ndarray) -> float:
+    dt = np.diff(np.asarray(t, dtype=float))
+    return 1.0 / float(np.median(dt))
+
+
+def check_filter_rate(limits: LimitSet, rate_hz: float) -> list[str]:
+    """Refuse a corner at or above Nyquist; warn when sampling below 10 x the corner."""
+    corner = limits.filter.corner_hz
+    if limits.filter.kind == "none":
+        return []
+    if corner >= rate_hz / 2:
+        raise InputError(limits.path, f"filter corner {corner:g} Hz is at or above half the "
+                         f"sample rate ({rate_hz / 2:g} Hz)",
+                         "lower filter.corner_hz or sample the signal faster",
+                         key="filter.corner_hz")
+    if rate_hz < 10 * corner:
+        return [f"sample rate {rate_hz:g} Hz is below 10 x the filter corner ({corner:g} Hz): "
+                "peaks may be under-resolved"]
+    return []
+
+
+def evaluate_seat(seat, limits: LimitSet, case: str = "nominal",
+                  keep_signals: bool = True) -> SeatResult:
+    """All rules for one rider signal (an object with ``seat``, ``t`` [s], ``g`` (n, 3) [g0]
+    and optionally ``s`` [m] and ``position`` (n, 3) [m])."""
+    t = np.asarray(seat.t, dtype=float)
+    rate = sample_rate(t)
+    filtered = lowpass(seat.g, rate, limits.filter)
+    ctx = _Context(seat, case)
+    dt = 1.0 / rate
+    findings: list[Finding] = []
+    exposures = {}
+    for rule in limits.duration:
+        found, exposure = _duration_findings(filtered[:, AXIS_INDEX[rule.axis]], dt, rule, ctx)
+        findings += found
+        exposures[rule.name] = exposure
+    for env in limits.combined:
+        findings += _combined_findings(filtered, env, ctx)
+    for onset in limits.onset:
+        findings += _onset_findings(filtered[:, AXIS_INDEX[onset.axis]], onset.axis,
+                                    onset.limit_g_per_s, ctx)
+    worst = {axis: (float(filtered[:, i].min()), float(filtered[:, i].max()))
+             for i, axis in enumerate(AXES)}
+    return SeatResult(seat.seat, case, worst, findings, exposures,
+                      filtered if keep_signals else None, t if keep_signals else None)
+
+
+def evaluate(seats, limits: LimitSet, case: str = "nominal") -> Evaluation:
+    """Every rule of ``limits`` for every rider signal in ``seats``."""
+    seats = list(seats)
+    warnings = check_filter_rate(limits, sample_rate(seats[0].t)) if seats else []
+    return Evaluation(limits, [evaluate_seat(s, limits, case) for s in seats], warnings)

@@ -1,0 +1,179 @@
+"""The rule engine against known answers and reference libraries (sources named)."""
+
+from __future__ import annotations
+
+from dataclasses import replace
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+from scipy import signal
+from shapely.geometry import Point, Polygon
+
+from checker.conditioning import FilterSpec, design_sos, lowpass
+from checker.envelope import (
+    CombinedEnvelope,
+    DurationLimit,
+    LimitSet,
+    OnsetLimit,
+    contains,
+    outside_fraction,
+    polygon_problem,
+)
+from checker.history import RecordedSignal
+from checker.rules import evaluate, exposure_brute_force, exposure_curve
+
+RATE = 200.0
+
+
+def limit_set(duration=(), combined=(), onset=(), spec=FilterSpec()):
+    return LimitSet("test", "", "", False, spec, tuple(duration), tuple(combined), tuple(onset))
+
+
+def rest_signal(n: int) -> np.ndarray:
+    g = np.zeros((n, 3))
+    g[:, 2] = 1.0
+    return g
+
+
+def pulse(level: float, width_s: float, total_s: float = 20.0, axis: int = 2):
+    t = np.arange(int(total_s * RATE)) / RATE
+    g = rest_signal(len(t))
+    on = (t >= 5.0) & (t < 5.0 + width_s)
+    g[on, axis] = level
+    return RecordedSignal("s1", t, g)
+
+
+GZ_LIMIT = DurationLimit("gz", 1, np.array([0.0, 1.0, 4.0]), np.array([5.0, 4.0, 3.0]))
+NO_FILTER_EFFECT = FilterSpec(kind="none")  # the rules alone, on the signal as given
+
+
+# Synthetic signals with known answers: a 3.5 g plateau is allowed for up to 2.5 s by the
+# linear table (4.0 at 1 s, 3.0 at 4 s): 3.5 = 4 - (d - 1) / 3  ->  d = 2.5 s.
+def test_rectangular_pulse_longer_than_allowed_fails():
+    ev = evaluate([pulse(3.5, 3.0)], limit_set([GZ_LIMIT], spec=NO_FILTER_EFFECT))
+    assert ev.verdict == "fail"
+    (f,) = ev.findings
+    assert f.kind == "duration" and f.axis == "gz"
+    assert f.t_start == pytest.approx(5.0, abs=0.05) and f.t_end == pytest.approx(8.0, abs=0.05)
+    assert f.duration_s == pytest.approx(3.0, abs=0.01)
+    assert f.limit_g == pytest.approx(4.0 - (3.0 - 1.0) / 3.0, abs=0.02)
+    assert f.margin < 0
+
+
+def test_same_pulse_shorter_passes():
+    ev = evaluate([pulse(3.5, 2.0)], limit_set([GZ_LIMIT], spec=NO_FILTER_EFFECT))
+    assert ev.verdict == "pass" and not ev.findings
+
+
+def test_negative_direction_pulse():
+    # -Gz (eyes up): -1.0 g for 2 s against an allowed -1.2 g at 0 s and -0.5 g at 2 s.
+    neg = DurationLimit("gz", -1, np.array([0.0, 2.0]), np.array([-1.2, -0.5]))
+    ev = evaluate([pulse(-1.0, 2.0)], limit_set([neg], spec=NO_FILTER_EFFECT))
+    assert ev.verdict == "fail" and ev.findings[0].peak_g == pytest.approx(-1.0, abs=0.02)
+    ok = evaluate([pulse(-0.4, 2.0)], limit_set([neg], spec=NO_FILTER_EFFECT))
+    assert ok.verdict == "pass"
+
+
+SQUARE = np.array([[-1.0, 0.0], [1.0, 0.0], [1.0, 3.0], [-1.0, 3.0]])  # y-z, contains (0, 1)
+
+
+def test_point_just_inside_polygon_passes_just_outside_fails():
+    env = CombinedEnvelope("box", ("gy", "gz"), SQUARE)
+    inside = evaluate([pulse(0.99, 1.0, axis=1)], limit_set(combined=[env],
+                                                            spec=NO_FILTER_EFFECT))
+    outside = evaluate([pulse(1.01, 1.0, axis=1)], limit_set(combined=[env],
+                                                             spec=NO_FILTER_EFFECT))
+    assert inside.verdict == "pass"
+    assert outside.verdict == "fail"
+    (f,) = outside.findings
+    # ray from the rest point (0, 1) along +gy meets the edge gy = 1: 1 % outside
+    assert -f.margin == pytest.approx(0.01, abs=2e-3)
+
+
+def test_onset_ramp_with_known_slope():
+    # A ramp of 10 g/s in gz lasting 0.3 s; limit 8 g/s fails, 12 g/s passes.
+    t = np.arange(int(10 * RATE)) / RATE
+    g = rest_signal(len(t))
+    g[:, 2] += np.clip((t - 4.0) * 10.0, 0.0, 3.0)
+    sig = RecordedSignal("s1", t, g)
+    spec = NO_FILTER_EFFECT
+    fail = evaluate([sig], limit_set(onset=[OnsetLimit("gz", 8.0)], spec=spec))
+    assert fail.verdict == "fail"
+    assert fail.findings[0].peak_g == pytest.approx(10.0, rel=0.03)
+    assert fail.findings[0].duration_s == pytest.approx(0.3, abs=0.05)
+    assert evaluate([sig], limit_set(onset=[OnsetLimit("gz", 12.0)], spec=spec)).verdict == "pass"
+
+
+def test_butterworth_minus_3db_at_corner():
+    # Butterworth (1930): |H(fc)| = 1/sqrt(2) for any order; here the filter as applied.
+    fs, fc = 1000.0, 5.0
+    t = np.arange(int(40 * fs)) / fs
+    x = np.sin(2 * np.pi * fc * t)
+    y = lowpass(x, fs, FilterSpec(order=4, corner_hz=fc))
+    amplitude = np.sqrt(2) * np.std(y[len(y) // 2:])  # steady state
+    assert 20 * np.log10(amplitude) == pytest.approx(-3.0103, abs=0.02)
+
+
+def test_four_pole_rolloff_80_db_per_decade():
+    # Any DSP text: an n-pole Butterworth falls 20 n dB per decade far above the corner.
+    fs, fc = 50_000.0, 5.0
+    sos = design_sos(FilterSpec(order=4, corner_hz=fc), fs)
+    _, h = signal.sosfreqz(sos, worN=[100.0, 1000.0], fs=fs)
+    assert 20 * np.log10(abs(h[0]) / abs(h[1])) == pytest.approx(80.0, abs=0.5)
+
+
+def test_filter_matches_scipy_design():
+    # scipy.signal butter + sosfilt (with steady-state start) as the reference library.
+    rng = np.random.default_rng(3)
+    x = 1.0 + rng.normal(size=2000)
+    sos = signal.butter(4, 5.0, fs=RATE, output="sos")
+    expected, _ = signal.sosfilt(sos, x, zi=signal.sosfilt_zi(sos) * x[0])
+    assert np.max(np.abs(lowpass(x, RATE, FilterSpec()) - expected)) < 1e-9
+
+
+def test_filter_starts_at_rest_without_transient():
+    y = lowpass(rest_signal(400), RATE, FilterSpec())
+    assert np.allclose(y, rest_signal(400), atol=1e-12)
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.lists(st.floats(-5, 5, allow_nan=False), min_size=1, max_size=60))
+def test_exposure_curve_matches_brute_force(values):
+    x = np.asarray(values)
+    assert np.allclose(exposure_curve(x, 1.0).levels_g, exposure_brute_force(x))
+
+
+@settings(max_examples=100, deadline=None)
+@given(st.lists(st.tuples(st.floats(-3, 3), st.floats(-3, 3)), min_size=3, max_size=7),
+       st.lists(st.tuples(st.floats(-4, 4), st.floats(-4, 4)), min_size=1, max_size=20))
+def test_polygon_validity_and_containment_agree_with_shapely(vertices, points):
+    v = np.asarray(vertices)
+    shape = Polygon(v)
+    problem = polygon_problem(v)
+    if problem is not None:
+        if "zero area" not in problem and "distinct" not in problem:
+            assert not shape.is_valid
+        return
+    if not shape.is_valid:  # shapely also refuses touching rings our check allows
+        return
+    p = np.asarray(points)
+    ours = contains(v, p)
+    for pt, inside in zip(p, ours):
+        d = shape.exterior.distance(Point(pt))
+        if d > 1e-6:
+            assert inside == shape.contains(Point(pt))
+
+
+def test_outside_fraction_on_a_square():
+    # From the centre (0, 1) of the square, (2, 1) is twice the reach of the edge at gy = 1.
+    frac = outside_fraction(SQUARE, np.array([0.0, 1.0]), np.array([[2.0, 1.0], [0.0, 4.5]]))
+    assert frac == pytest.approx([1.0, 0.75])
+
+
+def test_log_and_step_interpolation():
+    lim = DurationLimit("gz", 1, np.array([0.1, 10.0]), np.array([4.0, 2.0]), "log")
+    assert lim.allowed(np.array([1.0]))[0] == pytest.approx(3.0)  # halfway in log duration
+    step = replace(lim, interpolation="step")
+    assert step.allowed(np.array([5.0, 10.0, 20.0])) == pytest.approx([4.0, 2.0, 2.0])
