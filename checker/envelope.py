@@ -180,7 +180,7 @@ def _points_from(fields: Fields, name: str, base: Path, columns: tuple[str, str]
         return np.column_stack([table.columns[c] for c in columns])
     raw = fields.raw(name)
     if raw is None:
-        raise fields.error(name, "is missing", f"give {name} = [[...], ...] or table = \"f.csv\"")
+        raise fields.missing(name, f"give {name} = [[...], ...] or table = \"f.csv\"")
     try:
         arr = np.asarray(raw, dtype=float)
     except (TypeError, ValueError):

@@ -193,6 +193,14 @@ class Fields:
     def error(self, name: str, problem: str, hint: str = "") -> InputError:
         return InputError(self.path, problem, hint, key=self.key(name))
 
+    def missing(self, name: str, hint: str) -> InputError:
+        """A missing key; a misspelt neighbour is named instead where there is one."""
+        unknown = [k for k in self.table if k not in self.used]
+        close = difflib.get_close_matches(name, unknown, n=1)
+        if close:
+            return self.error(close[0], "is not a known key", f"did you mean '{name}'?")
+        return self.error(name, "is missing", hint)
+
     def has(self, name: str) -> bool:
         return name in self.table
 
@@ -213,7 +221,7 @@ class Fields:
         self.used.add(name)
         if name not in self.table:
             if default is None:
-                raise self.error(name, "is missing", f"add {self.key(name)} = <number{unit}>")
+                raise self.missing(name, f"add {self.key(name)} = <number{unit}>")
             return float(default)
         value = self.table[name]
         if isinstance(value, bool) or not isinstance(value, (int, float)):
@@ -235,7 +243,7 @@ class Fields:
         self.used.add(name)
         if name not in self.table:
             if default is None:
-                raise self.error(name, "is missing", f"add {self.key(name)} = <whole number>")
+                raise self.missing(name, f"add {self.key(name)} = <whole number>")
             return default
         value = self.table[name]
         if isinstance(value, bool) or not isinstance(value, int):
@@ -250,7 +258,7 @@ class Fields:
         self.used.add(name)
         if name not in self.table:
             if default is None:
-                raise self.error(name, "is missing", f"add {self.key(name)} = \"...\"")
+                raise self.missing(name, f"add {self.key(name)} = \"...\"")
             return default
         value = self.table[name]
         if not isinstance(value, str):
@@ -283,7 +291,7 @@ class Fields:
         self.used.add(name)
         if name not in self.table:
             if required:
-                raise self.error(name, "table is missing", f"add a [{self.key(name)}] table")
+                raise self.missing(name, f"add a [{self.key(name)}] table")
             return Fields(self.path, {}, self.key(name))
         return Fields(self.path, self.table[name], self.key(name))
 
