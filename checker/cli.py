@@ -81,6 +81,13 @@ def build_parser() -> argparse.ArgumentParser:
 def _add_check_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--limits", help="limits TOML (default: the bundled ILLUSTRATIVE set)")
     p.add_argument("--json", metavar="FINDINGS.json", help="write the findings as JSON")
+    p.add_argument("--pdf", metavar="REPORT.pdf",
+                   help="write the PDF report (and a JSON sidecar beside it)")
+    p.add_argument("--page-size", choices=("a4", "letter"), default="a4",
+                   help="paper size of the PDF (default a4)")
+    p.add_argument("--project", default="(not given)", help="project name for the report")
+    p.add_argument("--layout-name", default=None, help="layout name (default: file name)")
+    p.add_argument("--revision", default="(not given)", help="layout revision for the report")
     p.add_argument("--case", default="nominal", help="name of the load case (default nominal)")
 
 
@@ -95,22 +102,39 @@ def _limits(args: argparse.Namespace):
     return load_limits(args.limits)
 
 
-def _report_evaluation(args, evaluation, inputs, extra=None) -> int:
+def _command_line() -> str:
+    import shlex
+
+    return "checker " + " ".join(shlex.quote(a) for a in sys.argv[1:])
+
+
+def _finish(args, run, source: str, parameters: list) -> int:
+    """Print the summary; write JSON and PDF as asked. Returns the exit code."""
     from .findings import CAUTION, evaluation_document, summary_table, to_json
     from .outputs import atomic_write_text
 
+    evaluation = run.evaluation
     for warning in evaluation.warnings:
         print(f"warning: {warning}", file=sys.stderr)
     print(summary_table(evaluation))
     if evaluation.limits.illustrative:
         print("note: the limit set is ILLUSTRATIVE; the verdict says nothing about compliance")
     print("caution: " + CAUTION)
-    if args.json:
-        command = "checker " + " ".join(sys.argv[1:]) if sys.argv[1:] else "checker"
-        doc = evaluation_document(evaluation, inputs, command, extra)
+    command = _command_line()
+    extra = {"stall": run.stall}
+    if args.pdf:
+        from .report import ReportMeta, write_report
+
+        meta = ReportMeta(project=args.project, layout=args.layout_name or source,
+                          revision=args.revision, page_size=args.page_size, command=command,
+                          inputs=run.inputs, parameters=parameters, stall=run.stall)
+        pdf, sidecar = write_report(run, args.pdf, meta, args.json, extra)
+        print(f"wrote {pdf} and {sidecar}")
+    elif args.json:
+        doc = evaluation_document(evaluation, run.inputs, command, extra)
         atomic_write_text(args.json, to_json(doc))
         print(f"wrote {args.json}")
-    return EXIT_FINDINGS if evaluation.verdict == "fail" else EXIT_OK
+    return EXIT_FINDINGS if evaluation.verdict == "fail" or run.stall else EXIT_OK
 
 
 def _inputs(*paths) -> list[tuple[str, str]]:
@@ -119,40 +143,50 @@ def _inputs(*paths) -> list[tuple[str, str]]:
     return [(str(p), sha256_of(p)) for p in paths if p is not None]
 
 
-def _cmd_check(args: argparse.Namespace) -> int:
+def _check_outputs(args) -> None:
     from .outputs import check_writable
-    from .ride import RideOptions, load_inputs, run_ride
-    from .rules import evaluate
 
-    if args.json:
-        check_writable(args.json)
+    for path in (args.json, args.pdf):
+        if path:
+            check_writable(path)
+
+
+def _cmd_check(args: argparse.Namespace) -> int:
+    from pathlib import Path
+
+    from .ride import RideOptions, load_inputs, ride_parameters, run_check
+
+    _check_outputs(args)
     limits = _limits(args)
     line, train, ops = load_inputs(args.track, args.train, ideal=args.ideal,
                                    operation=args.operation, start_speed_m_s=args.start_speed,
                                    units=args.units)
-    result = run_ride(line, train, ops, RideOptions(rate_hz=args.rate,
-                                                    smoothing_m=args.smoothing))
-    evaluation = evaluate(result.histories, limits, args.case)
-    if result.motion.stall is not None:
-        print(f"checker: {result.motion.stall}", file=sys.stderr)
-        evaluation.warnings.append(str(result.motion.stall))
-    inputs = _inputs(args.track, args.train, args.operation) + list(limits.files)
-    code = _report_evaluation(args, evaluation, inputs,
-                              {"stall": str(result.motion.stall) if result.motion.stall else None})
-    return EXIT_FINDINGS if result.motion.stall is not None else code
+    run = run_check(line, train, ops, limits, RideOptions(rate_hz=args.rate,
+                                                          smoothing_m=args.smoothing),
+                    args.case)
+    if run.stall:
+        print(f"checker: {run.stall}", file=sys.stderr)
+    run.inputs = _inputs(args.track, args.train, args.operation) + list(limits.files)
+    params = ride_parameters(run.ride) + [("track length unit", args.units),
+                                          ("filter", limits.filter.describe())]
+    return _finish(args, run, Path(args.track).stem, params)
 
 
 def _cmd_check_history(args: argparse.Namespace) -> int:
+    from pathlib import Path
+
     from .history import load_history
-    from .outputs import check_writable
+    from .ride import CheckRun
     from .rules import evaluate
 
-    if args.json:
-        check_writable(args.json)
+    _check_outputs(args)
     limits = _limits(args)
     signals = load_history(args.history, args.units)
     evaluation = evaluate(signals, limits, args.case)
-    return _report_evaluation(args, evaluation, _inputs(args.history) + list(limits.files))
+    run = CheckRun(evaluation, None, {(s.seat, args.case): s for s in signals},
+                   _inputs(args.history) + list(limits.files))
+    params = [("history units", args.units), ("filter", limits.filter.describe())]
+    return _finish(args, run, Path(args.history).stem, params)
 
 
 def _cmd_simulate(args: argparse.Namespace) -> int:

@@ -11,6 +11,9 @@ from pathlib import Path
 
 from .errors import InputError
 
+_UMASK = os.umask(0)
+os.umask(_UMASK)
+
 
 def check_writable(path: str | Path) -> Path:
     """Fail early (before any work) when the output's folder does not exist."""
@@ -28,6 +31,7 @@ def atomic_write_bytes(path: str | Path, data: bytes) -> Path:
     path = check_writable(path)
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
     try:
+        os.chmod(tmp, 0o666 & ~_UMASK)  # mkstemp makes 0600; give the usual permissions
         with os.fdopen(fd, "wb") as handle:
             handle.write(data)
             handle.flush()

@@ -7,6 +7,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass, replace
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import numpy as np
 import pandas as pd
@@ -17,6 +18,9 @@ from .kinematics import SeatHistory, rider_histories
 from .operation import Operation, load_operation
 from .track import Centerline, load_centerline
 from .train import Train, ideal_rider, load_train
+
+if TYPE_CHECKING:
+    from .rules import Evaluation
 
 HISTORY_COLUMNS = ["seat", "car", "t", "s", "v", "gx", "gy", "gz", "x", "y", "z"]
 
@@ -111,3 +115,59 @@ def peak_table(histories: list[SeatHistory]) -> pd.DataFrame:
                                         for i, name in enumerate(("gx", "gy", "gz"))
                                         for kind, fn in (("min", np.min), ("max", np.max))}})
     return pd.DataFrame(rows)
+
+
+@dataclass
+class CheckRun:
+    """A ride (or a recorded history) checked against a limit set."""
+
+    evaluation: Evaluation
+    ride: RideResult | None
+    signals: dict  # (seat, case) -> signal with raw g (and s, position when simulated)
+    inputs: list[tuple[str, str]]
+    stall: str | None = None
+
+
+def run_check(centerline: Centerline, train: Train, operation: Operation, limits,
+              options: RideOptions = RideOptions(), case: str = "nominal") -> CheckRun:
+    """Simulate and evaluate every seat: the one entry for `check`, sweeps and the API."""
+    from .rules import evaluate
+
+    result = run_ride(centerline, train, operation, options)
+    evaluation = evaluate(result.histories, limits, case)
+    stall = str(result.motion.stall) if result.motion.stall is not None else None
+    if stall:
+        evaluation.warnings.append(stall)
+    signals = {(h.seat, case): h for h in result.histories}
+    return CheckRun(evaluation, result, signals, [], stall)
+
+
+def ride_parameters(result: RideResult) -> list[tuple[str, str]]:
+    """Every parameter of a simulated run, as (name, value with unit) for the record."""
+    tr, ops, opt = result.train, result.operation, result.options
+    rows = [
+        ("train", tr.name), ("cars", str(tr.car_count)), ("car spacing", f"{tr.spacing_m:g} m"),
+        ("empty car mass", f"{tr.empty_mass_kg:g} kg"), ("seats per car", str(len(tr.seats))),
+        ("rider mass", f"{tr.rider_mass_kg:g} kg"),
+        ("occupancy", ", ".join(f"{o:g}" for o in tr.occupancy_by_car)
+         if tr.occupancy_by_car else f"{tr.occupancy:g}"),
+        ("rolling resistance coefficient", f"{tr.rolling_coefficient:g}"),
+        ("drag area CdA", f"{tr.drag_area_m2:g} m^2"),
+        ("air density", f"{tr.air_density_kg_m3:g} kg/m^3"),
+        ("head wind", f"{opt.head_wind_m_s:g} m/s"),
+        ("start speed", f"{ops.start_speed_m_s:g} m/s"),
+        ("output sample rate", f"{opt.rate_hz:g} Hz"),
+        ("station grid step", f"{opt.step_m:g} m"),
+        ("smoothing tolerance", f"{opt.smoothing_m:g} m"),
+    ]
+    for seat in tr.seats:
+        rows.append((f"seat {seat.name} offset (forward, left, up)",
+                     f"({seat.forward_m:g}, {seat.left_m:g}, {seat.up_m:g}) m"))
+    for i, sec in enumerate(ops.sections):
+        a, b = sec.resolved(result.geometry.length)
+        what = {"lift": f"speed {sec.speed_m_s:g} m/s",
+                "brake": f"to {sec.speed_m_s:g} m/s at <= {sec.max_decel_m_s2:g} m/s^2",
+                "launch": (f"exit {sec.exit_speed_m_s:g} m/s" if sec.exit_speed_m_s
+                           else f"force {sec.force_n:g} N")}[sec.kind]
+        rows.append((f"section {i + 1}: {sec.kind}", f"{a:.1f} m to {b:.1f} m, {what}"))
+    return rows

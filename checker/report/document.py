@@ -1,0 +1,207 @@
+"""The report's HTML: a context built from findings and signals, rendered by jinja2.
+
+All user text goes through jinja2's autoescape; only the SVG made here is marked safe.
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import jinja2
+import numpy as np
+
+from .. import __version__
+from ..envelope import AXES, REST, contains
+from ..findings import CAUTION
+from ..rules import Evaluation
+from . import figures
+
+TEMPLATES = Path(__file__).resolve().parents[2] / "templates"
+PAGE_SIZES = {"a4": "A4", "letter": "letter"}
+
+
+@dataclass
+class ReportMeta:
+    project: str = "(not given)"
+    layout: str = "(not given)"
+    revision: str = "(not given)"
+    page_size: str = "a4"
+    command: str = "checker"
+    inputs: list[tuple[str, str]] = field(default_factory=list)
+    parameters: list[tuple[str, str]] = field(default_factory=list)
+    method: list[str] = field(default_factory=list)
+    review_items: list[str] = field(default_factory=list)
+    stall: str | None = None
+    date: str = ""
+
+
+def _env() -> jinja2.Environment:
+    return jinja2.Environment(loader=jinja2.FileSystemLoader(str(TEMPLATES)),
+                              autoescape=True, undefined=jinja2.StrictUndefined)
+
+
+def _fmt(value, digits: int = 2) -> str:
+    if value is None:
+        return "-"
+    return f"{value:.{digits}f}"
+
+
+def _limits_context(limits) -> dict:
+    return {
+        "title": limits.title, "represents": limits.represents or "-",
+        "revision": limits.revision or "-", "illustrative": limits.illustrative,
+        "filter": limits.filter.describe(),
+        "duration": [{"name": d.name, "interpolation": d.interpolation,
+                      "points": [(f"{a:g}", f"{b:g}") for a, b in zip(d.durations_s,
+                                                                      d.levels_g)]}
+                     for d in limits.duration],
+        "combined": [{"name": c.name, "axes": " / ".join(c.axes), "source": c.source,
+                      "vertices": _describe_vertices(c)} for c in limits.combined],
+        "onset": [{"axis": o.axis, "limit": f"{o.limit_g_per_s:g}"} for o in limits.onset],
+    }
+
+
+def _describe_vertices(env) -> str:
+    v = env.vertices
+    if env.source == "ellipse":
+        return (f"quadrant-wise ellipse through the single-axis limits: {env.axes[0]} from "
+                f"{v[:, 0].min():.2f} to {v[:, 0].max():.2f} g, {env.axes[1]} from "
+                f"{v[:, 1].min():.2f} to {v[:, 1].max():.2f} g ({len(v)} vertices)")
+    return "vertices: " + "; ".join(f"({a:.2f}, {b:.2f})" for a, b in v)
+
+
+def _seat_section(result, signal, limits, worst: bool) -> dict:
+    spans = [(f.t_start, f.t_end, f.axis) for f in result.findings]
+    raw = np.asarray(signal.g) if signal is not None else None
+    histories = figures.time_histories(result.t, result.filtered, raw, spans,
+                                       f"Seat {result.seat}, case {result.case}: filtered "
+                                       "(colour) and raw (grey); shaded: findings")
+    curves = []
+    for rule in limits.duration:
+        exp = result.exposures.get(rule.name)
+        if exp is None:
+            continue
+        curves.append({"name": rule.name, "durations": exp.durations_s, "levels": exp.levels_g,
+                       "limit_durations": np.append(rule.durations_s,
+                                                    max(exp.durations_s[-1],
+                                                        rule.durations_s[-1])),
+                       "limit_levels": np.append(rule.levels_g, rule.levels_g[-1]),
+                       "step": rule.interpolation == "step"})
+    exposure = figures.exposure_curves(curves, "Exposure: highest level sustained for at "
+                                       "least each duration, against the limit") if curves else ""
+    panels = []
+    for env in limits.combined:
+        ia, ib = AXES.index(env.axes[0]), AXES.index(env.axes[1])
+        pts = result.filtered[:, [ia, ib]]
+        panels.append({"name": env.name, "axes": env.axes, "points": pts,
+                       "vertices": env.vertices, "outside": ~contains(env.vertices, pts)})
+    combined = figures.combined_scatter(panels, "Combined axes (filtered) against the "
+                                        "envelopes; red: outside") if panels else ""
+    return {"seat": result.seat, "case": result.case, "count": len(result.findings),
+            "verdict": result.verdict, "worst": worst, "histories": histories,
+            "exposure": exposure, "combined": combined}
+
+
+def ride_statistics(ride, evaluation: Evaluation) -> list[tuple[str, str]]:
+    """Length, heights, speed, time and time below 0 g vertical (filtered, worst seat)."""
+    stats = []
+    if ride is not None:
+        geo, motion = ride.geometry, ride.motion
+        z = geo.position[:, 2]
+        stats += [("Track length", f"{geo.length:.1f} m"),
+                  ("Height range", f"{z.min():.1f} m to {z.max():.1f} m "
+                                   f"({np.ptp(z):.1f} m)"),
+                  ("Top speed", f"{motion.v.max():.2f} m/s ({motion.v.max() * 3.6:.1f} km/h)"),
+                  ("Ride time", f"{motion.duration_s:.1f} s ({motion.end_reason})")]
+    below = [(float(np.sum(s.filtered[:, 2] < 0.0)) * float(np.median(np.diff(s.t))), s.seat)
+             for s in evaluation.seats if s.filtered is not None and len(s.t) > 1]
+    if below:
+        longest = max(below)
+        stats.append(("Time below 0 g vertical (filtered Gz < 0)",
+                      f"{longest[0]:.2f} s at most (seat {longest[1]})"))
+    stats.append(("Seats x load cases checked", str(len(evaluation.seats))))
+    return stats
+
+
+def _worst_rows(evaluation: Evaluation, signals: dict) -> list[dict]:
+    rows = []
+    for i, axis in enumerate(AXES):
+        for label, pick in ((f"{axis.capitalize()} lowest", np.argmin),
+                            (f"{axis.capitalize()} highest", np.argmax)):
+            best = None
+            for s in evaluation.seats:
+                if s.filtered is None:
+                    continue
+                j = int(pick(s.filtered[:, i]))
+                v = float(s.filtered[j, i])
+                score = -v if pick is np.argmin else v
+                if best is None or score > best[0]:
+                    best = (score, v, s, j)
+            if best is None:
+                continue
+            _, v, s, j = best
+            sig = signals.get((s.seat, s.case))
+            station = getattr(sig, "s", None) if sig is not None else None
+            rows.append({"label": label, "value": f"{v:.2f}", "seat": s.seat,
+                         "t": f"{s.t[j]:.2f}",
+                         "s": f"{station[j]:.1f}" if station is not None else "-"})
+    return rows
+
+
+def build_html(evaluation: Evaluation, signals: dict, ride, meta: ReportMeta) -> str:
+    """The whole report as one HTML string (inline CSS and SVG; nothing to fetch).
+
+    signals: {(seat, case): object with raw ``g``, optional ``s``} for the raw traces.
+    ride: a ride result with ``geometry`` and ``motion`` for the layout views, or None.
+    """
+    env = _env()
+    limits = evaluation.limits
+    findings = evaluation.findings
+    counts: dict[str, int] = {}
+    for f in findings:
+        counts[f.kind] = counts.get(f.kind, 0) + 1
+    seat_rows = [{"seat": s.seat, "case": s.case, "count": len(s.findings),
+                  "verdict": s.verdict} for s in evaluation.seats]
+    worst_seat = None
+    if findings:
+        top = findings[0]
+        worst_seat = next(s for s in evaluation.seats if (s.seat, s.case) == (top.seat,
+                                                                               top.case))
+    elif evaluation.seats:
+        worst_seat = max(evaluation.seats, key=lambda s: max(
+            abs(s.worst[a][k] - REST[a]) for a in AXES for k in (0, 1)))
+    sections = []
+    if worst_seat is not None and worst_seat.filtered is not None:
+        sections.append(_seat_section(worst_seat, signals.get((worst_seat.seat,
+                                                               worst_seat.case)), limits, True))
+    for s in evaluation.seats:
+        if s.findings and s is not worst_seat and s.filtered is not None:
+            sections.append(_seat_section(s, signals.get((s.seat, s.case)), limits, False))
+    layout_svg = ""
+    station_every = 100
+    if ride is not None:
+        geo = ride.geometry
+        station_every = 50 if geo.length < 800 else 100
+        marks = [(f.s_worst_m, f.rule) for f in findings if f.s_worst_m is not None]
+        layout_svg = figures.layout_views(geo.position, geo.s, marks, station_every)
+    rows = [{"rule": f.rule, "seat": f.seat, "case": f.case, "t_start": _fmt(f.t_start),
+             "station": _fmt(f.s_start_m, 1), "duration": _fmt(f.duration_s, 3),
+             "peak": _fmt(f.peak_g), "limit": _fmt(f.limit_g),
+             "margin": (f"{100 * f.margin:.1f} %" if f.kind == "combined" else _fmt(f.margin))}
+            for f in findings]
+    css = env.get_template("report.css").render(
+        page_size=PAGE_SIZES[meta.page_size],
+        footer_left="checker self-check - not a certification or an approval")
+    return env.get_template("report.html.j2").render(
+        title=f"Self-check {meta.layout}", css=css, project=meta.project, layout=meta.layout,
+        revision=meta.revision, date=meta.date or _dt.date.today().isoformat(),
+        version=__version__, limits=_limits_context(limits), caution=CAUTION,
+        verdict=evaluation.verdict, findings=rows, counts=sorted(counts.items()),
+        seat_rows=seat_rows, review_items=list(evaluation.warnings) + meta.review_items,
+        stats=ride_statistics(ride, evaluation), worst=_worst_rows(evaluation, signals),
+        layout_svg=layout_svg, station_every=station_every, seat_sections=sections,
+        method=meta.method, parameters=meta.parameters, inputs=[
+            {"file": f, "sha256": h} for f, h in meta.inputs], command=meta.command,
+        stall=meta.stall)

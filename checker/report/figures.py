@@ -1,0 +1,186 @@
+"""Report figures as inline SVG text (matplotlib, vector output).
+
+Every function takes plain arrays and returns an SVG string; nothing here knows physics or
+rules. Long signals are reduced to per-pixel minimum and maximum before plotting, so the
+peaks stay visible and the files stay small.
+"""
+
+from __future__ import annotations
+
+import io
+
+import matplotlib
+
+matplotlib.use("Agg")
+import matplotlib.pyplot as plt  # noqa: E402
+import numpy as np  # noqa: E402
+
+plt.rcParams.update({
+    "svg.fonttype": "none", "font.family": "DejaVu Sans", "font.size": 8,
+    "axes.titlesize": 9, "axes.labelsize": 8, "legend.fontsize": 7, "axes.grid": True,
+    "grid.alpha": 0.3, "svg.hashsalt": "checker",  # deterministic element ids
+})
+AXIS_COLORS = {"gx": "#1f5fa8", "gy": "#2a8a3e", "gz": "#b0301f"}
+FINDING_COLOR = "#d11a1a"
+WIDTH_IN = 6.7  # fits A4 and US Letter with 2 cm margins
+
+
+def _svg(fig) -> str:
+    buf = io.StringIO()
+    fig.savefig(buf, format="svg", bbox_inches="tight", metadata={"Date": None})
+    plt.close(fig)
+    text = buf.getvalue()
+    return text[text.index("<svg"):]
+
+
+def envelope_decimate(x: np.ndarray, y: np.ndarray, bins: int = 700):
+    """Keep the minimum and maximum of y in each of ``bins`` equal slices (peaks survive)."""
+    n = len(x)
+    if n <= 2 * bins:
+        return x, y
+    edges = np.linspace(0, n, bins + 1).astype(int)
+    keep = []
+    for a, b in zip(edges[:-1], edges[1:]):
+        seg = y[a:b]
+        i, j = a + int(np.argmin(seg)), a + int(np.argmax(seg))
+        keep.extend(sorted((i, j)))
+    keep = np.asarray(keep)
+    return x[keep], y[keep]
+
+
+def layout_views(position: np.ndarray, s: np.ndarray, marks: list[tuple[float, str]],
+                 station_every_m: float = 100.0, title: str = "") -> str:
+    """Plan (x-y) and elevation (station-z) views with station ticks and finding marks.
+
+    marks: (station [m], label) of each exceedance location.
+    """
+    fig, (plan, elev) = plt.subplots(2, 1, figsize=(WIDTH_IN, 6.4),
+                                     gridspec_kw={"height_ratios": [3, 1.4]})
+    plan.plot(position[:, 0], position[:, 1], color="#333333", lw=1.0)
+    plan.set_aspect("equal", adjustable="datalim")
+    plan.set_xlabel("x [m]")
+    plan.set_ylabel("y [m]")
+    plan.set_title("Plan view" + (f" - {title}" if title else ""))
+    ticks = np.arange(0.0, s[-1], station_every_m)
+    idx = np.searchsorted(s, ticks).clip(0, len(s) - 1)
+    plan.plot(position[idx, 0], position[idx, 1], "o", ms=2.5, color="#555555")
+    for k, i in enumerate(idx):
+        plan.annotate(f"{ticks[k]:.0f}", position[i, :2], textcoords="offset points",
+                      xytext=(3, 3), fontsize=6, color="#555555")
+    elev.plot(s, position[:, 2], color="#333333", lw=1.0)
+    elev.set_xlabel("station along the track [m]")
+    elev.set_ylabel("height z [m]")
+    elev.set_title("Elevation (height against station)")
+    if marks:
+        ms = np.array([m for m, _ in marks])
+        mi = np.searchsorted(s, ms).clip(0, len(s) - 1)
+        plan.plot(position[mi, 0], position[mi, 1], "x", color=FINDING_COLOR, ms=7, mew=1.6,
+                  label="exceedance")
+        elev.plot(ms, position[mi, 2], "x", color=FINDING_COLOR, ms=7, mew=1.6)
+        plan.legend(loc="best")
+    fig.tight_layout()
+    return _svg(fig)
+
+
+def elevation_pair(left: tuple, right: tuple, labels: tuple[str, str]) -> str:
+    """Two layouts' elevations side by side; each side is (s [m], z [m], marks)."""
+    fig, axes = plt.subplots(1, 2, figsize=(WIDTH_IN, 2.6), sharey=True)
+    for ax, (s, z, marks), label in zip(axes, (left, right), labels):
+        ax.plot(s, z, color="#333333", lw=1.0)
+        if marks:
+            mi = np.searchsorted(s, marks).clip(0, len(s) - 1)
+            ax.plot(s[mi], z[mi], "x", color=FINDING_COLOR, ms=6, mew=1.4)
+        ax.set_title(label)
+        ax.set_xlabel("station [m]")
+    axes[0].set_ylabel("height z [m]")
+    fig.tight_layout()
+    return _svg(fig)
+
+
+def time_histories(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
+                   spans: list[tuple[float, float, str]], title: str,
+                   overlay: tuple[np.ndarray, np.ndarray, str] | None = None) -> str:
+    """Gx, Gy, Gz against time: filtered in colour, raw faint behind, findings shaded.
+
+    spans: (t_start, t_end, axis) of each finding; overlay: (t, filtered, label) of a second
+    signal drawn dashed (for comparisons).
+    """
+    fig, axes = plt.subplots(3, 1, figsize=(WIDTH_IN, 6.0), sharex=True)
+    for i, (ax, axis) in enumerate(zip(axes, ("gx", "gy", "gz"))):
+        if raw is not None:
+            ax.plot(*envelope_decimate(t, raw[:, i]), color="#bbbbbb", lw=0.6, label="raw")
+        ax.plot(*envelope_decimate(t, filtered[:, i]), color=AXIS_COLORS[axis], lw=0.9,
+                label="filtered")
+        if overlay is not None:
+            ax.plot(*envelope_decimate(overlay[0], overlay[1][:, i]), color="#222222", lw=0.8,
+                    ls="--", label=overlay[2])
+        for a, b, which in spans:
+            if which == axis or axis in which.split("+"):
+                ax.axvspan(a, b, color=FINDING_COLOR, alpha=0.18, lw=0)
+        ax.set_ylabel(f"{axis.capitalize()} [g]")
+    axes[0].set_title(title)
+    axes[0].legend(loc="upper right", ncol=3)
+    axes[-1].set_xlabel("time [s]")
+    fig.tight_layout()
+    return _svg(fig)
+
+
+def exposure_curves(curves: list[dict], title: str) -> str:
+    """Exposure curves (highest level sustained for at least a duration) against limits.
+
+    Each dict: name, durations [s], levels [g], limit_durations [s], limit_levels [g],
+    and optionally overlay_levels with overlay_label.
+    """
+    n = len(curves)
+    cols = 3 if n > 2 else max(n, 1)
+    rows = int(np.ceil(n / cols)) if n else 1
+    fig, axes = plt.subplots(rows, cols, figsize=(WIDTH_IN, 2.1 * rows + 0.3), squeeze=False)
+    for ax, c in zip(axes.flat, curves):
+        d, lv = c["durations"], c["levels"]
+        keep = np.unique(np.geomspace(1, len(d), min(len(d), 300)).astype(int) - 1)
+        ax.semilogx(d[keep], lv[keep], color="#1f5fa8", lw=1.0, label="ride")
+        if c.get("overlay_levels") is not None:
+            od = c["overlay_durations"]
+            k2 = np.unique(np.geomspace(1, len(od), min(len(od), 300)).astype(int) - 1)
+            ax.semilogx(od[k2], c["overlay_levels"][k2], color="#222222", lw=0.9, ls="--",
+                        label=c.get("overlay_label", "other"))
+        lim_d = np.asarray(c["limit_durations"], dtype=float)
+        ax.semilogx(np.maximum(lim_d, d[0]), c["limit_levels"], color=FINDING_COLOR, lw=1.2,
+                    drawstyle="steps-post" if c.get("step") else "default", label="limit")
+        ax.set_title(c["name"])
+        ax.set_xlabel("duration [s]")
+        ax.set_ylabel("level [g]")
+        ax.set_xlim(d[0], max(d[-1], lim_d[-1] if len(lim_d) else 1.0))
+    for ax in list(axes.flat)[n:]:
+        ax.set_visible(False)
+    if n:
+        axes.flat[0].legend(loc="best")
+    fig.suptitle(title, fontsize=9)
+    fig.tight_layout()
+    return _svg(fig)
+
+
+def combined_scatter(panels: list[dict], title: str) -> str:
+    """Filtered pairs of axes against each envelope polygon.
+
+    Each dict: name, axes (a, b), points (n, 2) [g], vertices (m, 2) [g], outside (n,) bool.
+    """
+    n = len(panels)
+    fig, axes = plt.subplots(1, max(n, 1), figsize=(WIDTH_IN, 3.0), squeeze=False)
+    for ax, p in zip(axes.flat, panels):
+        pts = p["points"]
+        step = max(1, len(pts) // 2500)
+        # the trajectory as one path (one SVG node), not thousands of markers
+        ax.plot(pts[::step, 0], pts[::step, 1], lw=0.5, color="#1f5fa8", alpha=0.7)
+        out = p["outside"]
+        if out.any():
+            shown = np.where(out, pts[:, 1], np.nan)  # breaks the line between excursions
+            ax.plot(pts[:, 0], shown, lw=1.4, color=FINDING_COLOR)
+        v = np.vstack([p["vertices"], p["vertices"][:1]])
+        ax.plot(v[:, 0], v[:, 1], color="#222222", lw=1.0)
+        ax.set_xlabel(f"{p['axes'][0].capitalize()} [g]")
+        ax.set_ylabel(f"{p['axes'][1].capitalize()} [g]")
+        ax.set_title(p["name"])
+    fig.suptitle(title, fontsize=9)
+    fig.tight_layout()
+    return _svg(fig)
