@@ -237,6 +237,9 @@ def main(argv: Sequence[str] | None = None) -> int:
     except TrainStalled as exc:
         print(f"checker: {exc}", file=sys.stderr)
         return EXIT_FINDINGS
+    except BrokenPipeError:  # output piped into a closed reader (e.g. head)
+        sys.stderr.close()
+        return EXIT_OK
     except KeyboardInterrupt:
         print("checker: interrupted; no output was written or changed", file=sys.stderr)
         return EXIT_INTERRUPTED
