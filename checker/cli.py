@@ -75,6 +75,11 @@ def build_parser() -> argparse.ArgumentParser:
     hist.add_argument("--units", choices=("g", "m/s2"), default="g",
                       help="unit of gx, gy, gz in the file (default g)")
     _add_check_options(hist)
+    demo = sub.add_parser("demo", help="check both revisions of the bundled demo layout and "
+                          "write their PDF and JSON reports")
+    demo.add_argument("--out", default="demo-output", metavar="FOLDER",
+                      help="folder for the reports (default ./demo-output)")
+    demo.add_argument("--page-size", choices=("a4", "letter"), default="a4")
     return parser
 
 
@@ -214,8 +219,55 @@ def _cmd_simulate(args: argparse.Namespace) -> int:
     return EXIT_OK
 
 
+def _cmd_demo(args: argparse.Namespace) -> int:
+    import time
+    from pathlib import Path
+
+    from .envelope import load_limits
+    from .findings import BUNDLED_LIMITS
+    from .report import ReportMeta, write_report
+    from .ride import RideOptions, load_inputs, ride_parameters, run_check
+
+    started = time.perf_counter()
+    here = Path(__file__).resolve().parents[1] / "sample_tracks"
+    out = Path(args.out)
+    try:
+        out.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise InputError(out, f"cannot create the output folder ({exc.strerror})",
+                         "choose another --out folder") from None
+    limits = load_limits(BUNDLED_LIMITS)
+    train_file = here / "thistle_comet_train.toml"
+    print("demo: Marrowvale Pleasure Gardens (a fictional park), 'Thistle Comet' (a fictional "
+          "layout), against the bundled ILLUSTRATIVE limits")
+    for rev, what in (("A", "circular loop"), ("B", "teardrop loop")):
+        track = here / f"thistle_comet_rev{rev}.csv"
+        ops_file = here / f"thistle_comet_rev{rev}.operation.toml"
+        line, train, ops = load_inputs(track, train_file, operation=ops_file)
+        run = run_check(line, train, ops, limits, RideOptions())
+        run.inputs = _inputs(track, train_file, ops_file) + list(limits.files)
+        command = (f"checker check {track} --train {train_file} --operation {ops_file} "
+                   f"--project 'Marrowvale Pleasure Gardens (fictional)' --layout-name "
+                   f"'Thistle Comet' --revision {rev} --pdf {out / f'thistle_comet_rev{rev}.pdf'}")
+        meta = ReportMeta(project="Marrowvale Pleasure Gardens (fictional demo park)",
+                          layout="Thistle Comet (fictional demo layout)",
+                          revision=f"{rev} ({what})", page_size=args.page_size,
+                          command=command, inputs=run.inputs, stall=run.stall,
+                          parameters=ride_parameters(run.ride) + [
+                              ("filter", limits.filter.describe())])
+        pdf, sidecar = write_report(run, out / f"thistle_comet_rev{rev}.pdf", meta, None,
+                                    {"stall": run.stall})
+        ev = run.evaluation
+        print(f"  revision {rev} ({what}): {ev.verdict.upper()} with {len(ev.findings)} "
+              f"findings -> {pdf}, {sidecar}")
+    print(f"done in {time.perf_counter() - started:.1f} s. The failing revision A is expected: "
+          "its circular loop exceeds the illustrative +Gz and onset limits at the bottom.")
+    print("caution: a self-check, not a certification; the limits are illustrative.")
+    return EXIT_OK
+
+
 COMMANDS = {"simulate": _cmd_simulate, "check": _cmd_check,
-            "check-history": _cmd_check_history}
+            "check-history": _cmd_check_history, "demo": _cmd_demo}
 
 
 def _on_terminate(signum, frame):  # SIGTERM behaves like Ctrl-C: unwind, no partial output

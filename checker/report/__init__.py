@@ -42,8 +42,8 @@ def write_report(run, pdf_path: str | Path, meta: ReportMeta, json_path: str | P
     json_path = check_writable(json_path or pdf_path.with_suffix(".json"))
     if not meta.method:
         meta.method = list(METHOD)
-    html = build_html(run.evaluation, run.signals, run.ride, meta)
-    pdf = render_pdf(html, TemplatesOnlyFetcher())
+    html, assets = build_html(run.evaluation, run.signals, run.ride, meta)
+    pdf = render_pdf(html, TemplatesOnlyFetcher(assets=assets))
     doc = evaluation_document(run.evaluation, meta.inputs, meta.command, json_extra)
     atomic_write_text(json_path, to_json(doc))
     atomic_write_bytes(pdf_path, pdf)

@@ -6,8 +6,8 @@ All user text goes through jinja2's autoescape; only the SVG made here is marked
 from __future__ import annotations
 
 import datetime as _dt
+import os
 from dataclasses import dataclass, field
-from pathlib import Path
 
 import jinja2
 import numpy as np
@@ -17,8 +17,8 @@ from ..envelope import AXES, REST, contains
 from ..findings import CAUTION
 from ..rules import Evaluation
 from . import figures
+from .pdf import ASSET_SCHEME, TEMPLATES
 
-TEMPLATES = Path(__file__).resolve().parents[2] / "templates"
 PAGE_SIZES = {"a4": "A4", "letter": "letter"}
 
 
@@ -73,6 +73,7 @@ def _describe_vertices(env) -> str:
 
 
 def _seat_section(result, signal, limits, worst: bool) -> dict:
+    """Figures of one seat (runs in a worker process when there are several seats)."""
     spans = [(f.t_start, f.t_end, f.axis) for f in result.findings]
     raw = np.asarray(signal.g) if signal is not None else None
     histories = figures.time_histories(result.t, result.filtered, raw, spans,
@@ -83,7 +84,8 @@ def _seat_section(result, signal, limits, worst: bool) -> dict:
         exp = result.exposures.get(rule.name)
         if exp is None:
             continue
-        curves.append({"name": rule.name, "durations": exp.durations_s, "levels": exp.levels_g,
+        curves.append({"name": rule.name, "axis": rule.axis, "durations": exp.durations_s,
+                       "levels": exp.levels_g,
                        "limit_durations": np.append(rule.durations_s,
                                                     max(exp.durations_s[-1],
                                                         rule.durations_s[-1])),
@@ -150,8 +152,37 @@ def _worst_rows(evaluation: Evaluation, signals: dict) -> list[dict]:
     return rows
 
 
-def build_html(evaluation: Evaluation, signals: dict, ride, meta: ReportMeta) -> str:
-    """The whole report as one HTML string (inline CSS and SVG; nothing to fetch).
+def _section_job(args):
+    result, signal, limits, worst = args
+    return _seat_section(result, signal, limits, worst)
+
+
+def _render_sections(jobs, signals: dict, limits) -> list[dict]:
+    """Seat figures, on both cores when there are several seats (matplotlib is the cost)."""
+    work = [(s, _lean(signals.get((s.seat, s.case))), limits, worst) for s, worst in jobs]
+    if len(work) < 3:
+        return [_section_job(w) for w in work]
+    import multiprocessing
+    from concurrent.futures import ProcessPoolExecutor
+
+    workers = min(len(work), max(1, (os.cpu_count() or 1)))
+    with ProcessPoolExecutor(workers, mp_context=multiprocessing.get_context("fork")) as pool:
+        return list(pool.map(_section_job, work, chunksize=max(1, len(work) // (4 * workers))))
+
+
+@dataclass
+class _RawSignal:
+    g: np.ndarray
+
+
+def _lean(signal):
+    """Only the raw trace travels to a worker."""
+    return None if signal is None else _RawSignal(np.asarray(signal.g))
+
+
+def build_html(evaluation: Evaluation, signals: dict, ride,
+               meta: ReportMeta) -> tuple[str, dict[str, str]]:
+    """The whole report as HTML with inline CSS, and its SVG figures by asset name.
 
     signals: {(seat, case): object with raw ``g``, optional ``s``} for the raw traces.
     ride: a ride result with ``geometry`` and ``motion`` for the layout views, or None.
@@ -172,20 +203,31 @@ def build_html(evaluation: Evaluation, signals: dict, ride, meta: ReportMeta) ->
     elif evaluation.seats:
         worst_seat = max(evaluation.seats, key=lambda s: max(
             abs(s.worst[a][k] - REST[a]) for a in AXES for k in (0, 1)))
-    sections = []
+    jobs = []
     if worst_seat is not None and worst_seat.filtered is not None:
-        sections.append(_seat_section(worst_seat, signals.get((worst_seat.seat,
-                                                               worst_seat.case)), limits, True))
-    for s in evaluation.seats:
-        if s.findings and s is not worst_seat and s.filtered is not None:
-            sections.append(_seat_section(s, signals.get((s.seat, s.case)), limits, False))
+        jobs.append((worst_seat, True))
+    jobs += [(s, False) for s in evaluation.seats
+             if s.findings and s is not worst_seat and s.filtered is not None]
+    sections = _render_sections(jobs, signals, limits)
+    assets: dict[str, str] = {}
+
+    def asset(svg: str) -> str:
+        if not svg:
+            return ""
+        name = f"figure{len(assets) + 1}.svg"
+        assets[name] = svg
+        return f"{ASSET_SCHEME}:{name}"
+
+    for section in sections:
+        for key in ("histories", "exposure", "combined"):
+            section[key] = asset(section[key])
     layout_svg = ""
     station_every = 100
     if ride is not None:
         geo = ride.geometry
         station_every = 50 if geo.length < 800 else 100
         marks = [(f.s_worst_m, f.rule) for f in findings if f.s_worst_m is not None]
-        layout_svg = figures.layout_views(geo.position, geo.s, marks, station_every)
+        layout_svg = asset(figures.layout_views(geo.position, geo.s, marks, station_every))
     rows = [{"rule": f.rule, "seat": f.seat, "case": f.case, "t_start": _fmt(f.t_start),
              "station": _fmt(f.s_start_m, 1), "duration": _fmt(f.duration_s, 3),
              "peak": _fmt(f.peak_g), "limit": _fmt(f.limit_g),
@@ -204,4 +246,4 @@ def build_html(evaluation: Evaluation, signals: dict, ride, meta: ReportMeta) ->
         layout_svg=layout_svg, station_every=station_every, seat_sections=sections,
         method=meta.method, parameters=meta.parameters, inputs=[
             {"file": f, "sha256": h} for f, h in meta.inputs], command=meta.command,
-        stall=meta.stall)
+        stall=meta.stall), assets

@@ -13,6 +13,7 @@ import matplotlib
 
 matplotlib.use("Agg")
 import matplotlib.pyplot as plt  # noqa: E402
+import matplotlib.ticker  # noqa: E402
 import numpy as np  # noqa: E402
 
 plt.rcParams.update({
@@ -23,17 +24,27 @@ plt.rcParams.update({
 AXIS_COLORS = {"gx": "#1f5fa8", "gy": "#2a8a3e", "gz": "#b0301f"}
 FINDING_COLOR = "#d11a1a"
 WIDTH_IN = 6.7  # fits A4 and US Letter with 2 cm margins
+LOG_TICKS = [0.01, 0.1, 1.0, 10.0, 100.0]
+
+
+def _log_duration_axis(ax) -> None:
+    """Plain decade labels and no minor ticks: legible and cheap to draw."""
+    ax.set_xscale("log")
+    ax.xaxis.set_major_locator(matplotlib.ticker.FixedLocator(LOG_TICKS))
+    ax.xaxis.set_major_formatter(matplotlib.ticker.FixedFormatter(
+        ["0.01", "0.1", "1", "10", "100"]))
+    ax.xaxis.set_minor_locator(matplotlib.ticker.NullLocator())
 
 
 def _svg(fig) -> str:
     buf = io.StringIO()
-    fig.savefig(buf, format="svg", bbox_inches="tight", metadata={"Date": None})
+    fig.savefig(buf, format="svg", metadata={"Date": None})
     plt.close(fig)
     text = buf.getvalue()
     return text[text.index("<svg"):]
 
 
-def envelope_decimate(x: np.ndarray, y: np.ndarray, bins: int = 700):
+def envelope_decimate(x: np.ndarray, y: np.ndarray, bins: int = 400):
     """Keep the minimum and maximum of y in each of ``bins`` equal slices (peaks survive)."""
     n = len(x)
     if n <= 2 * bins:
@@ -46,6 +57,19 @@ def envelope_decimate(x: np.ndarray, y: np.ndarray, bins: int = 700):
         keep.extend(sorted((i, j)))
     keep = np.asarray(keep)
     return x[keep], y[keep]
+
+
+def path_decimate(points: np.ndarray, tolerance: float) -> np.ndarray:
+    """Indices of a 2-D path's points, keeping one whenever the path has moved more than
+    ``tolerance`` from the last kept point (no shortcuts across fast excursions)."""
+    keep = [0]
+    last = points[0]
+    for i, p in enumerate(points.tolist()):
+        if abs(p[0] - last[0]) > tolerance or abs(p[1] - last[1]) > tolerance:
+            keep.append(i)
+            last = p
+    keep.append(len(points) - 1)
+    return np.asarray(keep)
 
 
 def layout_views(position: np.ndarray, s: np.ndarray, marks: list[tuple[float, str]],
@@ -121,42 +145,46 @@ def time_histories(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
     axes[0].set_title(title)
     axes[0].legend(loc="upper right", ncol=3)
     axes[-1].set_xlabel("time [s]")
-    fig.tight_layout()
+    fig.subplots_adjust(left=0.09, right=0.98, top=0.95, bottom=0.07, hspace=0.12)
     return _svg(fig)
 
 
 def exposure_curves(curves: list[dict], title: str) -> str:
-    """Exposure curves (highest level sustained for at least a duration) against limits.
+    """Exposure curves (highest level sustained for at least a duration) against limits,
+    one panel per axis with both directions.
 
-    Each dict: name, durations [s], levels [g], limit_durations [s], limit_levels [g],
-    and optionally overlay_levels with overlay_label.
+    Each dict: name, axis, durations [s], levels [g], limit_durations [s], limit_levels [g],
+    and optionally overlay_durations, overlay_levels with overlay_label.
     """
-    n = len(curves)
-    cols = 3 if n > 2 else max(n, 1)
-    rows = int(np.ceil(n / cols)) if n else 1
-    fig, axes = plt.subplots(rows, cols, figsize=(WIDTH_IN, 2.1 * rows + 0.3), squeeze=False)
-    for ax, c in zip(axes.flat, curves):
-        d, lv = c["durations"], c["levels"]
-        keep = np.unique(np.geomspace(1, len(d), min(len(d), 300)).astype(int) - 1)
-        ax.semilogx(d[keep], lv[keep], color="#1f5fa8", lw=1.0, label="ride")
-        if c.get("overlay_levels") is not None:
-            od = c["overlay_durations"]
-            k2 = np.unique(np.geomspace(1, len(od), min(len(od), 300)).astype(int) - 1)
-            ax.semilogx(od[k2], c["overlay_levels"][k2], color="#222222", lw=0.9, ls="--",
-                        label=c.get("overlay_label", "other"))
-        lim_d = np.asarray(c["limit_durations"], dtype=float)
-        ax.semilogx(np.maximum(lim_d, d[0]), c["limit_levels"], color=FINDING_COLOR, lw=1.2,
-                    drawstyle="steps-post" if c.get("step") else "default", label="limit")
-        ax.set_title(c["name"])
+    axes_names = [a for a in ("gx", "gy", "gz") if any(c["axis"] == a for c in curves)]
+    fig, axes = plt.subplots(1, max(len(axes_names), 1), figsize=(WIDTH_IN, 2.6),
+                             squeeze=False)
+    for panel, (ax, axis) in enumerate(zip(axes.flat, axes_names)):
+        _log_duration_axis(ax)
+        longest = 1.0
+        for n, c in enumerate(c for c in curves if c["axis"] == axis):
+            first = panel == 0 and n == 0
+            d, lv = c["durations"], c["levels"]
+            keep = np.unique(np.geomspace(1, len(d), min(len(d), 160)).astype(int) - 1)
+            ax.plot(d[keep], lv[keep], color=AXIS_COLORS[axis], lw=1.0,
+                    label="ride" if first else None)
+            if c.get("overlay_levels") is not None:
+                od, ol = c["overlay_durations"], c["overlay_levels"]
+                k2 = np.unique(np.geomspace(1, len(od), min(len(od), 160)).astype(int) - 1)
+                ax.plot(od[k2], ol[k2], color="#222222", lw=0.9, ls="--",
+                        label=c.get("overlay_label") if first else None)
+            lim_d = np.asarray(c["limit_durations"], dtype=float)
+            ax.plot(np.maximum(lim_d, d[0]), c["limit_levels"], color=FINDING_COLOR, lw=1.2,
+                    drawstyle="steps-post" if c.get("step") else "default",
+                    label="limit" if first else None)
+            longest = max(longest, d[-1], lim_d[-1])
+        ax.set_xlim(curves[0]["durations"][0], longest)
+        ax.set_title(" / ".join(c["name"] for c in curves if c["axis"] == axis))
         ax.set_xlabel("duration [s]")
-        ax.set_ylabel("level [g]")
-        ax.set_xlim(d[0], max(d[-1], lim_d[-1] if len(lim_d) else 1.0))
-    for ax in list(axes.flat)[n:]:
-        ax.set_visible(False)
-    if n:
-        axes.flat[0].legend(loc="best")
+        ax.set_ylabel(f"{axis.capitalize()} level [g]")
+    axes.flat[0].legend(loc="best")
     fig.suptitle(title, fontsize=9)
-    fig.tight_layout()
+    fig.subplots_adjust(left=0.08, right=0.98, top=0.82, bottom=0.17, wspace=0.35)
     return _svg(fig)
 
 
@@ -169,9 +197,9 @@ def combined_scatter(panels: list[dict], title: str) -> str:
     fig, axes = plt.subplots(1, max(n, 1), figsize=(WIDTH_IN, 3.0), squeeze=False)
     for ax, p in zip(axes.flat, panels):
         pts = p["points"]
-        step = max(1, len(pts) // 2500)
+        path = pts[path_decimate(pts, 0.02)]
         # the trajectory as one path (one SVG node), not thousands of markers
-        ax.plot(pts[::step, 0], pts[::step, 1], lw=0.5, color="#1f5fa8", alpha=0.7)
+        ax.plot(path[:, 0], path[:, 1], lw=0.5, color="#1f5fa8", alpha=0.7)
         out = p["outside"]
         if out.any():
             shown = np.where(out, pts[:, 1], np.nan)  # breaks the line between excursions
@@ -182,5 +210,5 @@ def combined_scatter(panels: list[dict], title: str) -> str:
         ax.set_ylabel(f"{p['axes'][1].capitalize()} [g]")
         ax.set_title(p["name"])
     fig.suptitle(title, fontsize=9)
-    fig.tight_layout()
+    fig.subplots_adjust(left=0.08, right=0.98, top=0.85, bottom=0.15, wspace=0.3)
     return _svg(fig)

@@ -1,8 +1,9 @@
 """PDF rendering with weasyprint, reaching nothing outside the project's templates.
 
-The HTML carries its CSS and SVG inline, so a report needs no fetch at all; the URL fetcher
-still serves files under ``templates/`` (for assets a template may name) and refuses every
-other URL: no local files, no network, no data the user slipped into a name.
+The HTML carries its CSS inline; its figures are SVG documents held in memory and named by
+``checker-asset:`` URLs (weasyprint draws them as vectors, and parses them far faster than
+inline markup). The URL fetcher serves those, and files under ``templates/``, and refuses
+every other URL: no local files, no network, no data the user slipped into a name.
 """
 
 from __future__ import annotations
@@ -15,18 +16,26 @@ from urllib.parse import unquote, urlparse
 from weasyprint import HTML
 from weasyprint.urls import URLFetcher, URLFetcherResponse
 
-from .document import TEMPLATES
+TEMPLATES = Path(__file__).resolve().parents[2] / "templates"
+
+
+ASSET_SCHEME = "checker-asset"
 
 
 class TemplatesOnlyFetcher(URLFetcher):
-    """Serves ``file:`` URLs inside the templates folder; refuses everything else."""
+    """Serves ``file:`` URLs inside the templates folder and the figures made for this
+    report (``checker-asset:NAME``); refuses everything else."""
 
-    def __init__(self, root: Path = TEMPLATES) -> None:
-        super().__init__(allowed_protocols={"file"}, allow_redirects=False)
+    def __init__(self, root: Path = TEMPLATES, assets: dict[str, str] | None = None) -> None:
+        super().__init__(allowed_protocols={"file", ASSET_SCHEME}, allow_redirects=False)
         self.root = Path(root).resolve()
+        self.assets = assets or {}
         self.refused: list[str] = []
 
     def fetch(self, url, headers=None):  # noqa: D401 - weasyprint's signature
+        if url.startswith(ASSET_SCHEME + ":") and url[len(ASSET_SCHEME) + 1:] in self.assets:
+            body = self.assets[url[len(ASSET_SCHEME) + 1:]].encode("utf-8")
+            return URLFetcherResponse(url, body, {"Content-Type": "image/svg+xml"})
         parsed = urlparse(url)
         if parsed.scheme == "file":
             path = Path(unquote(parsed.path)).resolve()
