@@ -6,8 +6,9 @@ lift hill, first drop, a parabolic airtime hill, a vertical loop, a banked turn,
 brake run back to the station. Revision A has a circular loop; revision B replaces it with a
 teardrop loop of the same height, shaped step by step for a target Gz at the estimated speed.
 
-Run from the project root:  python sample_tracks/generate.py
-It rewrites the CSV and operation files beside it, byte for byte the same each time.
+Run from the project root:  python sample_tracks/generate.py [FOLDER]
+It rewrites the CSV and operation files beside it (or in FOLDER), byte for byte the same
+each time.
 """
 
 from __future__ import annotations
@@ -277,43 +278,45 @@ def rails_from_heartline(rows: list) -> tuple[np.ndarray, np.ndarray]:
     return rails, rail_roll
 
 
-def write(shape: str, rev: str, what: str) -> None:
+def write(shape: str, rev: str, what: str, out: Path = HERE) -> None:
     b = build(shape)
     rails, roll = rails_from_heartline(b.rows)
     lines = [HEADER.format(rev=rev, what=what)]
     lines += [f"{x:.4f},{y:.4f},{z:.4f},{r:.3f}\n" for (x, y, z), r in zip(rails, roll)]
-    (HERE / f"thistle_comet_rev{rev}.csv").write_text("".join(lines))
-    (HERE / f"thistle_comet_rev{rev}.operation.toml").write_text(OPERATION.format(
+    (out / f"thistle_comet_rev{rev}.csv").write_text("".join(lines))
+    (out / f"thistle_comet_rev{rev}.operation.toml").write_text(OPERATION.format(
         rev=rev, station_end=b.marks["lift_start"] - 2.0, lift_start=b.marks["lift_start"],
         lift_end=b.marks["lift_end"]))
 
 
-def main() -> None:
-    write("circular", "A", "Circular vertical loop.")
-    write("teardrop", "B", "Teardrop vertical loop of the same height.")
-    write_recorded_sample()
+def main(out: Path = HERE) -> None:
+    write("circular", "A", "Circular vertical loop.", out)
+    write("teardrop", "B", "Teardrop vertical loop of the same height.", out)
+    write_recorded_sample(out)
 
 
-def write_recorded_sample() -> None:
+def write_recorded_sample(out: Path = HERE) -> None:
     """A SYNTHETIC 'recorded' history: the simulator's front-left seat on revision B with
     seeded noise and a 14 Hz structural buzz added, at 200 Hz, for check-history."""
     from checker.ride import RideOptions, load_inputs, run_ride
 
-    line, train, ops = load_inputs(HERE / "thistle_comet_revB.csv",
+    line, train, ops = load_inputs(out / "thistle_comet_revB.csv",
                                    HERE / "thistle_comet_train.toml",
-                                   operation=HERE / "thistle_comet_revB.operation.toml")
+                                   operation=out / "thistle_comet_revB.operation.toml")
     result = run_ride(line, train, ops, RideOptions(rate_hz=100.0))
     rng = np.random.default_rng(20261201)
-    out = ["# SYNTHETIC test-ride record for the fictional ride \"Thistle Comet\" rev B: made by\n"
-           "# sample_tracks/generate.py from the simulator plus seeded noise; not measured data.\n"
-           "# Columns: seat, t [s], gx, gy, gz [g].\n", "seat,t,gx,gy,gz\n"]
+    lines = ["# SYNTHETIC test-ride record for the fictional ride \"Thistle Comet\" rev B: "
+             "made by\n# sample_tracks/generate.py from the simulator plus seeded noise; not "
+             "measured data.\n# Columns: seat, t [s], gx, gy, gz [g].\n", "seat,t,gx,gy,gz\n"]
     for h in result.histories[:1]:
         noise = rng.normal(0.0, 0.04, h.g.shape)
         buzz = 0.08 * np.sin(2 * np.pi * 14.0 * h.t)[:, None] * np.array([0.3, 0.5, 1.0])
         g = h.g + noise + buzz
-        out += [f"{h.seat},{t:.3f},{a:.4f},{b:.4f},{c:.4f}\n" for t, (a, b, c) in zip(h.t, g)]
-    (HERE / "thistle_comet_revB_recorded_synthetic.csv").write_text("".join(out))
+        lines += [f"{h.seat},{t:.3f},{a:.4f},{b:.4f},{c:.4f}\n" for t, (a, b, c) in zip(h.t, g)]
+    (out / "thistle_comet_revB_recorded_synthetic.csv").write_text("".join(lines))
 
 
 if __name__ == "__main__":
-    main()
+    import sys
+
+    main(Path(sys.argv[1]) if len(sys.argv) > 1 else HERE)

@@ -27,7 +27,10 @@ from checker.rules import evaluate, exposure_brute_force, exposure_curve
 RATE = 200.0
 
 
-def limit_set(duration=(), combined=(), onset=(), spec=FilterSpec()):
+DEFAULT_FILTER = FilterSpec()
+
+
+def limit_set(duration=(), combined=(), onset=(), spec=DEFAULT_FILTER):
     return LimitSet("test", "", "", False, spec, tuple(duration), tuple(combined), tuple(onset))
 
 

@@ -1,0 +1,95 @@
+"""The bundled demo end to end, and the generator's reproducibility."""
+
+from __future__ import annotations
+
+import importlib.util
+import json
+import sys
+from pathlib import Path
+
+import numpy as np
+from pypdf import PdfReader
+
+from checker.cli import main
+from checker.conditioning import lowpass
+from checker.envelope import load_limits
+from checker.findings import BUNDLED_LIMITS
+from checker.ride import load_inputs, run_ride
+
+SAMPLES = Path(__file__).resolve().parents[1] / "sample_tracks"
+
+
+def generator():
+    if "demo_generate" not in sys.modules:
+        spec = importlib.util.spec_from_file_location("demo_generate",
+                                                      SAMPLES / "generate.py")
+        module = importlib.util.module_from_spec(spec)
+        sys.modules["demo_generate"] = module  # dataclasses look their module up
+        spec.loader.exec_module(module)
+    return sys.modules["demo_generate"]
+
+
+def loop_stations(rev: str) -> tuple[float, float]:
+    """Stations of the loop, from the generator's element marks (heartline stations, which
+    differ from rail stations by much less than the margin used)."""
+    marks = generator().build({"A": "circular", "B": "teardrop"}[rev]).marks
+    return marks["loop_start"], marks["loop_end"]
+
+
+def test_demo_writes_both_reports_with_expected_verdicts(tmp_path, capsys):
+    out = tmp_path / "demo"
+    assert main(["demo", "--out", str(out)]) == 0
+    printed = capsys.readouterr().out
+    assert "revision A (circular loop): FAIL" in printed
+    assert "revision B (teardrop loop): PASS" in printed
+    for rev in "AB":
+        pdf = out / f"thistle_comet_rev{rev}.pdf"
+        assert pdf.exists() and len(PdfReader(str(pdf)).pages) >= 3
+    doc_a = json.loads((out / "thistle_comet_revA.json").read_text())
+    doc_b = json.loads((out / "thistle_comet_revB.json").read_text())
+    assert doc_a["verdict"] == "fail" and doc_b["verdict"] == "pass"
+    start, end = loop_stations("A")
+    # every finding of revision A lies at the loop (its entry and exit at the bottom)
+    assert all(start - 15 <= f["s_start_m"] <= end + 15 for f in doc_a["findings"])
+    assert any(f["rule"] == "duration +Gz" for f in doc_a["findings"])
+
+
+def test_teardrop_loop_has_lower_peak_gz_than_circular():
+    # Common practice: a teardrop (clothoid-sided) loop of the same height and top speed
+    # gives a much lower Gz at the bottom than a circular loop.
+    limits = load_limits(BUNDLED_LIMITS)
+    peaks = {}
+    for rev in "AB":
+        line, train, ops = load_inputs(SAMPLES / f"thistle_comet_rev{rev}.csv",
+                                       SAMPLES / "thistle_comet_train.toml",
+                                       operation=SAMPLES / f"thistle_comet_rev{rev}.operation.toml")
+        result = run_ride(line, train, ops)
+        start, end = loop_stations(rev)
+        best = 0.0
+        for h in result.histories:
+            gz = lowpass(h.g, 200.0, limits.filter)[:, 2]
+            inside = (h.s > start - 5) & (h.s < end + 5)
+            best = max(best, float(gz[inside].max()))
+        peaks[rev] = best
+        heights = result.geometry.position[:, 2]
+        loop = (result.geometry.s > start) & (result.geometry.s < end)
+        peaks[rev + "_height"] = float(np.ptp(heights[loop]))
+    assert peaks["B"] < peaks["A"] - 0.8
+    assert abs(peaks["A_height"] - peaks["B_height"]) < 1.0  # same height
+
+
+def test_generator_reproduces_committed_files(tmp_path):
+    generator().main(tmp_path)
+    made = sorted(p.name for p in tmp_path.iterdir())
+    assert made == sorted(["thistle_comet_revA.csv", "thistle_comet_revB.csv",
+                           "thistle_comet_revA.operation.toml",
+                           "thistle_comet_revB.operation.toml",
+                           "thistle_comet_revB_recorded_synthetic.csv"])
+    for name in made:
+        assert (tmp_path / name).read_bytes() == (SAMPLES / name).read_bytes(), name
+
+
+def test_synthetic_record_passes_check_history(capsys):
+    record = SAMPLES / "thistle_comet_revB_recorded_synthetic.csv"
+    assert "SYNTHETIC" in record.read_text()[:200]
+    assert main(["check-history", str(record)]) == 0
