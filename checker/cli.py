@@ -69,6 +69,7 @@ def build_parser() -> argparse.ArgumentParser:
     chk = sub.add_parser("check", help="simulate and check every seat against a limit set")
     _add_ride_options(chk)
     _add_check_options(chk)
+    _add_case_options(chk)
     hist = sub.add_parser("check-history",
                           help="check a recorded or exported history against a limit set")
     hist.add_argument("history", help="CSV with t, gx, gy, gz (optional seat)")
@@ -94,6 +95,16 @@ def _add_check_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--layout-name", default=None, help="layout name (default: file name)")
     p.add_argument("--revision", default="(not given)", help="layout revision for the report")
     p.add_argument("--case", default="nominal", help="name of the load case (default nominal)")
+
+
+def _add_case_options(p: argparse.ArgumentParser) -> None:
+    p.add_argument("--cases", metavar="CASES.toml",
+                   help="load cases to run for every seat ('standard' for the shipped set)")
+    p.add_argument("--workers", type=int, default=None, metavar="N",
+                   help="local worker processes for the cases (default: all cores)")
+    p.add_argument("--scheduler", metavar="ADDRESS",
+                   help="run the cases on a Dask cluster, e.g. tcp://10.0.0.5:8786")
+    p.add_argument("--quiet", action="store_true", help="no progress bar")
 
 
 def _limits(args: argparse.Namespace):
@@ -122,17 +133,25 @@ def _finish(args, run, source: str, parameters: list) -> int:
     for warning in evaluation.warnings:
         print(f"warning: {warning}", file=sys.stderr)
     print(summary_table(evaluation))
+    if run.sweep is not None:
+        from .findings import sweep_document, sweep_tables
+
+        print(sweep_tables(run.sweep))
+        extra_sweep = sweep_document(run.sweep)
+    else:
+        extra_sweep = {}
     if evaluation.limits.illustrative:
         print("note: the limit set is ILLUSTRATIVE; the verdict says nothing about compliance")
     print("caution: " + CAUTION)
     command = _command_line()
-    extra = {"stall": run.stall}
+    extra = {"stall": run.stall, **extra_sweep}
     if args.pdf:
         from .report import ReportMeta, write_report
 
         meta = ReportMeta(project=args.project, layout=args.layout_name or source,
                           revision=args.revision, page_size=args.page_size, command=command,
-                          inputs=run.inputs, parameters=parameters, stall=run.stall)
+                          inputs=run.inputs, parameters=parameters, stall=run.stall,
+                          sweep=run.sweep)
         pdf, sidecar = write_report(run, args.pdf, meta, args.json, extra)
         print(f"wrote {pdf} and {sidecar}")
     elif args.json:
@@ -166,15 +185,61 @@ def _cmd_check(args: argparse.Namespace) -> int:
     line, train, ops = load_inputs(args.track, args.train, ideal=args.ideal,
                                    operation=args.operation, start_speed_m_s=args.start_speed,
                                    units=args.units)
-    run = run_check(line, train, ops, limits, RideOptions(rate_hz=args.rate,
-                                                          smoothing_m=args.smoothing),
-                    args.case)
+    options = RideOptions(rate_hz=args.rate, smoothing_m=args.smoothing)
+    extra_inputs: list = []
+    if args.cases:
+        run, cases_file = _run_sweep(args, line, train, ops, limits, options)
+        extra_inputs = [cases_file]
+    else:
+        run = run_check(line, train, ops, limits, options, args.case)
     if run.stall:
         print(f"checker: {run.stall}", file=sys.stderr)
-    run.inputs = _inputs(args.track, args.train, args.operation) + list(limits.files)
+    run.inputs = (_inputs(args.track, args.train, args.operation, *extra_inputs)
+                  + list(limits.files))
     params = ride_parameters(run.ride) + [("track length unit", args.units),
                                           ("filter", limits.filter.describe())]
+    if args.cases:
+        params.append(("load cases", f"{args.cases} ({len(_CASES_SEEN)} cases: "
+                       + ", ".join(_CASES_SEEN) + ")"))
     return _finish(args, run, Path(args.track).stem, params)
+
+
+_CASES_SEEN: list[str] = []
+
+
+class Progress:
+    """A one-line progress bar on stderr, only on a terminal."""
+
+    def __init__(self, label: str, quiet: bool) -> None:
+        self.label = label
+        self.active = not quiet and sys.stderr.isatty()
+
+    def __call__(self, done: int, total: int) -> None:
+        if not self.active:
+            return
+        width = 30
+        filled = int(width * done / total)
+        sys.stderr.write(f"\r{self.label} [{'#' * filled}{'.' * (width - filled)}] "
+                         f"{done}/{total}")
+        if done == total:
+            sys.stderr.write("\n")
+        sys.stderr.flush()
+
+
+def _run_sweep(args, line, train, ops, limits, options):
+    from .cases import STANDARD_CASES, load_cases, run_cases, sweep_check_run
+
+    cases_file = STANDARD_CASES if args.cases == "standard" else args.cases
+    cases = load_cases(cases_file)
+    for case in cases:  # fail early on a case that does not fit the train
+        from .cases import apply_case
+        apply_case(train, ops, options, case)
+    _CASES_SEEN[:] = [c.name for c in cases]
+    sweep = run_cases(line, train, ops, limits, options, cases, workers=args.workers,
+                      scheduler=args.scheduler, progress=Progress("cases", args.quiet))
+    run = sweep_check_run(sweep, line, train, ops, limits, options, cases)
+    run.sweep = sweep
+    return run, cases_file
 
 
 def _cmd_check_history(args: argparse.Namespace) -> int:

@@ -64,17 +64,63 @@ def to_json(doc: dict) -> str:
 
 
 def summary_table(evaluation: Evaluation) -> str:
-    """One line per seat: filtered extremes per axis, number of findings, verdict."""
-    head = (f"{'seat':<14} {'case':<10} {'gx min':>7} {'gx max':>7} {'gy min':>7} "
+    """One line per seat: filtered extremes per axis (over all load cases), number of
+    findings, verdict."""
+    rows: dict[str, dict] = {}
+    for s in evaluation.seats:
+        row = rows.setdefault(s.seat, {"cases": [], "n": 0, "worst": {}})
+        row["cases"].append(s.case)
+        row["n"] += len(s.findings)
+        for a in AXES:
+            lo, hi = row["worst"].get(a, (math.inf, -math.inf))
+            row["worst"][a] = (min(lo, s.worst[a][0]), max(hi, s.worst[a][1]))
+    head = (f"{'seat':<14} {'case':<14} {'gx min':>7} {'gx max':>7} {'gy min':>7} "
             f"{'gy max':>7} {'gz min':>7} {'gz max':>7} {'findings':>8}  verdict")
     lines = [head, "-" * len(head)]
-    for s in evaluation.seats:
-        vals = " ".join(f"{v:7.2f}" for a in AXES for v in s.worst[a])
-        lines.append(f"{s.seat:<14} {s.case:<10} {vals} {len(s.findings):8d}  {s.verdict}")
-    kinds = {}
+    for seat, row in rows.items():
+        case = row["cases"][0] if len(row["cases"]) == 1 else f"{len(row['cases'])} cases"
+        vals = " ".join(f"{v:7.2f}" for a in AXES for v in row["worst"][a])
+        lines.append(f"{seat:<14} {case:<14} {vals} {row['n']:8d}  "
+                     f"{'fail' if row['n'] else 'pass'}")
+    kinds: dict[str, int] = {}
     for f in evaluation.findings:
         kinds[f.kind] = kinds.get(f.kind, 0) + 1
     counts = ", ".join(f"{n} {k}" for k, n in sorted(kinds.items())) or "none"
     lines.append(f"overall: {evaluation.verdict.upper()} ({len(evaluation.findings)} findings: "
                  f"{counts})")
+    return "\n".join(lines)
+
+
+def sweep_document(sweep) -> dict:
+    """Cases, the seat x case verdict matrix and the governing finding of each rule."""
+    seats, cases, cells = sweep.matrix()
+    return _clean({
+        "cases": [{"case": o.case, "verdict": "fail" if (o.evaluation.verdict == "fail"
+                                                          or o.stall) else "pass",
+                   "findings": len(o.evaluation.findings), "stall": o.stall,
+                   "top_speed_m_s": o.top_speed_m_s, "ride_time_s": o.duration_s}
+                  for o in sweep.outcomes],
+        "matrix": {seat: {case: cells[(seat, case)] for case in cases} for seat in seats},
+        "governing": [{"rule": f.rule, "seat": f.seat, "case": f.case, "peak_g": f.peak_g,
+                       "limit_g": f.limit_g, "margin": f.margin, "s_start_m": f.s_start_m}
+                      for f in sweep.governing()],
+    })
+
+
+def sweep_tables(sweep) -> str:
+    """Terminal view of a sweep: governing seat and case per rule, and the verdict matrix."""
+    lines = ["governing seat and case per rule:"]
+    governing = sweep.governing()
+    for f in governing:
+        lines.append(f"  {f.rule:<26} {f.seat:<12} {f.case:<20} peak {f.peak_g:7.2f}  limit "
+                     f"{f.limit_g:7.2f}  margin {f.margin:7.2f}")
+    if not governing:
+        lines.append("  (no finding in any case)")
+    seats, cases, cells = sweep.matrix()
+    lines.append("verdicts, seat by case (P pass, F fail):")
+    lines.append(" " * 14 + " ".join(f"{i + 1:>2}" for i in range(len(cases))))
+    for seat in seats:
+        marks = " ".join(f"{'F' if cells[(seat, c)] == 'fail' else 'P':>2}" for c in cases)
+        lines.append(f"  {seat:<12}{marks}")
+    lines.append("  cases: " + ", ".join(f"{i + 1} {c}" for i, c in enumerate(cases)))
     return "\n".join(lines)

@@ -182,17 +182,37 @@ class _Context:
         return out
 
 
-def _duration_findings(x: np.ndarray, dt: float, rule: DurationLimit,
-                       ctx: _Context) -> tuple[list[Finding], Exposure]:
+def windows_above(x: np.ndarray, floor: float) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Sustained windows of the samples above ``floor`` only: (sample index, first, last).
+
+    Samples at or below the floor can never exceed a limit that is above it, so they only
+    bound the windows; leaving them out makes the check fast on long, mostly quiet rides.
+    """
+    above = x > floor
+    keep = above | np.concatenate([[False], above[:-1]])  # one barrier after each run
+    idx = np.flatnonzero(keep)
+    if idx.size == 0:
+        empty = np.zeros(0, dtype=np.intp)
+        return empty, empty, empty
+    values = np.where(above[idx], x[idx], -np.inf)
+    left, right = sustained_windows(values)
+    real = above[idx]
+    return idx[real], idx[left[real]], idx[right[real]]
+
+
+def _duration_findings(x: np.ndarray, dt: float, rule: DurationLimit, ctx: _Context,
+                       full_curve: bool = True) -> tuple[list[Finding], Exposure | None]:
     signed = rule.sign * x
-    exposure = exposure_curve(signed, dt)
-    exposure = Exposure(exposure.durations_s, rule.sign * exposure.levels_g)
-    allowed_mag = rule.sign * rule.allowed(exposure.durations_s)
-    if not np.any(rule.sign * exposure.levels_g > allowed_mag):
+    exposure = None
+    if full_curve:
+        curve = exposure_curve(signed, dt)
+        exposure = Exposure(curve.durations_s, rule.sign * curve.levels_g)
+    floor = float(np.min(rule.sign * rule.levels_g))
+    samples, left, right = windows_above(signed, floor)
+    if samples.size == 0:
         return [], exposure
-    left, right = sustained_windows(signed)
     width = right - left + 1
-    level = signed
+    level = signed[samples]
     allowed = rule.sign * rule.allowed(width * dt)
     bad = np.flatnonzero(level > allowed + 1e-12)
     findings = []
@@ -284,9 +304,11 @@ def evaluate_seat(seat, limits: LimitSet, case: str = "nominal",
     findings: list[Finding] = []
     exposures = {}
     for rule in limits.duration:
-        found, exposure = _duration_findings(filtered[:, AXIS_INDEX[rule.axis]], dt, rule, ctx)
+        found, exposure = _duration_findings(filtered[:, AXIS_INDEX[rule.axis]], dt, rule, ctx,
+                                             keep_signals)
         findings += found
-        exposures[rule.name] = exposure
+        if exposure is not None:
+            exposures[rule.name] = exposure
     for env in limits.combined:
         findings += _combined_findings(filtered, env, ctx)
     for onset in limits.onset:
@@ -298,8 +320,11 @@ def evaluate_seat(seat, limits: LimitSet, case: str = "nominal",
                       filtered if keep_signals else None, t if keep_signals else None)
 
 
-def evaluate(seats, limits: LimitSet, case: str = "nominal") -> Evaluation:
-    """Every rule of ``limits`` for every rider signal in ``seats``."""
+def evaluate(seats, limits: LimitSet, case: str = "nominal",
+             keep_signals: bool = True) -> Evaluation:
+    """Every rule of ``limits`` for every rider signal in ``seats``. Without
+    ``keep_signals`` the filtered signals and exposure curves are not kept (for sweeps)."""
     seats = list(seats)
     warnings = check_filter_rate(limits, sample_rate(seats[0].t)) if seats else []
-    return Evaluation(limits, [evaluate_seat(s, limits, case) for s in seats], warnings)
+    return Evaluation(limits, [evaluate_seat(s, limits, case, keep_signals) for s in seats],
+                      warnings)

@@ -35,6 +35,7 @@ class ReportMeta:
     review_items: list[str] = field(default_factory=list)
     stall: str | None = None
     date: str = ""
+    sweep: object | None = None  # checker.cases.Sweep: adds the governing and matrix tables
 
 
 def _env() -> jinja2.Environment:
@@ -180,6 +181,22 @@ def _lean(signal):
     return None if signal is None else _RawSignal(np.asarray(signal.g))
 
 
+def _sweep_context(sweep) -> dict | None:
+    if sweep is None:
+        return None
+    seats, cases, cells = sweep.matrix()
+    return {
+        "cases": [{"n": i + 1, "name": o.case, "findings": len(o.evaluation.findings),
+                   "verdict": "fail" if o.evaluation.verdict == "fail" or o.stall else "pass",
+                   "stall": o.stall or "", "top": f"{o.top_speed_m_s:.2f}"}
+                  for i, o in enumerate(sweep.outcomes)],
+        "matrix": [{"seat": s, "cells": [cells[(s, c)] for c in cases]} for s in seats],
+        "governing": [{"rule": f.rule, "seat": f.seat, "case": f.case, "peak": _fmt(f.peak_g),
+                       "limit": _fmt(f.limit_g), "margin": _fmt(f.margin),
+                       "station": _fmt(f.s_start_m, 1)} for f in sweep.governing()],
+    }
+
+
 def build_html(evaluation: Evaluation, signals: dict, ride,
                meta: ReportMeta) -> tuple[str, dict[str, str]]:
     """The whole report as HTML with inline CSS, and its SVG figures by asset name.
@@ -246,4 +263,4 @@ def build_html(evaluation: Evaluation, signals: dict, ride,
         layout_svg=layout_svg, station_every=station_every, seat_sections=sections,
         method=meta.method, parameters=meta.parameters, inputs=[
             {"file": f, "sha256": h} for f, h in meta.inputs], command=meta.command,
-        stall=meta.stall), assets
+        stall=meta.stall, sweep=_sweep_context(meta.sweep)), assets

@@ -1,0 +1,288 @@
+"""Load cases and sweeps: every case for every seat, on local cores or a Dask cluster.
+
+A load-cases TOML file names cases, each overriding what varies in practice (see
+``load_cases/standard.toml``). :func:`run_cases` evaluates every case through the same
+orchestration entry as a single check (:func:`checker.ride.run_check`), in a process pool by
+default; results are the same whichever executor runs them.
+"""
+
+from __future__ import annotations
+
+import os
+import sys
+from collections.abc import Callable
+from dataclasses import dataclass, replace
+from pathlib import Path
+
+import numpy as np
+
+from .envelope import LimitSet
+from .errors import InputError
+from .operation import Operation
+from .ride import RideOptions, run_check
+from .rules import Evaluation, Finding
+from .tabular import Fields, load_toml
+from .track import Centerline
+from .train import Train
+
+OCCUPANCY_WORDS = ("empty", "full", "front-half", "rear-half")
+STANDARD_CASES = Path(__file__).resolve().parents[1] / "load_cases" / "standard.toml"
+
+
+@dataclass(frozen=True)
+class LoadCase:
+    """Overrides of one load case; None keeps the train's or operation's value."""
+
+    name: str = "nominal"
+    occupancy: str | float | tuple[float, ...] | None = None
+    rider_mass_kg: float | None = None
+    rolling_coefficient: float | None = None
+    rolling_coefficient_factor: float = 1.0
+    drag_area_m2: float | None = None
+    air_density_kg_m3: float | None = None
+    head_wind_m_s: float | None = None
+    start_speed_m_s: float | None = None
+    lift_speed_factor: float = 1.0
+
+    def occupancy_by_car(self, cars: int) -> tuple[float, ...] | None:
+        occ = self.occupancy
+        if occ is None:
+            return None
+        if isinstance(occ, tuple):
+            return occ
+        if isinstance(occ, float):
+            return (occ,) * cars
+        front = (cars + 1) // 2
+        return {"empty": (0.0,) * cars, "full": (1.0,) * cars,
+                "front-half": (1.0,) * front + (0.0,) * (cars - front),
+                "rear-half": (0.0,) * (cars - front) + (1.0,) * front}[occ]
+
+
+def load_cases(path: str | Path) -> list[LoadCase]:
+    path = Path(path)
+    doc = Fields(path, load_toml(path))
+    cases = []
+    names = set()
+    for f in doc.table_list("case"):
+        name = f.text("name")
+        if name in names:
+            raise f.error("name", f"case name '{name}' is used twice", "give each case its own")
+        names.add(name)
+        occ = f.raw("occupancy")
+        if occ is not None:
+            if isinstance(occ, str):
+                if occ not in OCCUPANCY_WORDS:
+                    raise f.error("occupancy", f"'{occ}' is not one of "
+                                  f"{', '.join(OCCUPANCY_WORDS)}", "or give a fraction 0..1")
+            elif isinstance(occ, list):
+                if not occ or not all(isinstance(v, (int, float)) and not isinstance(v, bool)
+                                      and 0 <= v <= 1 for v in occ):
+                    raise f.error("occupancy", "a list must hold one fraction 0..1 per car")
+                occ = tuple(float(v) for v in occ)
+            elif isinstance(occ, (int, float)) and not isinstance(occ, bool) and 0 <= occ <= 1:
+                occ = float(occ)
+            else:
+                raise f.error("occupancy", f"{occ!r} is not an occupancy",
+                              "use a fraction 0..1, a word such as \"full\", or a list per car")
+
+        def opt(key, **kw):
+            return f.number(key, **kw) if f.has(key) else None
+
+        case = LoadCase(
+            name=name, occupancy=occ,
+            rider_mass_kg=opt("rider_mass_kg", positive=True, maximum=500),
+            rolling_coefficient=opt("rolling_coefficient", minimum=0, maximum=0.5),
+            rolling_coefficient_factor=f.number("rolling_coefficient_factor", 1.0,
+                                                minimum=0, maximum=10),
+            drag_area_m2=opt("drag_area_m2", minimum=0, maximum=100),
+            air_density_kg_m3=opt("air_density_kg_m3", positive=True, maximum=5),
+            head_wind_m_s=opt("head_wind_m_s", minimum=-60, maximum=60),
+            start_speed_m_s=opt("start_speed_m_s", minimum=0, maximum=100),
+            lift_speed_factor=f.number("lift_speed_factor", 1.0, positive=True, maximum=5))
+        f.done()
+        cases.append(case)
+    doc.done()
+    if not cases:
+        raise InputError(path, "holds no load cases", "add [[case]] tables with a name")
+    return cases
+
+
+def apply_case(train: Train, operation: Operation, options: RideOptions,
+               case: LoadCase) -> tuple[Train, Operation, RideOptions]:
+    """The train, operation and options of one load case."""
+    occ = case.occupancy_by_car(train.car_count)
+    if occ is not None and len(occ) != train.car_count:
+        raise InputError(None, f"load case '{case.name}' gives occupancy for {len(occ)} cars; "
+                         f"the train has {train.car_count}", "give one fraction per car")
+    mu = case.rolling_coefficient if case.rolling_coefficient is not None \
+        else train.rolling_coefficient
+    train = replace(
+        train, occupancy_by_car=occ if occ is not None else train.occupancy_by_car,
+        rider_mass_kg=case.rider_mass_kg or train.rider_mass_kg,
+        rolling_coefficient=mu * case.rolling_coefficient_factor,
+        drag_area_m2=train.drag_area_m2 if case.drag_area_m2 is None else case.drag_area_m2,
+        air_density_kg_m3=case.air_density_kg_m3 or train.air_density_kg_m3)
+    sections = tuple(replace(s, speed_m_s=s.speed_m_s * case.lift_speed_factor)
+                     if s.kind == "lift" else s for s in operation.sections)
+    operation = replace(operation, sections=sections,
+                        start_speed_m_s=operation.start_speed_m_s if case.start_speed_m_s is None
+                        else case.start_speed_m_s)
+    if case.head_wind_m_s is not None:
+        options = replace(options, head_wind_m_s=case.head_wind_m_s)
+    return train, operation, options
+
+
+@dataclass
+class CaseOutcome:
+    case: str
+    evaluation: Evaluation  # without signals (small enough to travel between processes)
+    stall: str | None
+    peaks: dict  # seat -> {axis: (min, max)} of the filtered signal [g0]
+    top_speed_m_s: float
+    duration_s: float
+
+
+@dataclass
+class Sweep:
+    """Every case of one layout."""
+
+    outcomes: list[CaseOutcome]
+    limits: LimitSet
+
+    @property
+    def findings(self) -> list[Finding]:
+        return sorted((f for o in self.outcomes for f in o.evaluation.findings),
+                      key=lambda f: (-f.severity, f.seat, f.case, f.t_start))
+
+    @property
+    def verdict(self) -> str:
+        bad = any(o.evaluation.verdict == "fail" or o.stall for o in self.outcomes)
+        return "fail" if bad else "pass"
+
+    def governing(self) -> list[Finding]:
+        """For each rule, the most severe finding (its seat and case govern)."""
+        best: dict[str, Finding] = {}
+        for f in self.findings:
+            best.setdefault(f.rule, f)
+        return list(best.values())
+
+    def matrix(self) -> tuple[list[str], list[str], dict]:
+        """Seats, cases and {(seat, case): verdict}."""
+        cases = [o.case for o in self.outcomes]
+        seats = [s.seat for s in self.outcomes[0].evaluation.seats] if self.outcomes else []
+        cells = {(s.seat, o.case): s.verdict for o in self.outcomes
+                 for s in o.evaluation.seats}
+        return seats, cases, cells
+
+
+def _run_one(job) -> CaseOutcome:
+    centerline, train, operation, limits, options, case = job
+    tr, ops, opt = apply_case(train, operation, options, case)
+    run = run_check(centerline, tr, ops, limits, opt, case.name)
+    ev = run.evaluation
+    peaks = {s.seat: dict(s.worst) for s in ev.seats}
+    for s in ev.seats:  # keep the record small: signals are recomputed where a report needs
+        s.filtered = None
+        s.t = None
+        s.exposures = {}
+    return CaseOutcome(case.name, ev, run.stall, peaks, float(run.ride.motion.v.max()),
+                       run.ride.motion.duration_s)
+
+
+def run_cases(centerline: Centerline, train: Train, operation: Operation, limits: LimitSet,
+              options: RideOptions, cases: list[LoadCase], *, workers: int | None = None,
+              scheduler: str | None = None,
+              progress: Callable[[int, int], None] | None = None) -> Sweep:
+    """Evaluate every case; ``workers`` local processes (default: all cores), or the Dask
+    cluster at ``scheduler`` (``tcp://host:port``)."""
+    jobs = [(centerline, train, operation, limits, options, case) for case in cases]
+    total = len(jobs)
+    outcomes: list[CaseOutcome | None] = [None] * total
+    done = 0
+
+    def tick():
+        nonlocal done
+        done += 1
+        if progress:
+            progress(done, total)
+
+    if scheduler:
+        try:
+            from dask.distributed import Client, as_completed
+        except ImportError:
+            raise InputError(None, "--scheduler needs dask.distributed",
+                             "install the extra: pip install -e \".[dask]\"") from None
+        try:
+            client = Client(scheduler, timeout=10)
+        except (OSError, TimeoutError) as exc:
+            raise InputError(None, f"cannot reach the Dask scheduler at {scheduler} ({exc})",
+                             "check the address and that the scheduler runs") from None
+        with client:
+            futures = client.map(_run_one, jobs, pure=False)
+            index = {f.key: i for i, f in enumerate(futures)}
+            for fut in as_completed(futures):
+                outcomes[index[fut.key]] = fut.result()
+                tick()
+        return Sweep(outcomes, limits)  # type: ignore[arg-type]
+    workers = workers or os.cpu_count() or 1
+    if workers <= 1 or total <= 1:
+        for i, job in enumerate(jobs):
+            outcomes[i] = _run_one(job)
+            tick()
+        return Sweep(outcomes, limits)  # type: ignore[arg-type]
+    import multiprocessing
+    from concurrent.futures import ProcessPoolExecutor, as_completed as done_first
+
+    context = multiprocessing.get_context("fork" if sys.platform != "win32" else "spawn")
+    with ProcessPoolExecutor(min(workers, total), mp_context=context) as pool:
+        futures = {pool.submit(_run_one, job): i for i, job in enumerate(jobs)}
+        for fut in done_first(futures):
+            outcomes[futures[fut]] = fut.result()
+            tick()
+    return Sweep(outcomes, limits)  # type: ignore[arg-type]
+
+
+def peak_summary(sweep: Sweep) -> dict:
+    """{seat: {axis: (min, max)}} over all cases."""
+    out: dict = {}
+    for o in sweep.outcomes:
+        for seat, axes in o.peaks.items():
+            slot = out.setdefault(seat, {})
+            for axis, (lo, hi) in axes.items():
+                old = slot.get(axis, (np.inf, -np.inf))
+                slot[axis] = (min(old[0], lo), max(old[1], hi))
+    return out
+
+
+def sweep_check_run(sweep: Sweep, centerline: Centerline, train: Train, operation: Operation,
+                    limits: LimitSet, options: RideOptions, cases: list[LoadCase]):
+    """A CheckRun of the whole sweep for documents: every seat x case result, with signals
+    recomputed for the governing (seat, case) pairs so that their figures can be drawn."""
+    from .ride import CheckRun
+
+    by_name = {c.name: c for c in cases}
+    wanted: dict[str, set[str]] = {}
+    for f in sweep.governing():
+        wanted.setdefault(f.case, set()).add(f.seat)
+    if not wanted and sweep.outcomes:  # all pass: the first case's most stressed seat
+        wanted[sweep.outcomes[0].case] = set()
+    full = {}
+    signals = {}
+    ride = None
+    for name, seats in wanted.items():
+        tr, ops, opt = apply_case(train, operation, options, by_name[name])
+        run = run_check(centerline, tr, ops, limits, opt, name)
+        ride = ride or run.ride
+        for s in run.evaluation.seats:
+            if s.seat in seats or not seats:
+                full[(s.seat, name)] = s
+                signals[(s.seat, name)] = run.signals[(s.seat, name)]
+    seats_all = []
+    warnings: list[str] = []
+    for o in sweep.outcomes:
+        warnings += [f"case {o.case}: {w}" for w in o.evaluation.warnings]
+        for s in o.evaluation.seats:
+            seats_all.append(full.get((s.seat, o.case), s))
+    evaluation = Evaluation(limits, seats_all, warnings)
+    stall = "; ".join(f"case {o.case}: {o.stall}" for o in sweep.outcomes if o.stall) or None
+    return CheckRun(evaluation, ride, signals, [], stall)
