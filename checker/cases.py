@@ -84,10 +84,7 @@ def load_cases(path: str | Path) -> list[LoadCase]:
             else:
                 raise f.error("occupancy", f"{occ!r} is not an occupancy",
                               "use a fraction 0..1, a word such as \"full\", or a list per car")
-
-        def opt(key, **kw):
-            return f.number(key, **kw) if f.has(key) else None
-
+        opt = f.optional_number
         case = LoadCase(
             name=name, occupancy=occ,
             rider_mass_kg=opt("rider_mass_kg", positive=True, maximum=500),
@@ -231,7 +228,8 @@ def run_cases(centerline: Centerline, train: Train, operation: Operation, limits
             tick()
         return Sweep(outcomes, limits)  # type: ignore[arg-type]
     import multiprocessing
-    from concurrent.futures import ProcessPoolExecutor, as_completed as done_first
+    from concurrent.futures import ProcessPoolExecutor
+    from concurrent.futures import as_completed as done_first
 
     context = multiprocessing.get_context("fork" if sys.platform != "win32" else "spawn")
     with ProcessPoolExecutor(min(workers, total), mp_context=context) as pool:

@@ -238,6 +238,13 @@ class Fields:
             raise self.error(name, f"must be at most {maximum:g} (got {value:g})")
         return value
 
+    def optional_number(self, name: str, **limits) -> float | None:
+        """The number at ``name``, or None when the key is absent."""
+        if name not in self.table:
+            self.used.add(name)
+            return None
+        return self.number(name, **limits)
+
     def integer(self, name: str, default: int | None = None, *, minimum: int = 0,
                 maximum: int | None = None) -> int:
         self.used.add(name)
