@@ -137,6 +137,7 @@ class CaseOutcome:
     peaks: dict  # seat -> {axis: (min, max)} of the filtered signal [g0]
     top_speed_m_s: float
     duration_s: float
+    track_length_m: float = 0.0
 
 
 @dataclass
@@ -183,7 +184,7 @@ def _run_one(job) -> CaseOutcome:
         s.t = None
         s.exposures = {}
     return CaseOutcome(case.name, ev, run.stall, peaks, float(run.ride.motion.v.max()),
-                       run.ride.motion.duration_s)
+                       run.ride.motion.duration_s, run.ride.geometry.length)
 
 
 def run_cases(centerline: Centerline, train: Train, operation: Operation, limits: LimitSet,
@@ -192,9 +193,26 @@ def run_cases(centerline: Centerline, train: Train, operation: Operation, limits
               progress: Callable[[int, int], None] | None = None) -> Sweep:
     """Evaluate every case; ``workers`` local processes (default: all cores), or the Dask
     cluster at ``scheduler`` (``tcp://host:port``)."""
-    jobs = [(centerline, train, operation, limits, options, case) for case in cases]
+    return run_layouts([(centerline, train, operation)], limits, options, cases,
+                       workers=workers, scheduler=scheduler, progress=progress)[0]
+
+
+def run_layouts(layouts: list[tuple[Centerline, Train, Operation]], limits: LimitSet,
+                options: RideOptions, cases: list[LoadCase], *, workers: int | None = None,
+                scheduler: str | None = None,
+                progress: Callable[[int, int], None] | None = None) -> list[Sweep]:
+    """Every case of every layout in one pool (layouts and cases run in parallel)."""
+    jobs = [(line, train, ops, limits, options, case)
+            for line, train, ops in layouts for case in cases]
+    outcomes = _execute(jobs, workers, scheduler, progress)
+    n = len(cases)
+    return [Sweep(outcomes[i * n:(i + 1) * n], limits) for i in range(len(layouts))]
+
+
+def _execute(jobs: list, workers: int | None, scheduler: str | None,
+             progress: Callable[[int, int], None] | None) -> list[CaseOutcome]:
     total = len(jobs)
-    outcomes: list[CaseOutcome | None] = [None] * total
+    outcomes: list = [None] * total
     done = 0
 
     def tick():
@@ -220,24 +238,24 @@ def run_cases(centerline: Centerline, train: Train, operation: Operation, limits
             for fut in as_completed(futures):
                 outcomes[index[fut.key]] = fut.result()
                 tick()
-        return Sweep(outcomes, limits)  # type: ignore[arg-type]
+        return outcomes
     workers = workers or os.cpu_count() or 1
     if workers <= 1 or total <= 1:
         for i, job in enumerate(jobs):
             outcomes[i] = _run_one(job)
             tick()
-        return Sweep(outcomes, limits)  # type: ignore[arg-type]
+        return outcomes
     import multiprocessing
     from concurrent.futures import ProcessPoolExecutor
-    from concurrent.futures import as_completed as done_first
+    from concurrent.futures import as_completed as first_done
 
     context = multiprocessing.get_context("fork" if sys.platform != "win32" else "spawn")
     with ProcessPoolExecutor(min(workers, total), mp_context=context) as pool:
         futures = {pool.submit(_run_one, job): i for i, job in enumerate(jobs)}
-        for fut in done_first(futures):
+        for fut in first_done(futures):
             outcomes[futures[fut]] = fut.result()
             tick()
-    return Sweep(outcomes, limits)  # type: ignore[arg-type]
+    return outcomes
 
 
 def peak_summary(sweep: Sweep) -> dict:

@@ -76,6 +76,27 @@ def build_parser() -> argparse.ArgumentParser:
     hist.add_argument("--units", choices=("g", "m/s2"), default="g",
                       help="unit of gx, gy, gz in the file (default g)")
     _add_check_options(hist)
+    cmp_ = sub.add_parser("compare", help="compare two revisions of a layout: what got "
+                          "better and what got worse")
+    cmp_.add_argument("old", help="the old revision's centerline CSV")
+    cmp_.add_argument("new", help="the new revision's centerline CSV")
+    group = cmp_.add_mutually_exclusive_group()
+    group.add_argument("--train", help="train TOML (the same train runs both layouts)")
+    group.add_argument("--ideal", action="store_true",
+                       help="one rider on the centerline, no rolling resistance, no drag")
+    cmp_.add_argument("--operation", help="operation TOML for both layouts")
+    cmp_.add_argument("--old-operation", help="operation TOML for the old layout only")
+    cmp_.add_argument("--new-operation", help="operation TOML for the new layout only")
+    cmp_.add_argument("--start-speed", type=_nonnegative, metavar="M_PER_S")
+    cmp_.add_argument("--rate", type=_positive, default=200.0, metavar="HZ")
+    cmp_.add_argument("--units", choices=("m", "ft"), default="m")
+    cmp_.add_argument("--smoothing", type=_nonnegative, default=0.0, metavar="METRES")
+    cmp_.add_argument("--limits", help="limits TOML (default: the bundled ILLUSTRATIVE set)")
+    cmp_.add_argument("--json", metavar="CHANGES.json", help="write the comparison as JSON")
+    cmp_.add_argument("--pdf", metavar="COMPARISON.pdf", help="write the comparison PDF")
+    cmp_.add_argument("--page-size", choices=("a4", "letter"), default="a4")
+    cmp_.add_argument("--project", default="(not given)")
+    _add_case_options(cmp_)
     demo = sub.add_parser("demo", help="check both revisions of the bundled demo layout and "
                           "write their PDF and JSON reports")
     demo.add_argument("--out", default="demo-output", metavar="FOLDER",
@@ -284,6 +305,117 @@ def _cmd_simulate(args: argparse.Namespace) -> int:
     return EXIT_OK
 
 
+def _cmd_compare(args: argparse.Namespace) -> int:
+    from pathlib import Path
+
+    from .cases import STANDARD_CASES, LoadCase, apply_case, load_cases, run_layouts
+    from .compare import compare_sweeps
+    from .findings import CAUTION, ILLUSTRATIVE_NOTE, to_json
+    from .outputs import atomic_write_bytes, atomic_write_text
+    from .ride import RideOptions, load_inputs, run_check
+
+    _check_outputs(args)
+    limits = _limits(args)
+    old_ops_file = args.old_operation or args.operation
+    new_ops_file = args.new_operation or args.operation
+    old_line, train, old_ops = load_inputs(args.old, args.train, ideal=args.ideal,
+                                           operation=old_ops_file,
+                                           start_speed_m_s=args.start_speed, units=args.units)
+    new_line, _, new_ops = load_inputs(args.new, args.train, ideal=args.ideal,
+                                       operation=new_ops_file,
+                                       start_speed_m_s=args.start_speed, units=args.units)
+    options = RideOptions(rate_hz=args.rate, smoothing_m=args.smoothing)
+    cases_file = None
+    if args.cases:
+        cases_file = STANDARD_CASES if args.cases == "standard" else args.cases
+        cases = load_cases(cases_file)
+    else:
+        cases = [LoadCase("nominal")]
+    for case in cases:
+        apply_case(train, old_ops, options, case)
+    old, new = run_layouts([(old_line, train, old_ops), (new_line, train, new_ops)], limits,
+                           options, cases, workers=args.workers, scheduler=args.scheduler,
+                           progress=Progress("layouts x cases", args.quiet))
+    comparison = compare_sweeps(old, new, old.outcomes[0].track_length_m,
+                                new.outcomes[0].track_length_m)
+    old_stalls = {o.case for o in old.outcomes if o.stall}
+    new_stalls = [f"new revision, case {o.case}: {o.stall}" for o in new.outcomes
+                  if o.stall and o.case not in old_stalls]
+    regressed = comparison.regressed or bool(new_stalls)
+    old_name, new_name = Path(args.old).stem, Path(args.new).stem
+    print(f"old {old_name}: {comparison.old_verdict.upper()} ({len(old.findings)} findings); "
+          f"new {new_name}: {comparison.new_verdict.upper()} ({len(new.findings)} findings)")
+    print("findings: " + ", ".join(f"{comparison.count(k)} {k}" for k in
+                                   ("new", "worse", "gone", "better", "same")))
+    for c in comparison.changes:
+        if c.status == "same":
+            continue
+        f = c.new or c.old
+        where = f"{f.s_worst_m:.1f} m" if f.s_worst_m is not None else f"{f.t_worst:.2f} s"
+        print(f"  {c.status:<6} {c.rule:<26} {c.seat:<12} {c.case:<14} at {where:<9} "
+              f"margin {c.old.margin if c.old else float('nan'):7.2f} -> "
+              f"{c.new.margin if c.new else float('nan'):7.2f}  {c.matched_by}")
+    print(f"{'seat':<14}" + "".join(f"{a + ' ' + k:>16}" for a in ("gx", "gy", "gz")
+                                    for k in ("min", "max")))
+    by_seat: dict = {}
+    for p in comparison.peaks:
+        by_seat.setdefault(p["seat"], []).append(f"{p['old']:6.2f}>{p['new']:6.2f}")
+    for seat, cells in by_seat.items():
+        print(f"{seat:<14}" + "".join(f"{c:>16}" for c in cells))
+    for s in new_stalls:
+        print(f"warning: {s}", file=sys.stderr)
+    print("regression: " + ("YES (a new or worse finding)" if regressed else "no"))
+    print("caution: " + CAUTION)
+    inputs = _inputs(args.old, args.new, args.train, old_ops_file,
+                     new_ops_file if new_ops_file != old_ops_file else None,
+                     cases_file) + list(limits.files)
+    command = _command_line()
+    if args.json:
+        doc = {"tool": "checker", "caution": CAUTION + (" " + ILLUSTRATIVE_NOTE
+                                                       if limits.illustrative else ""),
+               "old": {"file": args.old, "verdict": comparison.old_verdict,
+                       "findings": len(old.findings)},
+               "new": {"file": args.new, "verdict": comparison.new_verdict,
+                       "findings": len(new.findings)},
+               "regression": regressed, "new_stalls": new_stalls,
+               "limits": {"title": limits.title, "sha256": limits.sha256,
+                          "illustrative": limits.illustrative},
+               "cases": [c.name for c in cases], "inputs": [{"file": f, "sha256": h}
+                                                            for f, h in inputs],
+               "command": command, "peaks": comparison.peaks,
+               "changes": [{"status": c.status, "rule": c.rule, "seat": c.seat,
+                            "case": c.case, "matched_by": c.matched_by,
+                            "old": c.old.to_dict() if c.old else None,
+                            "new": c.new.to_dict() if c.new else None}
+                           for c in comparison.changes]}
+        from .findings import _clean
+
+        atomic_write_text(args.json, to_json(_clean(doc)))
+        print(f"wrote {args.json}")
+    if args.pdf:
+        from .report.comparison import comparison_pdf
+
+        governing = (new.governing() or old.governing())
+        focus_case = governing[0].case if governing else cases[0].name
+        focus_seat = governing[0].seat if governing else None
+        by_name = {c.name: c for c in cases}
+        focus = {"case": focus_case}
+        for label, line, ops in (("old", old_line, old_ops), ("new", new_line, new_ops)):
+            tr, op, opt = apply_case(train, ops, options, by_name[focus_case])
+            run = run_check(line, tr, op, limits, opt, focus_case)
+            seat = focus_seat or run.evaluation.seats[0].seat
+            result = next(s for s in run.evaluation.seats if s.seat == seat)
+            focus[label] = (result, run.signals[(seat, focus_case)], run.ride)
+            focus["seat"] = seat
+        pdf = comparison_pdf(comparison, focus, {
+            "project": args.project, "old_name": old_name, "new_name": new_name,
+            "limits": limits, "cases": ", ".join(c.name for c in cases), "inputs": inputs,
+            "command": command, "page_size": args.page_size, "stalls": new_stalls})
+        atomic_write_bytes(args.pdf, pdf)
+        print(f"wrote {args.pdf}")
+    return EXIT_FINDINGS if regressed else EXIT_OK
+
+
 def _cmd_demo(args: argparse.Namespace) -> int:
     import time
     from pathlib import Path
@@ -332,7 +464,8 @@ def _cmd_demo(args: argparse.Namespace) -> int:
 
 
 COMMANDS = {"simulate": _cmd_simulate, "check": _cmd_check,
-            "check-history": _cmd_check_history, "demo": _cmd_demo}
+            "check-history": _cmd_check_history, "demo": _cmd_demo,
+            "compare": _cmd_compare}
 
 
 def _on_terminate(signum, frame):  # SIGTERM behaves like Ctrl-C: unwind, no partial output

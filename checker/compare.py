@@ -1,0 +1,127 @@
+"""Differences between two revisions of a layout: peaks, and findings new, gone, worse or
+better.
+
+Findings are matched between revisions by rule, seat and load case, then by place: the
+nearest by the rider's world position (within MATCH_DISTANCE_M), otherwise the nearest by
+relative station along the layout (within MATCH_FRACTION of its length), so a layout that
+changed length still pairs the same element. Each pair says how it was matched.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .cases import Sweep, peak_summary
+from .envelope import AXES
+from .rules import Finding
+
+MATCH_DISTANCE_M = 25.0
+MATCH_FRACTION = 0.05
+SAME_SEVERITY = 0.005  # severity change below which a matched finding counts as unchanged
+
+
+@dataclass(frozen=True)
+class FindingChange:
+    status: str  # "new", "gone", "worse", "better", "same"
+    old: Finding | None
+    new: Finding | None
+    matched_by: str = ""  # "position (3.2 m)", "station fraction (0.012)" or ""
+
+    @property
+    def rule(self) -> str:
+        return (self.new or self.old).rule
+
+    @property
+    def seat(self) -> str:
+        return (self.new or self.old).seat
+
+    @property
+    def case(self) -> str:
+        return (self.new or self.old).case
+
+
+@dataclass
+class Comparison:
+    old_verdict: str
+    new_verdict: str
+    peaks: list[dict]  # seat, axis, kind (min/max), old, new, change [g0]
+    changes: list[FindingChange] = field(default_factory=list)
+
+    @property
+    def regressed(self) -> bool:
+        return any(c.status in ("new", "worse") for c in self.changes)
+
+    def count(self, status: str) -> int:
+        return sum(1 for c in self.changes if c.status == status)
+
+
+def _distance(a: Finding, b: Finding, old_len: float, new_len: float) -> tuple[float, str]:
+    if a.position_m is not None and b.position_m is not None:
+        d = float(np.linalg.norm(np.subtract(a.position_m, b.position_m)))
+        if d <= MATCH_DISTANCE_M:
+            return d / MATCH_DISTANCE_M, f"position ({d:.1f} m)"
+    if a.s_worst_m is not None and b.s_worst_m is not None:
+        frac = abs(a.s_worst_m / old_len - b.s_worst_m / new_len)
+        if frac <= MATCH_FRACTION:
+            return 1.0 + frac / MATCH_FRACTION, f"station fraction ({frac:.3f})"
+    if a.s_worst_m is None and b.s_worst_m is None:
+        dt = abs(a.t_worst - b.t_worst)
+        return 2.0 + dt, f"time ({dt:.2f} s)"
+    return np.inf, ""
+
+
+def match_findings(old: list[Finding], new: list[Finding], old_len: float,
+                   new_len: float) -> list[FindingChange]:
+    """Pair findings of the same rule, seat and case by place; classify each pair."""
+    groups: dict[tuple, tuple[list, list]] = {}
+    for f in old:
+        groups.setdefault((f.rule, f.seat, f.case), ([], []))[0].append(f)
+    for f in new:
+        groups.setdefault((f.rule, f.seat, f.case), ([], []))[1].append(f)
+    changes: list[FindingChange] = []
+    for key in sorted(groups):
+        olds, news = groups[key]
+        pairs = []
+        for i, a in enumerate(olds):
+            for j, b in enumerate(news):
+                score, how = _distance(a, b, old_len, new_len)
+                if np.isfinite(score):
+                    pairs.append((score, i, j, how))
+        pairs.sort()
+        used_old, used_new = set(), set()
+        for _, i, j, how in pairs:
+            if i in used_old or j in used_new:
+                continue
+            used_old.add(i)
+            used_new.add(j)
+            a, b = olds[i], news[j]
+            delta = b.severity - a.severity
+            status = "same" if abs(delta) <= SAME_SEVERITY else ("worse" if delta > 0
+                                                                  else "better")
+            changes.append(FindingChange(status, a, b, how))
+        changes += [FindingChange("gone", a, None) for i, a in enumerate(olds)
+                    if i not in used_old]
+        changes += [FindingChange("new", None, b) for j, b in enumerate(news)
+                    if j not in used_new]
+    order = {"new": 0, "worse": 1, "gone": 2, "better": 3, "same": 4}
+    changes.sort(key=lambda c: (order[c.status], -(c.new or c.old).severity))
+    return changes
+
+
+def compare_sweeps(old: Sweep, new: Sweep, old_length_m: float,
+                   new_length_m: float) -> Comparison:
+    """Peaks per seat and axis before and after, and every finding's change."""
+    before, after = peak_summary(old), peak_summary(new)
+    peaks = []
+    for seat in after:
+        if seat not in before:
+            continue
+        for axis in AXES:
+            for k, kind in enumerate(("min", "max")):
+                a, b = before[seat][axis][k], after[seat][axis][k]
+                peaks.append({"seat": seat, "axis": axis, "kind": kind, "old": a, "new": b,
+                              "change": b - a})
+    changes = match_findings(old.findings, new.findings, old_length_m, new_length_m)
+    return Comparison(old.verdict, new.verdict, peaks, changes)

@@ -1,0 +1,86 @@
+"""The comparison PDF: two revisions side by side (HTML by jinja2, PDF by weasyprint)."""
+
+from __future__ import annotations
+
+import datetime as _dt
+
+import numpy as np
+
+from .. import __version__
+from ..compare import MATCH_DISTANCE_M, MATCH_FRACTION, Comparison
+from ..findings import CAUTION
+from . import figures
+from .document import PAGE_SIZES, _env, _fmt
+from .pdf import ASSET_SCHEME, TemplatesOnlyFetcher, render_pdf
+
+
+def comparison_pdf(comparison: Comparison, focus: dict, meta: dict) -> bytes:
+    """focus: seat, case, and for 'old'/'new': (SeatResult with signals, raw signal, ride).
+    meta: project, old_name, new_name, limits (LimitSet), cases, inputs, command, page_size.
+    """
+    env = _env()
+    assets: dict[str, str] = {}
+
+    def asset(svg: str) -> str:
+        name = f"figure{len(assets) + 1}.svg"
+        assets[name] = svg
+        return f"{ASSET_SCHEME}:{name}"
+
+    old_res, _, old_ride = focus["old"]
+    new_res, new_raw, new_ride = focus["new"]
+    marks_old = [c.old.s_worst_m for c in comparison.changes
+                 if c.old is not None and c.old.s_worst_m is not None]
+    marks_new = [c.new.s_worst_m for c in comparison.changes
+                 if c.new is not None and c.new.s_worst_m is not None]
+    elevations = asset(figures.elevation_pair(
+        (old_ride.geometry.s, old_ride.geometry.position[:, 2], marks_old),
+        (new_ride.geometry.s, new_ride.geometry.position[:, 2], marks_new),
+        (f"old: {meta['old_name']}", f"new: {meta['new_name']}")))
+    spans = [(f.t_start, f.t_end, f.axis) for f in new_res.findings]
+    histories = asset(figures.time_histories(
+        new_res.t, new_res.filtered, np.asarray(new_raw.g), spans,
+        f"Seat {focus['seat']}, case {focus['case']}: new (colour, raw grey), old (dashed)",
+        overlay=(old_res.t, old_res.filtered, "old")))
+    curves = []
+    for rule in meta["limits"].duration:
+        a, b = old_res.exposures.get(rule.name), new_res.exposures.get(rule.name)
+        if a is None or b is None:
+            continue
+        curves.append({"name": rule.name, "axis": rule.axis, "durations": b.durations_s,
+                       "levels": b.levels_g, "overlay_durations": a.durations_s,
+                       "overlay_levels": a.levels_g, "overlay_label": "old",
+                       "limit_durations": np.append(rule.durations_s,
+                                                    max(b.durations_s[-1],
+                                                        rule.durations_s[-1])),
+                       "limit_levels": np.append(rule.levels_g, rule.levels_g[-1]),
+                       "step": rule.interpolation == "step"})
+    exposure = asset(figures.exposure_curves(curves, "Exposure curves: new (solid), old "
+                                             "(dashed), limit (red)")) if curves else ""
+    changes = [{"status": c.status, "rule": c.rule, "seat": c.seat, "case": c.case,
+                "old_s": _fmt(c.old.s_worst_m if c.old else None, 1),
+                "new_s": _fmt(c.new.s_worst_m if c.new else None, 1),
+                "old_margin": _fmt(c.old.margin if c.old else None),
+                "new_margin": _fmt(c.new.margin if c.new else None),
+                "matched_by": c.matched_by} for c in comparison.changes]
+    rows: dict[str, list] = {}
+    for p in comparison.peaks:
+        rows.setdefault(p["seat"], []).append(
+            f"{p['old']:.2f} &rarr; {p['new']:.2f} ({p['change']:+.2f})")
+    peaks = [{"seat": seat, "cells": cells} for seat, cells in rows.items()]
+    counts = {k: comparison.count(k) for k in ("new", "worse", "gone", "better", "same")}
+    css = env.get_template("report.css").render(
+        page_size=PAGE_SIZES[meta.get("page_size", "a4")],
+        footer_left="checker self-check - not a certification or an approval")
+    limits = meta["limits"]
+    html = env.get_template("compare.html.j2").render(
+        css=css, project=meta["project"], old_name=meta["old_name"],
+        new_name=meta["new_name"], date=_dt.date.today().isoformat(), version=__version__,
+        limits_title=limits.title, illustrative=limits.illustrative, cases=meta["cases"],
+        caution=CAUTION, old_verdict=comparison.old_verdict,
+        new_verdict=comparison.new_verdict, regressed=comparison.regressed, counts=counts,
+        stalls=meta.get("stalls", []), changes=changes, peaks=peaks, elevations=elevations,
+        focus_seat=focus["seat"], focus_case=focus["case"], histories=histories,
+        exposure=exposure, inputs=[{"file": f, "sha256": h} for f, h in meta["inputs"]],
+        command=meta["command"], match_distance=f"{MATCH_DISTANCE_M:g}",
+        match_fraction=f"{MATCH_FRACTION:g}")
+    return render_pdf(html, TemplatesOnlyFetcher(assets=assets))

@@ -1,0 +1,120 @@
+"""Load cases, the worst case, revision comparison and the Dask executor."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import numpy as np
+import pytest
+from shapes import vertical_loop
+
+from checker.cases import LoadCase, load_cases, run_cases
+from checker.cli import main
+from checker.envelope import load_limits
+from checker.findings import BUNDLED_LIMITS
+from checker.operation import Operation
+from checker.ride import RideOptions
+from checker.track import Centerline
+from checker.train import Seat, Train
+
+SAMPLES = Path(__file__).resolve().parents[1] / "sample_tracks"
+TRAIN = Train(car_count=3, spacing_m=2.0, seats=(Seat("a", up_m=1.0),), rolling_coefficient=0.02,
+              drag_area_m2=1.0)
+
+
+def loop_layout() -> Centerline:
+    """A 60 m level lead-in, then one circular vertical loop of radius 9 m."""
+    lead = np.column_stack([np.linspace(-60, -1, 60), np.zeros(60), np.zeros(60)])
+    return Centerline(np.vstack([lead, vertical_loop(9.0, 1.0, 360)]))
+
+
+def test_lower_resistance_case_is_faster_and_governs_loop_gz():
+    # Energy argument: less rolling resistance loses less energy before the loop, so the
+    # train is faster there and v^2 / R (and Gz at the bottom) is higher.
+    limits = load_limits(BUNDLED_LIMITS)
+    cases = [LoadCase("sticky", rolling_coefficient_factor=2.0),
+             LoadCase("slick", rolling_coefficient_factor=0.25)]
+    sweep = run_cases(loop_layout(), TRAIN, Operation(start_speed_m_s=23.0), limits,
+                      RideOptions(), cases, workers=1)
+    by_case = {o.case: o for o in sweep.outcomes}
+    assert not any(o.stall for o in sweep.outcomes)
+    assert by_case["slick"].duration_s < by_case["sticky"].duration_s  # faster round
+    gz = {name: max(p["gz"][1] for p in o.peaks.values()) for name, o in by_case.items()}
+    assert gz["slick"] > gz["sticky"]
+    governing = {f.rule: f for f in sweep.governing()}
+    assert governing["duration +Gz"].case == "slick"
+
+
+def test_occupancy_words_and_lists(tmp_path):
+    path = tmp_path / "cases.toml"
+    path.write_text('[[case]]\nname = "fh"\noccupancy = "front-half"\n'
+                    '[[case]]\nname = "list"\noccupancy = [1, 0.5, 0]\n')
+    fh, lst = load_cases(path)
+    assert fh.occupancy_by_car(5) == (1.0, 1.0, 1.0, 0.0, 0.0)
+    assert lst.occupancy_by_car(3) == (1.0, 0.5, 0.0)
+
+
+@pytest.mark.parametrize("text, words", [
+    ('[[case]]\nname = "a"\noccupancy = "half"\n', ["case[1].occupancy", "not one of"]),
+    ('[[case]]\nname = "a"\nrider_mas_kg = 80\n', ["rider_mas_kg", "not a known key"]),
+    ('[[case]]\nname = "a"\n[[case]]\nname = "a"\n', ["used twice"]),
+    ('title = "x"\n', ["'title'"]),
+])
+def test_bad_cases_file(tmp_path, capsys, text, words):
+    path = tmp_path / "cases.toml"
+    path.write_text(text)
+    code = main(["check", str(SAMPLES / "thistle_comet_revB.csv"), "--ideal",
+                 "--start-speed", "5", "--cases", str(path)])
+    err = capsys.readouterr().err
+    assert code == 2 and err.count("\n") == 1
+    for w in words:
+        assert w in err
+
+
+def demo_args(old: str, new: str) -> list[str]:
+    return ["compare", str(SAMPLES / f"thistle_comet_rev{old}.csv"),
+            str(SAMPLES / f"thistle_comet_rev{new}.csv"),
+            "--train", str(SAMPLES / "thistle_comet_train.toml"),
+            "--old-operation", str(SAMPLES / f"thistle_comet_rev{old}.operation.toml"),
+            "--new-operation", str(SAMPLES / f"thistle_comet_rev{new}.operation.toml"),
+            "--quiet", "--workers", "2"]
+
+
+def test_compare_revision_with_itself_changes_nothing(tmp_path):
+    out = tmp_path / "same.json"
+    assert main(demo_args("A", "A") + ["--json", str(out)]) == 0
+    doc = json.loads(out.read_text())
+    assert doc["regression"] is False
+    assert {c["status"] for c in doc["changes"]} == {"same"}
+    assert all(abs(p["change"]) < 1e-9 for p in doc["peaks"])
+
+
+def test_compare_a_to_b_loop_findings_gone_and_b_to_a_regresses(tmp_path):
+    out = tmp_path / "ab.json"
+    pdf = tmp_path / "ab.pdf"
+    assert main(demo_args("A", "B") + ["--json", str(out), "--pdf", str(pdf)]) == 0
+    doc = json.loads(out.read_text())
+    gone = [c for c in doc["changes"] if c["status"] == "gone"]
+    assert gone and all(c["old"]["rule"] for c in gone)
+    assert any(c["old"]["rule"] == "duration +Gz" for c in gone)
+    assert pdf.exists() and pdf.stat().st_size > 10_000
+    assert main(demo_args("B", "A")) == 1
+
+
+def test_dask_cluster_gives_the_same_results_as_local():
+    distributed = pytest.importorskip("distributed")
+    limits = load_limits(BUNDLED_LIMITS)
+    cases = [LoadCase("full", occupancy="full"), LoadCase("empty", occupancy="empty")]
+    args = (loop_layout(), TRAIN, Operation(start_speed_m_s=23.0), limits, RideOptions(),
+            cases)
+    local = run_cases(*args, workers=1)
+    with distributed.LocalCluster(n_workers=1, threads_per_worker=2, processes=True,
+                                  host="127.0.0.1", dashboard_address=None,
+                                  protocol="tcp") as cluster:
+        remote = run_cases(*args, scheduler=cluster.scheduler_address)
+    assert [o.case for o in remote.outcomes] == [o.case for o in local.outcomes]
+    for a, b in zip(local.outcomes, remote.outcomes):
+        assert [f.to_dict() for f in a.evaluation.findings] == \
+            [f.to_dict() for f in b.evaluation.findings]
+        assert a.peaks == b.peaks
