@@ -176,7 +176,7 @@ class Sweep:
 def _run_one(job) -> CaseOutcome:
     centerline, train, operation, limits, options, case = job
     tr, ops, opt = apply_case(train, operation, options, case)
-    run = run_check(centerline, tr, ops, limits, opt, case.name)
+    run = run_check(centerline, tr, ops, limits, opt, case.name, keep_signals=False)
     ev = run.evaluation
     peaks = {s.seat: dict(s.worst) for s in ev.seats}
     for s in ev.seats:  # keep the record small: signals are recomputed where a report needs

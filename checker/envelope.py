@@ -141,12 +141,26 @@ def polygon_problem(vertices: np.ndarray) -> str | None:
 
 
 def contains(vertices: np.ndarray, points: np.ndarray) -> np.ndarray:
-    """Points (n, 2) inside or on the closed polygon (even-odd rule, boundary counts in)."""
+    """Points (n, 2) inside or on the closed polygon (even-odd rule; the boundary, within a
+    relative 1e-9, counts as inside). matplotlib.path does the point-in-polygon test."""
     from matplotlib.path import Path as MplPath
 
     path = MplPath(np.vstack([vertices, vertices[:1]]), closed=True)
-    tol = 1e-9 * max(1.0, float(np.abs(vertices).max()))
-    return path.contains_points(points, radius=tol) | path.contains_points(points, radius=-tol)
+    inside = path.contains_points(points)
+    out = np.flatnonzero(~inside)
+    if out.size:  # points reported outside but on the boundary count as inside
+        tol = 1e-9 * max(1.0, float(np.abs(vertices).max()))
+        inside[out] = _boundary_distance(vertices, points[out]) <= tol
+    return inside
+
+
+def _boundary_distance(vertices: np.ndarray, points: np.ndarray) -> np.ndarray:
+    a = vertices
+    e = np.roll(vertices, -1, axis=0) - a
+    rel = points[:, None, :] - a[None, :, :]
+    u = np.clip(np.einsum("nmk,mk->nm", rel, e) / np.einsum("mk,mk->m", e, e), 0.0, 1.0)
+    nearest = a[None, :, :] + u[:, :, None] * e[None, :, :]
+    return np.linalg.norm(points[:, None, :] - nearest, axis=2).min(axis=1)
 
 
 def outside_fraction(vertices: np.ndarray, center: np.ndarray, points: np.ndarray) -> np.ndarray:

@@ -130,12 +130,15 @@ class CheckRun:
 
 
 def run_check(centerline: Centerline, train: Train, operation: Operation, limits,
-              options: RideOptions = RideOptions(), case: str = "nominal") -> CheckRun:
-    """Simulate and evaluate every seat: the one entry for `check`, sweeps and the API."""
+              options: RideOptions = RideOptions(), case: str = "nominal",
+              keep_signals: bool = True) -> CheckRun:
+    """Simulate and evaluate every seat: the one entry for `check`, sweeps and the API.
+    Sweeps pass ``keep_signals=False`` to skip what only documents need (exposure curves,
+    filtered signals)."""
     from .rules import evaluate
 
     result = run_ride(centerline, train, operation, options)
-    evaluation = evaluate(result.histories, limits, case)
+    evaluation = evaluate(result.histories, limits, case, keep_signals)
     stall = str(result.motion.stall) if result.motion.stall is not None else None
     if stall:
         evaluation.warnings.append(stall)
