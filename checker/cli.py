@@ -247,14 +247,24 @@ class Progress:
         sys.stderr.flush()
 
 
+def _check_cases_fit(cases, cases_file, train, ops, options) -> None:
+    """Fail early, naming the cases file, on a case that does not fit the train."""
+    from .cases import apply_case
+
+    for i, case in enumerate(cases):
+        try:
+            apply_case(train, ops, options, case)
+        except InputError as exc:
+            raise InputError(cases_file, exc.problem, exc.hint,
+                             key=f"case[{i + 1}].occupancy") from None
+
+
 def _run_sweep(args, line, train, ops, limits, options):
     from .cases import STANDARD_CASES, load_cases, run_cases, sweep_check_run
 
     cases_file = STANDARD_CASES if args.cases == "standard" else args.cases
     cases = load_cases(cases_file)
-    for case in cases:  # fail early on a case that does not fit the train
-        from .cases import apply_case
-        apply_case(train, ops, options, case)
+    _check_cases_fit(cases, cases_file, train, ops, options)
     _CASES_SEEN[:] = [c.name for c in cases]
     sweep = run_cases(line, train, ops, limits, options, cases, workers=args.workers,
                       scheduler=args.scheduler, progress=Progress("cases", args.quiet))
@@ -290,6 +300,8 @@ def _cmd_simulate(args: argparse.Namespace) -> int:
                                    units=args.units)
     result = run_ride(line, train, ops, RideOptions(rate_hz=args.rate,
                                                     smoothing_m=args.smoothing))
+    for warning in result.warnings:
+        print(f"warning: {warning}", file=sys.stderr)
     frame = histories_frame(result.histories)
     atomic_write_text(args.output, frame.to_csv(index=False, float_format="%.6g"))
     print(f"wrote {args.output}: {len(result.histories)} seats, {len(frame)} rows, "
@@ -331,8 +343,8 @@ def _cmd_compare(args: argparse.Namespace) -> int:
         cases = load_cases(cases_file)
     else:
         cases = [LoadCase("nominal")]
-    for case in cases:
-        apply_case(train, old_ops, options, case)
+    if cases_file is not None:
+        _check_cases_fit(cases, cases_file, train, old_ops, options)
     old, new = run_layouts([(old_line, train, old_ops), (new_line, train, new_ops)], limits,
                            options, cases, workers=args.workers, scheduler=args.scheduler,
                            progress=Progress("layouts x cases", args.quiet))

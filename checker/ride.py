@@ -13,9 +13,11 @@ import numpy as np
 import pandas as pd
 
 from .dynamics import RideMotion, simulate_motion
+from .errors import InputError
 from .geometry import TrackGeometry, build_geometry
 from .kinematics import SeatHistory, rider_histories
 from .operation import Operation, load_operation
+from .plausibility import motion_warnings, track_warnings
 from .track import Centerline, load_centerline
 from .train import Train, ideal_rider, load_train
 
@@ -43,6 +45,7 @@ class RideResult:
     train: Train
     operation: Operation
     options: RideOptions
+    warnings: tuple[str, ...] = ()  # plausibility warnings (the run went on)
 
 
 def run_ride(centerline: Centerline, train: Train, operation: Operation,
@@ -50,9 +53,15 @@ def run_ride(centerline: Centerline, train: Train, operation: Operation,
     """Geometry, dynamics and every seat's history for one layout and one train."""
     geometry = build_geometry(centerline.points, centerline.roll_deg, centerline.up,
                               smoothing_m=options.smoothing_m, step_m=options.step_m)
+    if train.length_m >= geometry.length:
+        raise InputError(centerline.source, f"the track ({geometry.length:.1f} m) is shorter "
+                         f"than the train ({train.length_m:.1f} m from first to last car)",
+                         "check the track's units and the train's car spacing")
     motion = simulate_motion(geometry, train, operation, head_wind_m_s=options.head_wind_m_s)
     histories = rider_histories(geometry, motion, train.seats, options.rate_hz)
-    return RideResult(geometry, motion, histories, train, operation, options)
+    warnings = (track_warnings(geometry, centerline.points)
+                + motion_warnings(geometry, motion, operation))
+    return RideResult(geometry, motion, histories, train, operation, options, tuple(warnings))
 
 
 def histories_frame(histories: list[SeatHistory]) -> pd.DataFrame:
@@ -139,6 +148,7 @@ def run_check(centerline: Centerline, train: Train, operation: Operation, limits
 
     result = run_ride(centerline, train, operation, options)
     evaluation = evaluate(result.histories, limits, case, keep_signals)
+    evaluation.warnings[:0] = list(result.warnings)
     stall = str(result.motion.stall) if result.motion.stall is not None else None
     if stall:
         evaluation.warnings.append(stall)

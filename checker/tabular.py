@@ -20,7 +20,9 @@ from .errors import InputError
 
 
 def _suggest(name: str, known: Iterable[str]) -> str:
-    close = difflib.get_close_matches(name, list(known), n=1)
+    known = list(known)
+    same_letters = [k for k in known if k.lower() == name.lower()]
+    close = same_letters or difflib.get_close_matches(name, known, n=1)
     return f"did you mean '{close[0]}'?" if close else ""
 
 
@@ -230,12 +232,17 @@ class Fields:
         value = float(value)
         if not math.isfinite(value):
             raise self.error(name, "must be finite", "write a real number")
+        low = "above 0" if positive else (f"at least {minimum:g}" if minimum is not None
+                                          else "")
+        high = f"at most {maximum:g}" if maximum is not None else ""
+        span = " and ".join(p for p in (low, high) if p)
+        hint = f"give {self.key(name)} a value {span}{unit}" if span else ""
         if positive and value <= 0:
-            raise self.error(name, f"must be greater than zero (got {value:g})")
+            raise self.error(name, f"must be greater than zero (got {value:g})", hint)
         if minimum is not None and value < minimum:
-            raise self.error(name, f"must be at least {minimum:g} (got {value:g})")
+            raise self.error(name, f"must be at least {minimum:g} (got {value:g})", hint)
         if maximum is not None and value > maximum:
-            raise self.error(name, f"must be at most {maximum:g} (got {value:g})")
+            raise self.error(name, f"must be at most {maximum:g} (got {value:g})", hint)
         return value
 
     def optional_number(self, name: str, **limits) -> float | None:
@@ -253,11 +260,13 @@ class Fields:
                 raise self.missing(name, f"add {self.key(name)} = <whole number>")
             return default
         value = self.table[name]
+        upper = f" and at most {maximum}" if maximum is not None else ""
         if isinstance(value, bool) or not isinstance(value, int):
-            raise self.error(name, f"must be a whole number, not {value!r}")
+            raise self.error(name, f"must be a whole number, not {value!r}",
+                             f"write a whole number without quotes, at least {minimum}{upper}")
         if value < minimum or (maximum is not None and value > maximum):
-            upper = f" and at most {maximum}" if maximum is not None else ""
-            raise self.error(name, f"must be at least {minimum}{upper} (got {value})")
+            raise self.error(name, f"must be at least {minimum}{upper} (got {value})",
+                             f"give a whole number from {minimum}{upper}")
         return value
 
     def text(self, name: str, default: str | None = None,
@@ -269,19 +278,21 @@ class Fields:
             return default
         value = self.table[name]
         if not isinstance(value, str):
-            raise self.error(name, f"must be text in quotes, not {value!r}")
+            raise self.error(name, f"must be text in quotes, not {value!r}",
+                             f"write {self.key(name)} = \"...\"")
         if choices is not None:
             options = list(choices)
             if value not in options:
                 raise self.error(name, f"'{value}' is not one of: {', '.join(options)}",
-                                 _suggest(value, options))
+                                 _suggest(value, options) or "use one of the listed words")
         return value
 
     def flag(self, name: str, default: bool) -> bool:
         self.used.add(name)
         value = self.table.get(name, default)
         if not isinstance(value, bool):
-            raise self.error(name, f"must be true or false, not {value!r}")
+            raise self.error(name, f"must be true or false, not {value!r}",
+                             "write true or false without quotes")
         return value
 
     def table_list(self, name: str) -> list[Fields]:

@@ -18,6 +18,7 @@ from .tabular import read_numeric_csv
 FOOT_M = 0.3048  # international foot [m], exact by definition (1959 agreement)
 KINK_LIMIT_DEG = 45.0  # turn between successive chords that no track makes between samples
 MIN_CHORD_M = 1e-6
+MAX_COORDINATE_M = 1e6  # no layout reaches 1000 km from its origin
 
 
 @dataclass(frozen=True)
@@ -54,6 +55,11 @@ def validate_centerline(line: Centerline) -> Centerline:
     if len(pts) < 4:
         raise InputError(path, f"has {len(pts)} samples; a centerline needs at least 4",
                          "export the centerline with more points")
+    big = np.flatnonzero(np.abs(pts).max(axis=1) > MAX_COORDINATE_M)
+    if big.size:
+        raise InputError(path, f"coordinate beyond {MAX_COORDINATE_M:.0e} m",
+                         "check the units and the export; coordinates are metres",
+                         row=int(rows[big[0]]), column="x")
     chords = np.linalg.norm(np.diff(pts, axis=0), axis=1)
     repeated = np.flatnonzero(chords < MIN_CHORD_M)
     if repeated.size:

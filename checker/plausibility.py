@@ -1,0 +1,91 @@
+"""Plausibility warnings: inputs that load but look wrong. The run goes on; the warnings are
+printed and listed under review items in the report.
+
+Thresholds are deliberately loose (they flag, they do not judge) and stated in each message.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from .dynamics import G0, RideMotion
+from .geometry import TrackGeometry
+from .operation import Operation
+
+TALLEST_PLAUSIBLE_M = 150.0  # height range beyond any built coaster (common practice, rough)
+LONGEST_PLAUSIBLE_M = 3000.0  # layout length beyond any built coaster (rough)
+SHORTEST_PLAUSIBLE_M = 5.0
+TURN_PER_SAMPLE_DEG = 6.0  # curvature x sample spacing above this: sampling too coarse
+SPIKE_RATIO = 3.0  # curvature between samples this many times that at the samples
+SPIKE_FLOOR = 0.05  # [1/m] ignore spikes on gentle curves
+ROLL_RATE_DEG_S = 400.0  # faster than a train is rolled in practice (rough)
+
+
+def track_warnings(geometry: TrackGeometry, points: np.ndarray) -> list[str]:
+    """Unit, sampling and curvature-spike checks on a centerline."""
+    out = []
+    height = float(np.ptp(points[:, 2]))
+    length = geometry.length
+    if height > TALLEST_PLAUSIBLE_M or length > LONGEST_PLAUSIBLE_M:
+        out.append(f"track is {length:.0f} m long with a {height:.0f} m height range, more than "
+                   f"any built coaster ({LONGEST_PLAUSIBLE_M:.0f} m, {TALLEST_PLAUSIBLE_M:.0f} m):"
+                   " feet or millimetres read as metres? (--units ft, or convert)")
+    if length < SHORTEST_PLAUSIBLE_M:
+        out.append(f"track is only {length:.2f} m long: kilometres, or a scaled model? "
+                   "lengths are read in metres")
+    chords = np.diff(geometry.sample_stations)
+    (curv_at,) = geometry.sample(geometry.sample_stations, "curvature_vector")
+    kappa_at = np.linalg.norm(curv_at, axis=1)
+    turn = np.degrees(np.maximum(kappa_at[:-1], kappa_at[1:]) * chords)
+    coarse = np.flatnonzero(turn > TURN_PER_SAMPLE_DEG)
+    if coarse.size:
+        i = coarse[0]
+        out.append(f"sampling is coarse for the curvature: the track turns {turn[i]:.1f} deg "
+                   f"between samples at station {geometry.sample_stations[i]:.1f} m (more than "
+                   f"{TURN_PER_SAMPLE_DEG:g} deg at {coarse.size} places); export more points")
+    kappa = geometry.curvature
+    idx = np.searchsorted(geometry.s, geometry.sample_stations)
+    for k, (a, b) in enumerate(zip(idx[:-1], idx[1:])):
+        if b - a < 3:
+            continue
+        inner = float(kappa[a:b].max())
+        ends = max(kappa_at[k], kappa_at[k + 1])
+        if inner > SPIKE_FLOOR and inner > SPIKE_RATIO * max(ends, 1e-9):
+            out.append(f"curvature spike between samples near station {geometry.s[a]:.1f} m "
+                       f"({inner:.3f} 1/m against {ends:.3f} 1/m at the samples): noisy or "
+                       "uneven samples; consider --smoothing")
+            break
+    return out
+
+
+def motion_warnings(geometry: TrackGeometry, motion: RideMotion,
+                    operation: Operation) -> list[str]:
+    """Roll rate and the energy check on a simulated ride."""
+    out = []
+    (roll,) = geometry.sample(motion.s, "roll_deg")
+    rate = np.abs(np.gradient(roll, motion.s)) * motion.v
+    if rate.size and rate.max() > ROLL_RATE_DEG_S:
+        i = int(np.argmax(rate))
+        out.append(f"bank angle changes at {rate[i]:.0f} deg/s at station {motion.s[i]:.1f} m, "
+                   f"faster than a train is rolled in practice ({ROLL_RATE_DEG_S:g} deg/s): "
+                   "check the roll column")
+    z = geometry.position[:, 2]
+    powered = [operation.start_speed_m_s]
+    for sec in operation.sections:
+        powered += [sec.speed_m_s if sec.kind == "lift" else 0.0, sec.exit_speed_m_s,
+                    sec.max_speed_m_s]
+    force_launch = any(s.kind == "launch" and s.force_n > 0 and s.max_speed_m_s == 0
+                       for s in operation.sections)
+    from_height = float(np.sqrt(2 * G0 * np.ptp(z)))
+    launched = any(s.kind == "launch" for s in operation.sections)
+    if not launched and operation.start_speed_m_s > from_height + 0.5:
+        out.append(f"start speed {operation.start_speed_m_s:.1f} m/s is more than the layout's "
+                   f"{np.ptp(z):.1f} m height range can give ({from_height:.1f} m/s) and no "
+                   "launch provides it (energy check): check the start speed and its units")
+    bound = float(np.sqrt(max(powered) ** 2 + 2 * G0 * np.ptp(z)))
+    top = float(motion.v.max())
+    if not force_launch and top > bound + 0.5:
+        out.append(f"top speed {top:.1f} m/s exceeds what the layout's {np.ptp(z):.1f} m height "
+                   f"and powered sections can give ({bound:.1f} m/s, energy check): check the "
+                   "start speed, wind and sections")
+    return out
