@@ -10,6 +10,7 @@ import argparse
 import signal
 import sys
 from collections.abc import Sequence
+from concurrent.futures.process import BrokenProcessPool
 
 from . import __version__
 from .errors import InputError, TrainStalled
@@ -504,6 +505,10 @@ def main(argv: Sequence[str] | None = None) -> int:
         return EXIT_OK
     except KeyboardInterrupt:
         print("checker: interrupted; no output was written or changed", file=sys.stderr)
+        return EXIT_INTERRUPTED
+    except BrokenProcessPool:  # a worker was stopped (e.g. Ctrl-C reached the whole group)
+        print("checker: a worker process was stopped (interrupted?); no output was written "
+              "or changed", file=sys.stderr)
         return EXIT_INTERRUPTED
 
 

@@ -118,3 +118,20 @@ def test_dask_cluster_gives_the_same_results_as_local():
         assert [f.to_dict() for f in a.evaluation.findings] == \
             [f.to_dict() for f in b.evaluation.findings]
         assert a.peaks == b.peaks
+
+
+def test_sweep_json_is_byte_identical_across_runs(tmp_path, capsys):
+    cases = tmp_path / "cases.toml"
+    cases.write_text('[[case]]\nname = "full"\noccupancy = "full"\n'
+                     '[[case]]\nname = "empty"\noccupancy = "empty"\n')
+    outs = []
+    for name, workers in (("one.json", "1"), ("two.json", "2")):
+        out = tmp_path / name
+        main(["check", str(SAMPLES / "thistle_comet_revB.csv"), "--train",
+              str(SAMPLES / "thistle_comet_train.toml"), "--operation",
+              str(SAMPLES / "thistle_comet_revB.operation.toml"), "--cases", str(cases),
+              "--workers", workers, "--quiet", "--json", str(out)])
+        doc = json.loads(out.read_text())
+        doc.pop("command")  # the command line names the output file
+        outs.append(json.dumps(doc, sort_keys=True))
+    assert outs[0] == outs[1]
