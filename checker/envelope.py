@@ -158,7 +158,9 @@ def _boundary_distance(vertices: np.ndarray, points: np.ndarray) -> np.ndarray:
     a = vertices
     e = np.roll(vertices, -1, axis=0) - a
     rel = points[:, None, :] - a[None, :, :]
-    u = np.clip(np.einsum("nmk,mk->nm", rel, e) / np.einsum("mk,mk->m", e, e), 0.0, 1.0)
+    length_sq = np.einsum("mk,mk->m", e, e)
+    u = np.clip(np.einsum("nmk,mk->nm", rel, e) / np.where(length_sq > 0, length_sq, 1.0),
+                0.0, 1.0)
     nearest = a[None, :, :] + u[:, :, None] * e[None, :, :]
     return np.linalg.norm(points[:, None, :] - nearest, axis=2).min(axis=1)
 

@@ -242,3 +242,25 @@ def test_up_vectors_give_the_same_frame_as_roll():
                     for s in geo_roll.sample_stations])
     geo_up = build_geometry(pts, up=ups)
     assert np.allclose(geo_up.roll_deg, geo_roll.roll_deg, atol=1e-3)
+
+
+def test_smoothing_tolerance_recovers_curvature_of_noisy_samples():
+    # CAD noise in the second derivative: 3 mm of noise on a circle of radius 20 m sampled
+    # every 0.5 m. With a smoothing tolerance near the noise level the curvature comes back
+    # close to 1/R (circle), and the report says how much curvature was removed.
+    rng = np.random.default_rng(7)
+    radius = 20.0
+    theta = np.linspace(0, np.pi, int(np.pi * radius / 0.5) + 1)
+    pts = np.column_stack([radius * np.sin(theta), radius * (1 - np.cos(theta)),
+                           np.zeros_like(theta)])
+    pts[:, :2] += rng.normal(0, 0.003, (len(pts), 2))
+    raw = build_geometry(pts)
+    smooth = build_geometry(pts, smoothing_m=0.003)
+    inside = (smooth.s > 3) & (smooth.s < smooth.length - 3)
+    raw_err = np.max(np.abs(raw.curvature[inside] - 1 / radius))
+    smooth_err = np.max(np.abs(smooth.curvature[inside] - 1 / radius))
+    assert smooth_err < 0.2 * raw_err
+    assert smooth_err < 0.1 / radius
+    report = smooth.smoothing
+    assert report is not None and report.max_deviation_m < 0.015
+    assert report.max_curvature_removed > 0.5 * raw_err

@@ -88,8 +88,14 @@ def layout_views(position: np.ndarray, s: np.ndarray, marks: list[tuple[float, s
     ticks = np.arange(0.0, s[-1], station_every_m)
     idx = np.searchsorted(s, ticks).clip(0, len(s) - 1)
     plan.plot(position[idx, 0], position[idx, 1], "o", ms=2.5, color="#555555")
-    for k, i in enumerate(idx):
-        plan.annotate(f"{ticks[k]:.0f}", position[i, :2], textcoords="offset points",
+    span = max(np.ptp(position[:, 0]), np.ptp(position[:, 1]), 1.0)
+    placed: list[np.ndarray] = []
+    for k, i in enumerate(idx):  # skip a label that would sit on an earlier one
+        where = position[i, :2]
+        if any(np.linalg.norm(where - p) < 0.05 * span for p in placed):
+            continue
+        placed.append(where)
+        plan.annotate(f"{ticks[k]:.0f}", where, textcoords="offset points",
                       xytext=(3, 3), fontsize=6, color="#555555")
     elev.plot(s, position[:, 2], color="#333333", lw=1.0)
     elev.set_xlabel("station along the track [m]")
