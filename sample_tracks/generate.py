@@ -220,8 +220,13 @@ def build(shape: str) -> Builder:
     b.turn(-360.0, radius=18.0, ramp=40.0, pitch_deg=5.0)  # climbing helix
     b.pitch_to(0.0, radius=60.0, ramp=8.0)
     b.straight(10.0)
+    b.mark("descent")
+    b.pitch_to(-7.0, radius=120.0, ramp=12.0)  # gentle descent to the station's level
+    while b.z > 3.4:
+        b.step(0.0)
+    b.pitch_to(0.0, radius=120.0, ramp=12.0)
     b.mark("brake_start")
-    b.straight(70.0)  # brake run back to the station
+    b.straight(110.0)  # brake run back to the station
     b.mark("end")
     return b
 
@@ -251,14 +256,14 @@ speed_m_s = 3.0
 
 [[sections]]
 kind = "brake"           # trim on the brake run
-start_m = -66.0
-end_m = -46.0
-speed_m_s = 6.0
-max_decel_m_s2 = 3.0
+start_m = -108.0
+end_m = -36.0
+speed_m_s = 5.0
+max_decel_m_s2 = 3.5
 
 [[sections]]
 kind = "brake"           # final stop
-start_m = -40.0
+start_m = -30.0
 end_m = -2.0
 speed_m_s = 0.0
 max_decel_m_s2 = 3.0
