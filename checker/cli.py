@@ -40,11 +40,16 @@ def _nonnegative(text: str) -> float:
 
 def _add_ride_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("track", help="centerline CSV (x, y, z [m]; optional roll_deg or up_*)")
+    p.add_argument("--operation", help="operation TOML (start speed, lift, launch, brakes)")
+    _add_ride_settings(p)
+
+
+def _add_ride_settings(p: argparse.ArgumentParser) -> None:
+    """Train and numerical options shared by every command that simulates."""
     group = p.add_mutually_exclusive_group()
     group.add_argument("--train", help="train TOML (cars, seats, masses, resistances)")
     group.add_argument("--ideal", action="store_true",
                        help="one rider on the centerline, no rolling resistance, no drag")
-    p.add_argument("--operation", help="operation TOML (start speed, lift, launch, brakes)")
     p.add_argument("--start-speed", type=_nonnegative, metavar="M_PER_S",
                    help="speed at the start [m/s]; overrides the operation file")
     p.add_argument("--rate", type=_positive, default=200.0, metavar="HZ",
@@ -81,17 +86,10 @@ def build_parser() -> argparse.ArgumentParser:
                           "better and what got worse")
     cmp_.add_argument("old", help="the old revision's centerline CSV")
     cmp_.add_argument("new", help="the new revision's centerline CSV")
-    group = cmp_.add_mutually_exclusive_group()
-    group.add_argument("--train", help="train TOML (the same train runs both layouts)")
-    group.add_argument("--ideal", action="store_true",
-                       help="one rider on the centerline, no rolling resistance, no drag")
+    _add_ride_settings(cmp_)
     cmp_.add_argument("--operation", help="operation TOML for both layouts")
     cmp_.add_argument("--old-operation", help="operation TOML for the old layout only")
     cmp_.add_argument("--new-operation", help="operation TOML for the new layout only")
-    cmp_.add_argument("--start-speed", type=_nonnegative, metavar="M_PER_S")
-    cmp_.add_argument("--rate", type=_positive, default=200.0, metavar="HZ")
-    cmp_.add_argument("--units", choices=("m", "ft"), default="m")
-    cmp_.add_argument("--smoothing", type=_nonnegative, default=0.0, metavar="METRES")
     cmp_.add_argument("--limits", help="limits TOML (default: the bundled ILLUSTRATIVE set)")
     cmp_.add_argument("--json", metavar="CHANGES.json", help="write the comparison as JSON")
     cmp_.add_argument("--pdf", metavar="COMPARISON.pdf", help="write the comparison PDF")
@@ -323,7 +321,7 @@ def _cmd_compare(args: argparse.Namespace) -> int:
 
     from .cases import STANDARD_CASES, LoadCase, apply_case, load_cases, run_layouts
     from .compare import compare_sweeps
-    from .findings import CAUTION, ILLUSTRATIVE_NOTE, to_json
+    from .findings import CAUTION, comparison_document, to_json
     from .outputs import atomic_write_bytes, atomic_write_text
     from .ride import RideOptions, load_inputs, run_check
 
@@ -384,26 +382,10 @@ def _cmd_compare(args: argparse.Namespace) -> int:
                      cases_file) + list(limits.files)
     command = _command_line()
     if args.json:
-        doc = {"tool": "checker", "caution": CAUTION + (" " + ILLUSTRATIVE_NOTE
-                                                       if limits.illustrative else ""),
-               "old": {"file": args.old, "verdict": comparison.old_verdict,
-                       "findings": len(old.findings)},
-               "new": {"file": args.new, "verdict": comparison.new_verdict,
-                       "findings": len(new.findings)},
-               "regression": regressed, "new_stalls": new_stalls,
-               "limits": {"title": limits.title, "sha256": limits.sha256,
-                          "illustrative": limits.illustrative},
-               "cases": [c.name for c in cases], "inputs": [{"file": f, "sha256": h}
-                                                            for f, h in inputs],
-               "command": command, "peaks": comparison.peaks,
-               "changes": [{"status": c.status, "rule": c.rule, "seat": c.seat,
-                            "case": c.case, "matched_by": c.matched_by,
-                            "old": c.old.to_dict() if c.old else None,
-                            "new": c.new.to_dict() if c.new else None}
-                           for c in comparison.changes]}
-        from .findings import _clean
-
-        atomic_write_text(args.json, to_json(_clean(doc)))
+        doc = comparison_document(comparison, limits, args.old, args.new, len(old.findings),
+                                  len(new.findings), regressed, new_stalls,
+                                  [c.name for c in cases], inputs, command)
+        atomic_write_text(args.json, to_json(doc))
         print(f"wrote {args.json}")
     if args.pdf:
         from .report.comparison import comparison_pdf

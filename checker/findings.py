@@ -124,3 +124,25 @@ def sweep_tables(sweep) -> str:
         lines.append(f"  {seat:<12}{marks}")
     lines.append("  cases: " + ", ".join(f"{i + 1} {c}" for i, c in enumerate(cases)))
     return "\n".join(lines)
+
+
+def comparison_document(comparison, limits, old_file: str, new_file: str, old_count: int,
+                        new_count: int, regressed: bool, new_stalls: list[str],
+                        cases: list[str], inputs: list[tuple[str, str]], command: str) -> dict:
+    """The JSON record of a revision comparison."""
+    return _clean({
+        "tool": "checker", "version": __version__,
+        "caution": CAUTION + (" " + ILLUSTRATIVE_NOTE if limits.illustrative else ""),
+        "old": {"file": old_file, "verdict": comparison.old_verdict, "findings": old_count},
+        "new": {"file": new_file, "verdict": comparison.new_verdict, "findings": new_count},
+        "regression": regressed, "new_stalls": new_stalls,
+        "limits": {"title": limits.title, "sha256": limits.sha256,
+                   "illustrative": limits.illustrative},
+        "cases": cases, "inputs": [{"file": f, "sha256": h} for f, h in inputs],
+        "command": command, "peaks": comparison.peaks,
+        "changes": [{"status": c.status, "rule": c.rule, "seat": c.seat, "case": c.case,
+                     "matched_by": c.matched_by,
+                     "old": c.old.to_dict() if c.old else None,
+                     "new": c.new.to_dict() if c.new else None}
+                    for c in comparison.changes],
+    })
