@@ -146,3 +146,18 @@ def test_no_traceback_from_a_real_process(tmp_path):
     assert proc.returncode == 2
     assert "Traceback" not in proc.stderr
     assert proc.stderr.strip().count("\n") == 0
+
+
+def test_python_api_returns_a_dataframe():
+    # The documented API: checker.simulate returns one row per seat and sample.
+    import checker
+
+    samples = Path(__file__).resolve().parents[1] / "sample_tracks"
+    frame = checker.simulate(samples / "thistle_comet_revB.csv",
+                             samples / "thistle_comet_train.toml",
+                             operation=samples / "thistle_comet_revB.operation.toml",
+                             rate_hz=50)
+    assert list(frame.columns[:7]) == ["seat", "car", "t", "s", "v", "gx", "gy"]
+    assert frame["seat"].nunique() == 24
+    first = frame[frame["seat"] == "car1-r1L"]
+    assert np.allclose(first["gz"].iloc[:10], 1.0, atol=1e-6)  # at rest in the station
