@@ -1,0 +1,60 @@
+"""The README's examples load as documented (a newcomer copies them)."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from checker.envelope import load_limits
+from checker.operation import load_operation
+from checker.track import load_centerline
+from checker.train import load_train
+
+README = (Path(__file__).resolve().parents[1] / "README.md").read_text()
+
+
+def fenced() -> list[tuple[str, str]]:
+    """(language, text) of every fenced code block, in order."""
+    out, lang, lines = [], None, []
+    for line in README.splitlines():
+        if line.startswith("```"):
+            if lang is None:
+                lang, lines = line[3:].strip(), []
+            else:
+                out.append((lang, "\n".join(lines) + "\n"))
+                lang = None
+        elif lang is not None:
+            lines.append(line)
+    return out
+
+
+def blocks(kind: str) -> list[str]:
+    return [text for lang, text in fenced() if lang == kind]
+
+
+def test_readme_track_train_operation_and_limits_examples_load(tmp_path):
+    plain = blocks("")
+    track = next(b for b in plain if b.lstrip().startswith("# a level straight"))
+    (tmp_path / "track.csv").write_text(track)
+    assert load_centerline(tmp_path / "track.csv").count == 5
+    toml = blocks("toml")
+    train = next(b for b in toml if "[cars]" in b)
+    (tmp_path / "train.toml").write_text(train)
+    assert load_train(tmp_path / "train.toml").car_count == 6
+    ops = next(b for b in toml if "[[sections]]" in b)
+    (tmp_path / "ops.toml").write_text(ops)
+    operation = load_operation(tmp_path / "ops.toml")
+    operation.check_against(track_length_m=400.0, train_length_m=12.0)
+    limits = next(b for b in toml if "[meta]" in b)
+    table = next(b for b in plain if b.startswith("gy,gz"))
+    (tmp_path / "yz.csv").write_text(table)
+    (tmp_path / "limits.toml").write_text(limits)
+    loaded = load_limits(tmp_path / "limits.toml")
+    assert loaded.duration and loaded.combined and loaded.onset
+
+
+def test_readme_load_cases_example_loads(tmp_path):
+    from checker.cases import load_cases
+
+    cases = next(b for b in blocks("toml") if "[[case]]" in b)
+    (tmp_path / "cases.toml").write_text(cases)
+    assert load_cases(tmp_path / "cases.toml")[0].name == "warm-afternoon"
