@@ -189,3 +189,22 @@ def test_log_and_step_interpolation():
     assert lim.allowed(np.array([1.0]))[0] == pytest.approx(3.0)  # halfway in log duration
     step = replace(lim, interpolation="step")
     assert step.allowed(np.array([5.0, 10.0, 20.0])) == pytest.approx([4.0, 2.0, 2.0])
+
+
+@settings(max_examples=150, deadline=None)
+@given(st.lists(st.floats(-3, 6, allow_nan=False), min_size=1, max_size=80),
+       st.floats(-2, 4))
+def test_windows_above_floor_match_full_windows(values, floor):
+    # The fast path (only samples above the floor) must give the same sustained windows as
+    # the full computation for those samples; checked against the brute-force definition.
+    from checker.rules import sustained_windows, windows_above
+
+    x = np.asarray(values)
+    idx, left, right = windows_above(x, floor)
+    full_left, full_right = sustained_windows(x)
+    assert np.array_equal(idx, np.flatnonzero(x > floor))
+    assert np.array_equal(left, full_left[idx]) and np.array_equal(right, full_right[idx])
+    for i, a, b in zip(idx, left, right):  # brute force: maximal run of samples >= x[i]
+        assert np.all(x[a:b + 1] >= x[i])
+        assert a == 0 or x[a - 1] < x[i]
+        assert b == len(x) - 1 or x[b + 1] < x[i]
