@@ -34,6 +34,7 @@ from checker.dynamics import G0, simulate_motion  # noqa: E402
 from checker.geometry import build_geometry  # noqa: E402
 from checker.kinematics import rider_histories  # noqa: E402
 from checker.operation import Operation  # noqa: E402
+from checker.ride import RideOptions  # noqa: E402
 from checker.train import Seat, Train, ideal_rider  # noqa: E402
 
 SEATS = tuple(Seat(name, fwd, left, 1.1) for name, fwd, left in
@@ -44,7 +45,7 @@ TRAIN = Train(car_count=8, spacing_m=2.2, empty_mass_kg=600, seats=SEATS,
 
 def ours(points, train, v0, rate=200.0):
     t0 = time.perf_counter()
-    geometry = build_geometry(points)
+    geometry = build_geometry(points, step_m=RideOptions().step_m)
     t1 = time.perf_counter()
     motion = simulate_motion(geometry, train, Operation(start_speed_m_s=v0))
     t2 = time.perf_counter()

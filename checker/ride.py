@@ -33,7 +33,7 @@ class RideOptions:
 
     rate_hz: float = 200.0
     smoothing_m: float = 0.0
-    step_m: float = 0.1
+    step_m: float = 0.2
     head_wind_m_s: float = 0.0
 
 

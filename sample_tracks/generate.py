@@ -275,10 +275,10 @@ def rails_from_heartline(rows: list) -> tuple[np.ndarray, np.ndarray]:
     along the rider's up vector. Returns rail points and their roll [deg]."""
     heart = np.array([r[:3] for r in rows])
     roll = np.array([r[3] for r in rows])
-    geo = build_geometry(heart, roll_deg=roll)
+    geo = build_geometry(heart, roll_deg=roll, step_m=0.1)
     (up,) = geo.sample(geo.sample_stations, "up")
     rails = heart - HEART_M * up
-    rail_geo = build_geometry(rails, up=up)
+    rail_geo = build_geometry(rails, up=up, step_m=0.1)
     (rail_roll,) = rail_geo.sample(rail_geo.sample_stations, "roll_deg")
     return rails, rail_roll
 
@@ -308,7 +308,7 @@ def write_recorded_sample(out: Path = HERE) -> None:
     line, train, ops = load_inputs(out / "thistle_comet_revB.csv",
                                    HERE / "thistle_comet_train.toml",
                                    operation=out / "thistle_comet_revB.operation.toml")
-    result = run_ride(line, train, ops, RideOptions(rate_hz=100.0))
+    result = run_ride(line, train, ops, RideOptions(rate_hz=100.0, step_m=0.2))
     rng = np.random.default_rng(20261201)
     lines = ["# SYNTHETIC test-ride record for the fictional ride \"Thistle Comet\" rev B: "
              "made by\n# sample_tracks/generate.py from the simulator plus seeded noise; not "
