@@ -17,7 +17,7 @@ The curvature vector is then k = yaw * left - pitch * up.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
 import numpy as np
 from numpy.polynomial.legendre import leggauss
@@ -62,7 +62,6 @@ class TrackGeometry:
     torsion: np.ndarray  # Frenet torsion of the centerline [1/m], (n,); nan where straight
     sample_stations: np.ndarray  # station of each input sample [m]
     smoothing: SmoothingReport | None = None
-    extras: dict = field(default_factory=dict)
 
     @property
     def length(self) -> float:

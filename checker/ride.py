@@ -9,7 +9,6 @@ from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import TYPE_CHECKING
 
-import numpy as np
 import pandas as pd
 
 from .dynamics import RideMotion, simulate_motion
@@ -114,16 +113,6 @@ def simulate(track: str | Path, train: str | Path | None = None, *, ideal: bool 
     result = run_ride(line, the_train, ops, RideOptions(rate_hz=rate_hz,
                                                         smoothing_m=smoothing_m))
     return histories_frame(result.histories)
-
-
-def peak_table(histories: list[SeatHistory]) -> pd.DataFrame:
-    """Extremes per seat [g0], unfiltered."""
-    rows = []
-    for h in histories:
-        rows.append({"seat": h.seat, **{f"{name}_{kind}": float(fn(h.g[:, i]))
-                                        for i, name in enumerate(("gx", "gy", "gz"))
-                                        for kind, fn in (("min", np.min), ("max", np.max))}})
-    return pd.DataFrame(rows)
 
 
 @dataclass

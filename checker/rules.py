@@ -132,12 +132,6 @@ def exposure_curve(x: np.ndarray, dt: float) -> Exposure:
     return Exposure(dt * np.arange(1, len(x) + 1), levels)
 
 
-def exposure_brute_force(x: np.ndarray) -> np.ndarray:
-    """O(N^2) reference: max over windows of length k of the window minimum."""
-    n = len(x)
-    return np.array([max(x[i:i + k].min() for i in range(n - k + 1)) for k in range(1, n + 1)])
-
-
 def _runs(mask: np.ndarray) -> list[tuple[int, int]]:
     """Inclusive index ranges of the True runs."""
     edges = np.flatnonzero(np.diff(np.concatenate([[0], mask.astype(np.int8), [0]])))

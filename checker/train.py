@@ -23,7 +23,7 @@ Example (all keys shown; see README for the meaning of each)::
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
@@ -66,7 +66,6 @@ class Train:
     air_density_kg_m3: float = SEA_LEVEL_AIR_DENSITY
     name: str = "train"
     occupancy_by_car: tuple[float, ...] | None = None
-    extras: dict = field(default_factory=dict)
 
     @property
     def length_m(self) -> float:
@@ -79,11 +78,6 @@ class Train:
                 else np.full(self.car_count, self.occupancy))
         return self.empty_mass_kg + fill * len(self.seats) * self.rider_mass_kg
 
-    def seat_labels(self) -> list[str]:
-        return [f"car{c + 1}-{seat.name}" for c in range(self.car_count) for seat in self.seats]
-
-    def with_changes(self, **changes) -> Train:
-        return replace(self, **changes)
 
 
 def ideal_rider() -> Train:

@@ -22,12 +22,18 @@ from checker.envelope import (
     polygon_problem,
 )
 from checker.history import RecordedSignal
-from checker.rules import evaluate, exposure_brute_force, exposure_curve
+from checker.rules import evaluate, exposure_curve
 
 RATE = 200.0
 
 
 DEFAULT_FILTER = FilterSpec()
+
+
+def exposure_brute_force(x: np.ndarray) -> np.ndarray:
+    """O(N^2) reference: for each length k, the max over windows of the window minimum."""
+    n = len(x)
+    return np.array([max(x[i:i + k].min() for i in range(n - k + 1)) for k in range(1, n + 1)])
 
 
 def limit_set(duration=(), combined=(), onset=(), spec=DEFAULT_FILTER):
