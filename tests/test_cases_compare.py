@@ -135,3 +135,27 @@ def test_sweep_json_is_byte_identical_across_runs(tmp_path, capsys):
         doc.pop("command")  # the command line names the output file
         outs.append(json.dumps(doc, sort_keys=True))
     assert outs[0] == outs[1]
+
+
+def test_sweep_report_shows_governing_case_and_matrix(tmp_path, capsys):
+    from pypdf import PdfReader
+
+    cases = tmp_path / "cases.toml"
+    cases.write_text('[[case]]\nname = "slow-lift"\nlift_speed_factor = 0.9\n'
+                     '[[case]]\nname = "warm-fast"\nrolling_coefficient_factor = 0.5\n'
+                     'lift_speed_factor = 1.2\n')
+    pdf = tmp_path / "sweep.pdf"
+    code = main(["check", str(SAMPLES / "thistle_comet_revA.csv"), "--train",
+                 str(SAMPLES / "thistle_comet_train.toml"), "--operation",
+                 str(SAMPLES / "thistle_comet_revA.operation.toml"), "--cases", str(cases),
+                 "--workers", "2", "--quiet", "--pdf", str(pdf)])
+    printed = capsys.readouterr().out
+    assert code == 1
+    assert "governing seat and case per rule" in printed and "slow-lift" in printed
+    text = " ".join(" ".join(p.extract_text() for p in PdfReader(str(pdf)).pages).split())
+    assert "Governing seat and case for each rule" in text
+    assert "Verdict by seat and load case" in text and "warm-fast" in text
+    doc = json.loads(pdf.with_suffix(".json").read_text())
+    assert set(doc["matrix"]["car1-r1L"]) == {"slow-lift", "warm-fast"}
+    assert doc["governing"] and all(g["case"] in ("slow-lift", "warm-fast")
+                                    for g in doc["governing"])
