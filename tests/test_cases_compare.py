@@ -159,3 +159,19 @@ def test_sweep_report_shows_governing_case_and_matrix(tmp_path, capsys):
     assert set(doc["matrix"]["car1-r1L"]) == {"slow-lift", "warm-fast"}
     assert doc["governing"] and all(g["case"] in ("slow-lift", "warm-fast")
                                     for g in doc["governing"])
+
+
+def test_progress_bar_only_on_a_terminal(monkeypatch, capsys):
+    import sys
+
+    from checker.cli import Progress
+
+    monkeypatch.setattr(sys.stderr, "isatty", lambda: True, raising=False)
+    bar = Progress("cases", quiet=False)
+    bar(1, 4)
+    bar(4, 4)
+    err = capsys.readouterr().err
+    assert "cases [" in err and "4/4" in err and err.endswith("\n")
+    quiet = Progress("cases", quiet=True)
+    quiet(1, 2)
+    assert capsys.readouterr().err == ""
