@@ -207,8 +207,9 @@ def _cmd_check(args: argparse.Namespace) -> int:
                                    units=args.units)
     options = RideOptions(rate_hz=args.rate, smoothing_m=args.smoothing)
     extra_inputs: list = []
+    case_names: list[str] = []
     if args.cases:
-        run, cases_file = _run_sweep(args, line, train, ops, limits, options)
+        run, cases_file, case_names = _run_sweep(args, line, train, ops, limits, options)
         extra_inputs = [cases_file]
     else:
         run = run_check(line, train, ops, limits, options, args.case)
@@ -219,12 +220,9 @@ def _cmd_check(args: argparse.Namespace) -> int:
     params = ride_parameters(run.ride) + [("track length unit", args.units),
                                           ("filter", limits.filter.describe())]
     if args.cases:
-        params.append(("load cases", f"{args.cases} ({len(_CASES_SEEN)} cases: "
-                       + ", ".join(_CASES_SEEN) + ")"))
+        params.append(("load cases", f"{args.cases} ({len(case_names)} cases: "
+                       + ", ".join(case_names) + ")"))
     return _finish(args, run, Path(args.track).stem, params)
-
-
-_CASES_SEEN: list[str] = []
 
 
 class Progress:
@@ -264,12 +262,11 @@ def _run_sweep(args, line, train, ops, limits, options):
     cases_file = STANDARD_CASES if args.cases == "standard" else args.cases
     cases = load_cases(cases_file)
     _check_cases_fit(cases, cases_file, train, ops, options)
-    _CASES_SEEN[:] = [c.name for c in cases]
     sweep = run_cases(line, train, ops, limits, options, cases, workers=args.workers,
                       scheduler=args.scheduler, progress=Progress("cases", args.quiet))
     run = sweep_check_run(sweep, line, train, ops, limits, options, cases)
     run.sweep = sweep
-    return run, cases_file
+    return run, cases_file, [c.name for c in cases]
 
 
 def _cmd_check_history(args: argparse.Namespace) -> int:

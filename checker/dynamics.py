@@ -159,7 +159,10 @@ def simulate_motion(
     stopping brake brings it to rest. Raises :class:`TrainStalled` where it comes to rest
     anywhere else: the motion up to that point is returned with ``stall`` set.
     """
-    operation.check_against(geometry.length, train.length_m)
+    operation.check_against(geometry.length)
+    if train.length_m >= geometry.length:  # run_ride refuses this first, naming the track file
+        raise ValueError(f"the train ({train.length_m:.1f} m) is longer than the track "
+                         f"({geometry.length:.1f} m)")
     ds = geometry.step
     start = train.length_m
     count = int(np.floor((geometry.length - start) / ds + 1e-9))

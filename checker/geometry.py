@@ -200,9 +200,7 @@ def _fit_centerline(points: np.ndarray, smoothing_m: float):
 
 
 def _curvature_of(spline, u: np.ndarray) -> np.ndarray:
-    d1, d2 = spline(u, 1), spline(u, 2)
-    if d1.ndim == 2 and d1.shape[0] == 3 and d1.shape[1] != 3:
-        d1, d2 = d1.T, d2.T
+    d1, d2 = _eval(spline, u, 1), _eval(spline, u, 2)
     return np.linalg.norm(np.cross(d1, d2), axis=1) / np.linalg.norm(d1, axis=1) ** 3
 
 
@@ -299,9 +297,7 @@ def build_geometry(
     report = None
     if smoothing_m > 0:
         deviation = np.linalg.norm(_eval(spline, u) - points, axis=1)
-        removed = np.abs(_curvature_of(interp, u) - np.linalg.norm(
-            np.cross(_eval(spline, u, 1), _eval(spline, u, 2)), axis=1)
-            / np.linalg.norm(_eval(spline, u, 1), axis=1) ** 3)
+        removed = np.abs(_curvature_of(interp, u) - _curvature_of(spline, u))
         worst = int(np.argmax(removed))
         report = SmoothingReport(smoothing_m, float(deviation.max()),
                                  float(np.sqrt(np.mean(removed**2))), float(removed[worst]),

@@ -61,7 +61,7 @@ class Operation:
     sections: tuple[Section, ...] = ()
     source: str = "<none>"
 
-    def check_against(self, track_length_m: float, train_length_m: float) -> None:
+    def check_against(self, track_length_m: float) -> None:
         """Stations must lie on the track and sections must not overlap."""
         spans = []
         for i, sec in enumerate(self.sections):
@@ -77,10 +77,6 @@ class Operation:
             if a2 < b1:
                 raise InputError(self.source, f"overlaps {k1} (from {a2:.1f} m to {b1:.1f} m)",
                                  "sections must not overlap; shorten one of them", key=k2)
-        if train_length_m >= track_length_m:
-            raise InputError(self.source, f"the train ({train_length_m:.1f} m) is longer than "
-                             f"the track ({track_length_m:.1f} m)",
-                             "check the units of the track and the car spacing")
 
 
 def load_operation(path: str | Path) -> Operation:

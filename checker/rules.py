@@ -236,12 +236,12 @@ def _combined_findings(g: np.ndarray, env: CombinedEnvelope, ctx: _Context) -> l
     for start, end in _runs(~inside):
         frac = _outside_fraction(env.vertices, center, pair[start:end + 1])
         w = start + int(np.argmax(frac))
+        reach = float(np.hypot(*(pair[w] - center)))
         findings.append(Finding(
             rule=f"combined {env.name}", kind="combined", axis=f"{env.axes[0]}+{env.axes[1]}",
             seat=ctx.seat.seat, case=ctx.case, t_start=float(ctx.t[start]),
             t_end=float(ctx.t[end]) + dt, duration_s=float(ctx.t[end] - ctx.t[start] + dt),
-            peak_g=float(np.hypot(*(pair[w] - center))),
-            limit_g=float(np.hypot(*(pair[w] - center)) / (1 + frac.max())),
+            peak_g=reach, limit_g=reach / (1 + float(frac.max())),
             margin=-float(frac.max()), t_worst=float(ctx.t[w]),
             detail=f"({env.axes[0]}, {env.axes[1]}) = ({pair[w, 0]:.2f}, {pair[w, 1]:.2f}) g, "
                    f"{100 * frac.max():.1f} % outside the envelope",

@@ -43,7 +43,7 @@ def test_readme_track_train_operation_and_limits_examples_load(tmp_path):
     ops = next(b for b in toml if "[[sections]]" in b)
     (tmp_path / "ops.toml").write_text(ops)
     operation = load_operation(tmp_path / "ops.toml")
-    operation.check_against(track_length_m=400.0, train_length_m=12.0)
+    operation.check_against(track_length_m=400.0)
     limits = next(b for b in toml if "[meta]" in b)
     table = next(b for b in plain if b.startswith("gy,gz"))
     (tmp_path / "yz.csv").write_text(table)
