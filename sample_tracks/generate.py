@@ -283,11 +283,18 @@ def rails_from_heartline(rows: list) -> tuple[np.ndarray, np.ndarray]:
     return rails, rail_roll
 
 
+def _fixed(value: float, digits: int) -> str:
+    """Fixed-point text with no negative zero (a last-bit sign must not change the file)."""
+    text = f"{value:.{digits}f}"
+    return text[1:] if text.startswith("-") and float(text) == 0.0 else text
+
+
 def write(shape: str, rev: str, what: str, out: Path = HERE) -> None:
     b = build(shape)
     rails, roll = rails_from_heartline(b.rows)
     lines = [HEADER.format(rev=rev, what=what)]
-    lines += [f"{x:.4f},{y:.4f},{z:.4f},{r:.3f}\n" for (x, y, z), r in zip(rails, roll)]
+    lines += [f"{_fixed(x, 4)},{_fixed(y, 4)},{_fixed(z, 4)},{_fixed(r, 3)}\n"
+              for (x, y, z), r in zip(rails, roll)]
     (out / f"thistle_comet_rev{rev}.csv").write_text("".join(lines))
     (out / f"thistle_comet_rev{rev}.operation.toml").write_text(OPERATION.format(
         rev=rev, station_end=b.marks["lift_start"] - 2.0, lift_start=b.marks["lift_start"],
@@ -317,7 +324,8 @@ def write_recorded_sample(out: Path = HERE) -> None:
         noise = rng.normal(0.0, 0.04, h.g.shape)
         buzz = 0.08 * np.sin(2 * np.pi * 14.0 * h.t)[:, None] * np.array([0.3, 0.5, 1.0])
         g = h.g + noise + buzz
-        lines += [f"{h.seat},{t:.3f},{a:.4f},{b:.4f},{c:.4f}\n" for t, (a, b, c) in zip(h.t, g)]
+        lines += [f"{h.seat},{_fixed(t, 3)},{_fixed(a, 4)},{_fixed(b, 4)},{_fixed(c, 4)}\n"
+                  for t, (a, b, c) in zip(h.t, g)]
     (out / "thistle_comet_revB_recorded_synthetic.csv").write_text("".join(lines))
 
 

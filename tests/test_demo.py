@@ -86,7 +86,24 @@ def test_generator_reproduces_committed_files(tmp_path):
                            "thistle_comet_revB.operation.toml",
                            "thistle_comet_revB_recorded_synthetic.csv"])
     for name in made:
-        assert (tmp_path / name).read_bytes() == (SAMPLES / name).read_bytes(), name
+        made_text = (tmp_path / name).read_text()
+        kept_text = (SAMPLES / name).read_text()
+        if name.endswith(".toml"):
+            assert made_text == kept_text, name
+            continue
+        # Same comments and table; numbers equal within one unit of their last printed digit,
+        # so a library's last-bit rounding on another machine does not count as a change.
+        made_lines, kept_lines = made_text.splitlines(), kept_text.splitlines()
+        assert len(made_lines) == len(kept_lines), name
+        for a, b in zip(made_lines, kept_lines):
+            for x, y in zip(a.split(","), b.split(","), strict=True):
+                try:
+                    fx, fy = float(x), float(y)
+                except ValueError:
+                    assert x == y, (name, a, b)
+                    continue
+                digits = len(y.split(".")[1]) if "." in y else 0
+                assert abs(fx - fy) <= 1.01 * 10.0 ** -digits, (name, a, b)
 
 
 def test_synthetic_record_passes_check_history(capsys):
