@@ -12,10 +12,11 @@ from __future__ import annotations
 import time
 from pathlib import Path
 
-from checker.cases import STANDARD_CASES, load_cases, run_cases
-from checker.envelope import load_limits
-from checker.findings import BUNDLED_LIMITS
+from checker.documents import BUNDLED_LIMITS
+from checker.limits import load_limits
+from checker.loadcases import STANDARD_CASES, load_cases
 from checker.ride import RideOptions, load_inputs
+from checker.sweep import run_cases
 
 SAMPLES = Path(__file__).resolve().parents[1] / "sample_tracks"
 

@@ -11,8 +11,8 @@ from __future__ import annotations
 import time
 from pathlib import Path
 
-from checker.envelope import load_limits
-from checker.findings import BUNDLED_LIMITS
+from checker.documents import BUNDLED_LIMITS
+from checker.limits import load_limits
 from checker.report import ReportMeta, TemplatesOnlyFetcher, build_html, render_pdf
 from checker.ride import CheckRun, load_inputs, run_ride
 from checker.rules import evaluate

@@ -128,8 +128,8 @@ def _add_case_options(p: argparse.ArgumentParser) -> None:
 
 
 def _limits(args: argparse.Namespace):
-    from .envelope import load_limits
-    from .findings import BUNDLED_LIMITS
+    from .documents import BUNDLED_LIMITS
+    from .limits import load_limits
 
     if args.limits is None:
         print(f"limits: none given, using the bundled ILLUSTRATIVE set {BUNDLED_LIMITS.name} "
@@ -146,7 +146,7 @@ def _command_line() -> str:
 
 def _finish(args, run, source: str, parameters: list) -> int:
     """Print the summary; write JSON and PDF as asked. Returns the exit code."""
-    from .findings import CAUTION, evaluation_document, summary_table, to_json
+    from .documents import CAUTION, evaluation_document, summary_table, to_json
     from .outputs import atomic_write_text
 
     evaluation = run.evaluation
@@ -154,7 +154,7 @@ def _finish(args, run, source: str, parameters: list) -> int:
         print(f"warning: {warning}", file=sys.stderr)
     print(summary_table(evaluation))
     if run.sweep is not None:
-        from .findings import sweep_document, sweep_tables
+        from .documents import sweep_document, sweep_tables
 
         print(sweep_tables(run.sweep))
         extra_sweep = sweep_document(run.sweep)
@@ -182,7 +182,7 @@ def _finish(args, run, source: str, parameters: list) -> int:
 
 
 def _inputs(*paths) -> list[tuple[str, str]]:
-    from .envelope import sha256_of
+    from .limits import sha256_of
 
     return [(str(p), sha256_of(p)) for p in paths if p is not None]
 
@@ -246,7 +246,7 @@ class Progress:
 
 def _check_cases_fit(cases, cases_file, train, ops, options) -> None:
     """Fail early, naming the cases file, on a case that does not fit the train."""
-    from .cases import apply_case
+    from .loadcases import apply_case
 
     for i, case in enumerate(cases):
         try:
@@ -257,7 +257,8 @@ def _check_cases_fit(cases, cases_file, train, ops, options) -> None:
 
 
 def _run_sweep(args, line, train, ops, limits, options):
-    from .cases import STANDARD_CASES, load_cases, run_cases, sweep_check_run
+    from .loadcases import STANDARD_CASES, load_cases
+    from .sweep import run_cases, sweep_check_run
 
     cases_file = STANDARD_CASES if args.cases == "standard" else args.cases
     cases = load_cases(cases_file)
@@ -316,11 +317,12 @@ def _cmd_simulate(args: argparse.Namespace) -> int:
 def _cmd_compare(args: argparse.Namespace) -> int:
     from pathlib import Path
 
-    from .cases import STANDARD_CASES, LoadCase, apply_case, load_cases, run_layouts
     from .compare import compare_sweeps
-    from .findings import CAUTION, comparison_document, to_json
+    from .documents import CAUTION, comparison_document, to_json
+    from .loadcases import STANDARD_CASES, LoadCase, apply_case, load_cases
     from .outputs import atomic_write_bytes, atomic_write_text
     from .ride import RideOptions, load_inputs, run_check
+    from .sweep import run_layouts
 
     _check_outputs(args)
     limits = _limits(args)
@@ -412,13 +414,14 @@ def _cmd_demo(args: argparse.Namespace) -> int:
     import time
     from pathlib import Path
 
-    from .envelope import load_limits
-    from .findings import BUNDLED_LIMITS
+    from .documents import BUNDLED_LIMITS
+    from .limits import load_limits
     from .report import ReportMeta, write_report
+    from .resources import demo_folder
     from .ride import RideOptions, load_inputs, ride_parameters, run_check
 
     started = time.perf_counter()
-    here = Path(__file__).resolve().parents[1] / "sample_tracks"
+    here = demo_folder()
     out = Path(args.out)
     try:
         out.mkdir(parents=True, exist_ok=True)

@@ -13,9 +13,9 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .cases import Sweep, peak_summary
-from .envelope import AXES
+from .limits import AXES
 from .rules import Finding
+from .sweep import Sweep, peak_summary
 
 MATCH_DISTANCE_M = 25.0
 MATCH_FRACTION = 0.05

@@ -23,12 +23,11 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .constants import G0
 from .errors import TrainStalled
 from .geometry import TrackGeometry
 from .operation import Operation
 from .train import Train
-
-G0 = 9.80665  # standard gravity [m/s^2], 3rd CGPM (1901)
 
 FREE, LIFT, LAUNCH_FORCE, LAUNCH_SPEED, BRAKE = 0, 1, 2, 3, 4
 RAN_TO_END, STOPPED_BY_BRAKE, STALLED = 0, 1, 2

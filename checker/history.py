@@ -12,9 +12,9 @@ from pathlib import Path
 
 import numpy as np
 
-from .dynamics import G0
+from .constants import G0
+from .csvtable import read_numeric_csv
 from .errors import InputError
-from .tabular import read_numeric_csv
 
 STEP_TOLERANCE = 0.01  # a step may differ from the median step by 1 %
 

@@ -20,7 +20,8 @@ from dataclasses import dataclass
 import numpy as np
 from scipy.interpolate import CubicHermiteSpline
 
-from .dynamics import G0, RideMotion
+from .constants import G0
+from .dynamics import RideMotion
 from .geometry import TrackGeometry
 from .train import Seat
 

@@ -29,7 +29,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from .errors import InputError
-from .tabular import Fields, load_toml
+from .tomlfields import Fields, load_toml
 
 SECTION_KINDS = ("lift", "launch", "brake")
 

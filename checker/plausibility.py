@@ -8,7 +8,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from .dynamics import G0, RideMotion
+from .constants import G0
+from .dynamics import RideMotion
 from .geometry import TrackGeometry
 from .operation import Operation
 

@@ -124,7 +124,7 @@ class CheckRun:
     signals: dict  # (seat, case) -> signal with raw g (and s, position when simulated)
     inputs: list[tuple[str, str]]
     stall: str | None = None
-    sweep: object | None = None  # checker.cases.Sweep when load cases were run
+    sweep: object | None = None  # checker.sweep.Sweep when load cases were run
 
 
 def run_check(centerline: Centerline, train: Train, operation: Operation, limits,

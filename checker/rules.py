@@ -17,9 +17,9 @@ from dataclasses import asdict, dataclass, field
 import numpy as np
 
 from .conditioning import lowpass, onset_rate
-from .envelope import AXES, REST, CombinedEnvelope, DurationLimit, LimitSet, contains
-from .envelope import outside_fraction as _outside_fraction
 from .errors import InputError
+from .limits import AXES, REST, CombinedEnvelope, DurationLimit, LimitSet, contains
+from .limits import outside_fraction as _outside_fraction
 
 AXIS_INDEX = {axis: i for i, axis in enumerate(AXES)}
 

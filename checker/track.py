@@ -12,8 +12,8 @@ from pathlib import Path
 
 import numpy as np
 
+from .csvtable import read_numeric_csv
 from .errors import InputError
-from .tabular import read_numeric_csv
 
 FOOT_M = 0.3048  # international foot [m], exact by definition (1959 agreement)
 KINK_LIMIT_DEG = 45.0  # turn between successive chords that no track makes between samples

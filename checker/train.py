@@ -28,10 +28,9 @@ from pathlib import Path
 
 import numpy as np
 
+from .constants import SEA_LEVEL_AIR_DENSITY
 from .errors import InputError
-from .tabular import Fields, load_toml
-
-SEA_LEVEL_AIR_DENSITY = 1.225  # [kg/m^3], ICAO Standard Atmosphere (ISO 2533)
+from .tomlfields import Fields, load_toml
 
 
 @dataclass(frozen=True)

@@ -9,12 +9,13 @@ import numpy as np
 import pytest
 from shapes import vertical_loop
 
-from checker.cases import LoadCase, load_cases, run_cases
 from checker.cli import main
-from checker.envelope import load_limits
-from checker.findings import BUNDLED_LIMITS
+from checker.documents import BUNDLED_LIMITS
+from checker.limits import load_limits
+from checker.loadcases import LoadCase, load_cases
 from checker.operation import Operation
 from checker.ride import RideOptions
+from checker.sweep import run_cases
 from checker.track import Centerline
 from checker.train import Seat, Train
 

@@ -12,8 +12,8 @@ from pypdf import PdfReader
 
 from checker.cli import main
 from checker.conditioning import lowpass
-from checker.envelope import load_limits
-from checker.findings import BUNDLED_LIMITS
+from checker.documents import BUNDLED_LIMITS
+from checker.limits import load_limits
 from checker.ride import load_inputs, run_ride
 
 SAMPLES = Path(__file__).resolve().parents[1] / "sample_tracks"

@@ -9,10 +9,10 @@ from pathlib import Path
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from checker.cases import load_cases
-from checker.envelope import load_limits
 from checker.errors import InputError
 from checker.history import load_history
+from checker.limits import load_limits
+from checker.loadcases import load_cases
 from checker.operation import load_operation
 from checker.track import load_centerline
 from checker.train import load_train

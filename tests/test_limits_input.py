@@ -9,8 +9,8 @@ import numpy as np
 import pytest
 
 from checker.cli import main
-from checker.envelope import load_limits
-from checker.findings import BUNDLED_LIMITS
+from checker.documents import BUNDLED_LIMITS
+from checker.limits import load_limits
 
 HEAD = '[meta]\ntitle = "t"\n'
 GZ = '[[duration]]\naxis = "gz"\ndirection = "positive"\npoints = [[0.0, 5.0], [2.0, 4.0]]\n'

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from checker.envelope import load_limits
+from checker.limits import load_limits
 from checker.operation import load_operation
 from checker.track import load_centerline
 from checker.train import load_train
@@ -53,7 +53,7 @@ def test_readme_track_train_operation_and_limits_examples_load(tmp_path):
 
 
 def test_readme_load_cases_example_loads(tmp_path):
-    from checker.cases import load_cases
+    from checker.loadcases import load_cases
 
     cases = next(b for b in blocks("toml") if "[[case]]" in b)
     (tmp_path / "cases.toml").write_text(cases)

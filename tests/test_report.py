@@ -7,9 +7,9 @@ import pytest
 from pypdf import PdfReader
 
 from checker.conditioning import FilterSpec
-from checker.envelope import DurationLimit, LimitSet, OnsetLimit, sha256_of
-from checker.findings import BUNDLED_LIMITS
+from checker.documents import BUNDLED_LIMITS
 from checker.history import RecordedSignal
+from checker.limits import DurationLimit, LimitSet, OnsetLimit, sha256_of
 from checker.report import ReportMeta, write_report
 from checker.report import pdf as pdf_module
 from checker.ride import CheckRun

@@ -12,7 +12,8 @@ from scipy import signal
 from shapely.geometry import LineString, Point, Polygon
 
 from checker.conditioning import FilterSpec, design_sos, lowpass
-from checker.envelope import (
+from checker.history import RecordedSignal
+from checker.limits import (
     CombinedEnvelope,
     DurationLimit,
     LimitSet,
@@ -21,7 +22,6 @@ from checker.envelope import (
     outside_fraction,
     polygon_problem,
 )
-from checker.history import RecordedSignal
 from checker.rules import evaluate, exposure_curve
 
 RATE = 200.0

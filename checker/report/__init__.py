@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from ..findings import evaluation_document, to_json
+from ..documents import evaluation_document, to_json
 from ..outputs import atomic_write_bytes, atomic_write_text, check_writable
 from .document import ReportMeta, build_html
 from .pdf import TemplatesOnlyFetcher, render_pdf

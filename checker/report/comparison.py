@@ -8,7 +8,7 @@ import numpy as np
 
 from .. import __version__
 from ..compare import MATCH_DISTANCE_M, MATCH_FRACTION, Comparison
-from ..findings import CAUTION
+from ..documents import CAUTION
 from . import figures
 from .document import PAGE_SIZES, _env, _fmt
 from .pdf import ASSET_SCHEME, TemplatesOnlyFetcher, render_pdf

@@ -13,8 +13,8 @@ import jinja2
 import numpy as np
 
 from .. import __version__
-from ..envelope import AXES, REST, contains
-from ..findings import CAUTION
+from ..documents import CAUTION
+from ..limits import AXES, REST, contains
 from ..rules import Evaluation
 from . import figures
 from .pdf import ASSET_SCHEME, TEMPLATES
@@ -35,7 +35,7 @@ class ReportMeta:
     review_items: list[str] = field(default_factory=list)
     stall: str | None = None
     date: str = ""
-    sweep: object | None = None  # checker.cases.Sweep: adds the governing and matrix tables
+    sweep: object | None = None  # checker.sweep.Sweep: adds the governing and matrix tables
 
 
 def _env() -> jinja2.Environment:

@@ -16,7 +16,9 @@ from urllib.parse import unquote, urlparse
 from weasyprint import HTML
 from weasyprint.urls import URLFetcher, URLFetcherResponse
 
-TEMPLATES = Path(__file__).resolve().parents[2] / "templates"
+from ..resources import templates_folder
+
+TEMPLATES = templates_folder()
 
 
 ASSET_SCHEME = "checker-asset"

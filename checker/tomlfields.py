@@ -1,158 +1,21 @@
-"""Reading the project's text inputs: numeric CSV tables and TOML documents.
-
-Both readers raise :class:`checker.errors.InputError` that names the file, the line or key and
-the column, so every loader gives the same kind of one-line message.
-"""
+"""TOML documents and typed, checked access to their keys (unknown keys are errors)."""
 
 from __future__ import annotations
 
 import difflib
 import math
+import sys
 from collections.abc import Iterable
-from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
-import numpy as np
-import tomllib
-
 from .errors import InputError
+from .textfiles import read_text, suggest
 
-
-def _suggest(name: str, known: Iterable[str]) -> str:
-    known = list(known)
-    same_letters = [k for k in known if k.lower() == name.lower()]
-    close = same_letters or difflib.get_close_matches(name, known, n=1)
-    return f"did you mean '{close[0]}'?" if close else ""
-
-
-def read_text(path: Path) -> str:
-    """Read a UTF-8 text file; refuse binary and UTF-16 data with a clear message."""
-    try:
-        raw = path.read_bytes()
-    except FileNotFoundError:
-        raise InputError(path, "file not found", "check the path") from None
-    except IsADirectoryError:
-        raise InputError(path, "is a folder, not a file", "give a file path") from None
-    except OSError as exc:
-        raise InputError(path, f"cannot be read ({exc.strerror})", "check permissions") from None
-    if raw.startswith((b"\xff\xfe", b"\xfe\xff")) or b"\x00" in raw:
-        raise InputError(
-            path, "is binary or UTF-16 encoded, not UTF-8 text", "save it as UTF-8 text"
-        )
-    if raw.startswith(b"\xef\xbb\xbf"):
-        raise InputError(
-            path,
-            "starts with a byte-order mark (BOM)",
-            "save it as UTF-8 without BOM (e.g. 'CSV UTF-8' without signature)",
-            row=1,
-        )
-    try:
-        return raw.decode("utf-8")
-    except UnicodeDecodeError as exc:
-        line = raw[: exc.start].count(b"\n") + 1
-        raise InputError(path, "is not valid UTF-8 text", "save it as UTF-8", row=line) from None
-
-
-@dataclass(frozen=True)
-class NumericTable:
-    """Columns of a numeric CSV file, with the file line number of every data row."""
-
-    path: Path
-    columns: dict[str, np.ndarray]
-    lines: np.ndarray  # 1-based line numbers in the file, one per data row
-    text_columns: dict[str, list[str]]
-
-    def __len__(self) -> int:
-        return len(self.lines)
-
-    def has(self, name: str) -> bool:
-        return name in self.columns or name in self.text_columns
-
-
-def read_numeric_csv(
-    path: str | Path,
-    required: Iterable[str],
-    optional: Iterable[str] = (),
-    text: Iterable[str] = (),
-    what: str = "table",
-) -> NumericTable:
-    """Read a comma-separated table with a header row.
-
-    Lines starting with ``#`` and blank lines are skipped. Every column must be known, appear
-    once, and every cell of a numeric column must be a finite number. Columns in ``text`` are
-    kept as strings.
-    """
-    path = Path(path)
-    required = list(required)
-    known = required + list(optional) + list(text)
-    content = read_text(path)
-    header: list[str] | None = None
-    header_line = 0
-    rows: list[list[str]] = []
-    lines: list[int] = []
-    for number, line in enumerate(content.splitlines(), start=1):
-        stripped = line.strip()
-        if not stripped or stripped.startswith("#"):
-            continue
-        fields = [f.strip() for f in stripped.split(",")]
-        if header is None:
-            header, header_line = fields, number
-            continue
-        rows.append(fields)
-        lines.append(number)
-    if header is None:
-        raise InputError(path, f"is empty: no header row found for the {what}",
-                         f"the first line must name the columns: {', '.join(required)}")
-    if len(header) == 1 and any(sep in header[0] for sep in (";", "\t", "|")):
-        raise InputError(path, "is not comma-separated (found ';', tab or '|' in the header)",
-                         "use commas between columns and '.' as the decimal point",
-                         row=header_line)
-    seen: set[str] = set()
-    for name in header:
-        if name == "":
-            raise InputError(path, "has an empty column name in the header",
-                             "remove the trailing comma or name the column", row=header_line)
-        if name in seen:
-            raise InputError(path, "column appears twice in the header",
-                             "keep one of them", row=header_line, column=name)
-        seen.add(name)
-        if name not in known:
-            hint = _suggest(name, known) or f"known columns: {', '.join(known)}"
-            raise InputError(path, "unknown column", hint, row=header_line, column=name)
-    for name in required:
-        if name not in seen:
-            raise InputError(path, f"missing required column '{name}'",
-                             f"the header must contain: {', '.join(required)}",
-                             row=header_line, column=name)
-    if not rows:
-        raise InputError(path, f"has a header but no data rows for the {what}",
-                         "add the samples below the header", row=header_line)
-    text_set = set(text)
-    values = {name: np.empty(len(rows)) for name in header if name not in text_set}
-    strings: dict[str, list[str]] = {name: [] for name in header if name in text_set}
-    for i, (fields, number) in enumerate(zip(rows, lines)):
-        if len(fields) != len(header):
-            hint = "check for decimal commas (use '.') or a missing value"
-            raise InputError(path, f"has {len(fields)} values where the header has "
-                             f"{len(header)}", hint, row=number)
-        for name, cell in zip(header, fields):
-            if name in text_set:
-                strings[name].append(cell)
-                continue
-            try:
-                value = float(cell)
-            except ValueError:
-                shown = cell if len(cell) <= 20 else cell[:17] + "..."
-                raise InputError(path, f"'{shown}' is not a number",
-                                 "write a plain decimal number such as 12.5",
-                                 row=number, column=name) from None
-            if not math.isfinite(value):
-                raise InputError(path, f"value '{cell}' is not finite",
-                                 "replace NaN or infinite values with real numbers",
-                                 row=number, column=name)
-            values[name][i] = value
-    return NumericTable(path, values, np.asarray(lines), strings)
+if sys.version_info >= (3, 11):
+    import tomllib
+else:  # Python 3.10
+    import tomli as tomllib
 
 
 def load_toml(path: str | Path) -> dict[str, Any]:
@@ -284,7 +147,7 @@ class Fields:
             options = list(choices)
             if value not in options:
                 raise self.error(name, f"'{value}' is not one of: {', '.join(options)}",
-                                 _suggest(value, options) or "use one of the listed words")
+                                 suggest(value, options) or "use one of the listed words")
         return value
 
     def flag(self, name: str, default: bool) -> bool:
@@ -321,7 +184,5 @@ class Fields:
         unknown = sorted(set(self.table) - self.used)
         if unknown:
             name = unknown[0]
-            hint = _suggest(name, self.used) or "remove it or check the spelling"
+            hint = suggest(name, self.used) or "remove it or check the spelling"
             raise self.error(name, "is not a known key", hint)
-
-

@@ -14,8 +14,9 @@ from pathlib import Path
 import numpy as np
 
 from .conditioning import FilterSpec
+from .csvtable import read_numeric_csv
 from .errors import InputError
-from .tabular import Fields, load_toml, read_numeric_csv
+from .tomlfields import Fields, load_toml
 
 AXES = ("gx", "gy", "gz")
 PLANES = {("gx", "gz"): "x-z", ("gy", "gz"): "y-z", ("gx", "gy"): "x-y"}

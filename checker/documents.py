@@ -8,10 +8,10 @@ from __future__ import annotations
 
 import json
 import math
-from pathlib import Path
 
 from . import __version__
-from .envelope import AXES
+from .limits import AXES
+from .resources import bundled_limits
 from .rules import Evaluation
 
 CAUTION = ("This is a pre-submission self-check, not a certification or an approval. The "
@@ -19,7 +19,7 @@ CAUTION = ("This is a pre-submission self-check, not a certification or an appro
            "decide.")
 ILLUSTRATIVE_NOTE = ("The limit set used is ILLUSTRATIVE (invented example values, not from any "
                      "standard); results against it say nothing about compliance.")
-BUNDLED_LIMITS = Path(__file__).resolve().parents[1] / "limits" / "illustrative.toml"
+BUNDLED_LIMITS = bundled_limits()
 
 
 def _clean(value):
