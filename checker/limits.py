@@ -76,6 +76,20 @@ class CombinedEnvelope:
 
 
 @dataclass(frozen=True)
+class Zone:
+    """One region of a restraint diagram in the (Gx, Gz) plane [g0].
+
+    ``order`` ranks the zones from least (1) to most restraint; a visit counts only when the
+    filtered trace stays inside for at least ``dwell_s`` [s].
+    """
+
+    name: str
+    order: int
+    vertices: np.ndarray  # (m, 2): (gx, gz)
+    dwell_s: float = 0.0
+
+
+@dataclass(frozen=True)
 class OnsetLimit:
     axis: str
     limit_g_per_s: float
@@ -94,6 +108,8 @@ class LimitSet:
     path: str = "<memory>"
     sha256: str = ""
     files: tuple[tuple[str, str], ...] = ()  # (path, sha256) of the file and its tables
+    zones: tuple[Zone, ...] = ()  # restraint diagram, by increasing order
+    uplift_free_travel_m: float | None = None  # [uplift] free_travel_m: allowed rise [m]
 
 
 def sha256_of(path: str | Path) -> str:
@@ -294,7 +310,16 @@ def load_limits(path: str | Path) -> LimitSet:
         axes = tuple(axes_raw)
         name = f.text("name", PLANES[axes] + " envelope")
         shape = f.text("shape", "polygon", choices=("polygon", "ellipse"))
-        if shape == "ellipse":
+        at = f.raw("at_duration_s")
+        if isinstance(at, str) and (shape != "ellipse" or at != "sustained"):
+            raise f.error("at_duration_s", f"'{at}' is not a duration",
+                          "give seconds (a number) or \"sustained\", with shape = \"ellipse\"")
+        if shape == "ellipse" and at == "sustained":
+            # admissible levels per sample for the duration held (checker.sustained); the
+            # vertices are the outer bound (at 0 s), for figures
+            vertices = _ellipse(duration, axes, 0.0, f)
+            shape = "sustained"
+        elif shape == "ellipse":
             vertices = _ellipse(duration, axes, f.number("at_duration_s", 0.0, minimum=0), f)
         else:
             vertices = _points_from(f, "vertices", base, axes, files)
@@ -318,8 +343,37 @@ def load_limits(path: str | Path) -> LimitSet:
         onset.append(OnsetLimit(f.text("axis", choices=AXES),
                                 f.number("limit_g_per_s", positive=True, maximum=1e4)))
         f.done()
+    zones = _zones(doc, base, files)
+    up = doc.sub("uplift")
+    free_travel = up.optional_number("free_travel_m", positive=True, maximum=10,
+                                     unit=" m")
+    up.done()
     doc.done()
-    if not (duration or combined or onset):
+    if not (duration or combined or onset or zones or free_travel):
         raise InputError(path, "holds no limits", "add [[duration]], [[combined]] or [[onset]]")
     return LimitSet(title, represents, revision, illustrative, spec, duration,
-                    tuple(combined), tuple(onset), str(path), files[0][1], tuple(files))
+                    tuple(combined), tuple(onset), str(path), files[0][1], tuple(files),
+                    zones, free_travel)
+
+
+def _zones(doc: Fields, base: Path, files: list) -> tuple[Zone, ...]:
+    """``[[zones]]``: name, order (1 = least restraint), vertices [[gx, gz], ...], dwell_s."""
+    zones = []
+    for f in doc.table_list("zones"):
+        name = f.text("name")
+        order = f.integer("order", minimum=1, maximum=1000)
+        vertices = _points_from(f, "vertices", base, ("gx", "gz"), files)
+        if len(vertices) >= 2 and np.allclose(vertices[0], vertices[-1]):
+            vertices = vertices[:-1]
+        problem = polygon_problem(vertices)
+        if problem:
+            raise f.error("vertices", "polygon " + problem,
+                          "list the (gx, gz) vertices in order around the zone")
+        dwell = f.number("dwell_s", 0.0, minimum=0, maximum=60, unit=" s")
+        f.done()
+        taken = [z.name for z in zones if z.order == order]
+        if taken:
+            raise f.error("order", f"order {order} is used by zone '{taken[0]}' too",
+                          "give each zone its own rank, 1 = least restraint")
+        zones.append(Zone(name, order, vertices, dwell))
+    return tuple(sorted(zones, key=lambda z: z.order))

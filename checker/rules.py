@@ -44,6 +44,8 @@ class Finding:
     s_worst_m: float | None = None
     position_m: tuple[float, float, float] | None = None
     detail: str = ""
+    ratio: float | None = None  # sustained combined rule: (a/A)^2 + (b/B)^2 at the worst sample
+    admissible_g: tuple[float, float] | None = None  # sustained combined rule: (A, B) [g0]
 
     @property
     def severity(self) -> float:
@@ -73,6 +75,9 @@ class SeatResult:
     exposures: dict = field(default_factory=dict)  # rule name -> Exposure (signed levels)
     filtered: np.ndarray | None = None
     t: np.ndarray | None = None
+    uplift: object | None = None  # checker.uplift.UpliftSummary
+    zones: object | None = None  # checker.zones.ZoneSummary (when the limits carry zones)
+    margins: dict = field(default_factory=dict)  # rule -> worst margin (checker.sensitivity)
 
     @property
     def verdict(self) -> str:
@@ -304,14 +309,27 @@ def evaluate_seat(seat, limits: LimitSet, case: str = "nominal",
         if exposure is not None:
             exposures[rule.name] = exposure
     for env in limits.combined:
-        findings += _combined_findings(filtered, env, ctx)
+        if env.source == "sustained":
+            from .sustained import sustained_findings
+            findings += sustained_findings(filtered, env, limits.duration, ctx, dt)
+        else:
+            findings += _combined_findings(filtered, env, ctx)
     for onset in limits.onset:
         findings += _onset_findings(filtered[:, AXIS_INDEX[onset.axis]], onset.axis,
                                     onset.limit_g_per_s, ctx)
     worst = {axis: (float(filtered[:, i].min()), float(filtered[:, i].max()))
              for i, axis in enumerate(AXES)}
+    from .sensitivity import rule_margins
+    from .uplift import seat_uplift, uplift_findings
+    from .zones import seat_zones
+
+    uplift = seat_uplift(filtered[:, 2], t, ctx.s, limits.uplift_free_travel_m)
+    findings += uplift_findings(uplift, ctx)
+    zones = (seat_zones(filtered[:, 0], filtered[:, 2], t, limits.zones, ctx.s, ctx.position)
+             if limits.zones else None)
     return SeatResult(seat.seat, case, worst, findings, exposures,
-                      filtered if keep_signals else None, t if keep_signals else None)
+                      filtered if keep_signals else None, t if keep_signals else None,
+                      uplift, zones, rule_margins(filtered, dt, limits, t, uplift))
 
 
 def evaluate(seats, limits: LimitSet, case: str = "nominal",

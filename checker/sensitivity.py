@@ -1,0 +1,280 @@
+"""Sensitivity: how each physical parameter moves each rule's margin.
+
+Every rule has a *margin* for every seat: the worst (smallest) margin over the ride, in the
+rule's own unit, positive while the rule holds and negative when it is exceeded (the margin a
+finding carries is the same number at its worst window). For each rule, the governing seat is
+the one with the smallest margin in the nominal run. Each physical parameter is then changed by
+a small step up and down as a load case (:func:`checker.loadcases.apply_case`), every case is
+run through the sweep executor (:func:`checker.sweep.run_cases`), and the margin's derivative
+is the central difference (m(+h) - m(-h)) / 2h; at a bound of the parameter (occupancy 1,
+start speed 0, no rolling resistance) a one-sided difference is used and marked as such.
+
+Derivatives of different parameters have different units; to rank them each is multiplied by
+a stated *typical change* of its parameter (e.g. 10 kg of rider mass, 5 m/s of wind), and the
+table names the parameter whose typical change moves each margin most.
+
+References
+----------
+Central and one-sided finite differences: any numerical analysis text, e.g. Burden & Faires,
+*Numerical Analysis*, numerical differentiation (from memory).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from .conditioning import onset_rate
+from .limits import AXES, REST, LimitSet, outside_fraction
+from .loadcases import LoadCase
+
+
+@dataclass(frozen=True)
+class Parameter:
+    """A physical parameter varied by the sensitivity run."""
+
+    key: str
+    label: str
+    unit: str
+    step: float  # finite-difference step [unit]
+    typical: float  # a typical change in practice, for ranking [unit]
+
+
+PARAMETERS = (
+    Parameter("rider_mass_kg", "rider mass", "kg", 2.0, 10.0),
+    Parameter("occupancy", "occupancy", "fraction", 0.05, 0.25),
+    Parameter("rolling_coefficient", "rolling coefficient", "-", 0.001, 0.003),
+    Parameter("drag_area_m2", "drag area CdA", "m^2", 0.05, 0.3),
+    Parameter("air_density_kg_m3", "air density", "kg/m^3", 0.02, 0.1),
+    Parameter("head_wind_m_s", "head wind", "m/s", 0.5, 5.0),
+    Parameter("start_speed_m_s", "start speed", "m/s", 0.25, 1.0),
+    Parameter("lift_speed_pct", "lift speed", "%", 2.0, 10.0),
+)
+
+
+@dataclass(frozen=True)
+class SensitivityRow:
+    """One rule at its governing seat: margin and its derivatives per parameter."""
+
+    rule: str
+    seat: str
+    margin: float
+    derivative: dict  # parameter key -> d margin / d parameter [rule unit per unit], or None
+    one_sided: tuple[str, ...]  # parameters differenced one-sided (at a bound)
+
+    def effect(self, p: Parameter) -> float | None:
+        d = self.derivative.get(p.key)
+        return None if d is None else d * p.typical
+
+    @property
+    def dominant(self) -> str | None:
+        """The parameter whose typical change moves this margin most."""
+        effects = [(abs(self.effect(p)), p.key) for p in PARAMETERS
+                   if self.effect(p) is not None]
+        return max(effects)[1] if effects and max(effects)[0] > 0 else None
+
+    def to_dict(self) -> dict:
+        return {"rule": self.rule, "seat": self.seat, "margin": self.margin,
+                "derivative": dict(self.derivative),
+                "typical_effect": {p.key: self.effect(p) for p in PARAMETERS
+                                   if p.key in self.derivative},
+                "one_sided": list(self.one_sided), "dominant": self.dominant}
+
+
+@dataclass(frozen=True)
+class Sensitivity:
+    rows: tuple[SensitivityRow, ...]
+    parameters: tuple[Parameter, ...]
+    base: dict  # parameter key -> nominal value
+    skipped: dict  # parameter key -> why it was not varied
+
+    def to_dict(self) -> dict:
+        return {"parameters": [{"key": p.key, "label": p.label, "unit": p.unit,
+                                "step": p.step, "typical_change": p.typical,
+                                "nominal": self.base.get(p.key)} for p in self.parameters],
+                "skipped": dict(self.skipped), "rows": [r.to_dict() for r in self.rows]}
+
+
+def _duration_margin(x: np.ndarray, dt: float, rule) -> float:
+    from .rules import sustained_windows
+
+    signed = rule.sign * x
+    left, right = sustained_windows(signed)
+    allowed = rule.sign * rule.allowed((right - left + 1) * dt)
+    return float(np.min(allowed - signed))
+
+
+def _polygon_margin(pair: np.ndarray, env) -> float:
+    center = np.array([REST[env.axes[0]], REST[env.axes[1]]])
+    away = np.any(np.abs(pair - center) > 1e-12, axis=1)
+    if not away.any():
+        return 1.0
+    return -float(np.max(outside_fraction(env.vertices, center, pair[away])))
+
+
+def rule_margins(filtered: np.ndarray, dt: float, limits: LimitSet, t: np.ndarray,
+                 uplift=None) -> dict:
+    """Worst margin of every rule over one seat's filtered signal (rule name -> margin).
+
+    Units as the findings': g0 for duration rules, the fraction of the envelope for combined
+    ones, g0/s for onset, metres for uplift.
+    """
+    idx = {a: i for i, a in enumerate(AXES)}
+    out = {}
+    if len(filtered) == 0:
+        return out
+    for rule in limits.duration:
+        out[f"duration {rule.name}"] = _duration_margin(filtered[:, idx[rule.axis]], dt, rule)
+    for env in limits.combined:
+        pair = filtered[:, [idx[env.axes[0]], idx[env.axes[1]]]]
+        if env.source == "sustained":
+            from .sustained import pair_limits, sustained_combined
+
+            res = sustained_combined(pair[:, 0], pair[:, 1], dt,
+                                     pair_limits(limits.duration, env.axes[0]),
+                                     pair_limits(limits.duration, env.axes[1]))
+            out[f"combined {env.name}"] = 1.0 - float(np.sqrt(res.ratio.max()))
+        else:
+            out[f"combined {env.name}"] = _polygon_margin(pair, env)
+    if len(t) > 1:
+        for onset in limits.onset:
+            rate = onset_rate(filtered[:, idx[onset.axis]], t)
+            out[f"onset {onset.axis}"] = float(onset.limit_g_per_s - np.max(np.abs(rate)))
+    if uplift is not None and uplift.free_travel_m is not None:
+        worst = uplift.worst
+        out["uplift free travel"] = uplift.free_travel_m - (worst.peak_m if worst else 0.0)
+    return out
+
+
+def nominal_values(train, operation, options) -> dict:
+    """The nominal value of every parameter (None where it does not apply)."""
+    lifts = [s for s in operation.sections if s.kind == "lift"]
+    occ = (float(np.mean(train.occupancy_by_car)) if train.occupancy_by_car
+           else float(train.occupancy))
+    return {"rider_mass_kg": train.rider_mass_kg, "occupancy": occ,
+            "rolling_coefficient": train.rolling_coefficient,
+            "drag_area_m2": train.drag_area_m2, "air_density_kg_m3": train.air_density_kg_m3,
+            "head_wind_m_s": options.head_wind_m_s,
+            "start_speed_m_s": operation.start_speed_m_s,
+            "lift_speed_pct": 100.0 if lifts else None}
+
+
+BOUNDS = {"rider_mass_kg": (1.0, 500.0), "occupancy": (0.0, 1.0),
+          "rolling_coefficient": (0.0, 0.5), "drag_area_m2": (0.0, 100.0),
+          "air_density_kg_m3": (0.01, 5.0), "head_wind_m_s": (-60.0, 60.0),
+          "start_speed_m_s": (0.0, 100.0), "lift_speed_pct": (1.0, 500.0)}
+
+
+def _case(p: Parameter, value: float, name: str, base: dict) -> LoadCase:
+    if p.key == "lift_speed_pct":
+        return LoadCase(name, lift_speed_factor=value / 100.0)
+    if p.key == "occupancy":
+        return LoadCase(name, occupancy=float(value))
+    if p.key == "rolling_coefficient":
+        return LoadCase(name, rolling_coefficient=float(value))
+    if p.key == "head_wind_m_s":
+        return LoadCase(name, head_wind_m_s=float(value))
+    return LoadCase(name, **{p.key: float(value)})
+
+
+def perturbation_cases(base: dict, parameters=PARAMETERS) -> tuple[list[LoadCase], dict,
+                                                                   dict]:
+    """Load cases for every parameter's step down and up, with the points used.
+
+    Returns (cases, points, skipped): points maps a parameter key to ((name, value) below,
+    (name, value) above); skipped maps a key to the reason it is not varied.
+    """
+    cases, points, skipped = [], {}, {}
+    for p in parameters:
+        x0 = base.get(p.key)
+        if x0 is None:
+            skipped[p.key] = "not in this ride (no lift section)"
+            continue
+        lo_b, hi_b = BOUNDS[p.key]
+        lo, hi = max(lo_b, x0 - p.step), min(hi_b, x0 + p.step)
+        if hi - lo <= 0:
+            skipped[p.key] = "no room to vary it"
+            continue
+        pair = []
+        for tag, value in (("-", lo), ("+", hi)):
+            name = f"sensitivity {p.key} {tag}"
+            if value == x0:
+                name = "sensitivity nominal"
+            else:
+                cases.append(_case(p, value, name, base))
+            pair.append((name, value))
+        points[p.key] = tuple(pair)
+    cases.insert(0, LoadCase("sensitivity nominal"))
+    return cases, points, skipped
+
+
+def sensitivity_from_sweep(sweep, base: dict, points: dict, skipped: dict,
+                           parameters=PARAMETERS) -> Sensitivity:
+    """Derivatives of every rule's governing margin from a sweep of the perturbation cases."""
+    by_case = {o.case: o for o in sweep.outcomes}
+    nominal = by_case["sensitivity nominal"]
+    margins = {(s.seat, o.case): s.margins for o in sweep.outcomes
+               for s in o.evaluation.seats}
+    rules: dict[str, tuple[float, str]] = {}
+    for s in nominal.evaluation.seats:
+        for rule, m in s.margins.items():
+            if rule not in rules or m < rules[rule][0]:
+                rules[rule] = (m, s.seat)
+    rows = []
+    for rule, (m0, seat) in rules.items():
+        deriv, one_sided = {}, []
+        for p in parameters:
+            if p.key not in points:
+                continue
+            (name_lo, x_lo), (name_hi, x_hi) = points[p.key]
+            stalled = by_case[name_lo].stall or by_case[name_hi].stall
+            m_lo = margins.get((seat, name_lo), {}).get(rule)
+            m_hi = margins.get((seat, name_hi), {}).get(rule)
+            if stalled or m_lo is None or m_hi is None:
+                deriv[p.key] = None
+                continue
+            deriv[p.key] = (m_hi - m_lo) / (x_hi - x_lo)
+            if x_lo == base[p.key] or x_hi == base[p.key]:
+                one_sided.append(p.key)
+        rows.append(SensitivityRow(rule, seat, m0, deriv, tuple(one_sided)))
+    rows.sort(key=lambda r: r.margin)
+    return Sensitivity(tuple(rows), tuple(parameters), dict(base), dict(skipped))
+
+
+def run_sensitivity(centerline, train, operation, limits: LimitSet, options, *,
+                    workers: int | None = None, scheduler: str | None = None,
+                    progress=None) -> Sensitivity:
+    """Every rule's governing margin and its derivative per parameter, by central
+    differences over load cases run on the sweep executor."""
+    from .sweep import run_cases
+
+    base = nominal_values(train, operation, options)
+    cases, points, skipped = perturbation_cases(base)
+    sweep = run_cases(centerline, train, operation, limits, options, cases, workers=workers,
+                      scheduler=scheduler, progress=progress)
+    return sensitivity_from_sweep(sweep, base, points, skipped)
+
+
+def sensitivity_table(sens: Sensitivity) -> str:
+    """Terminal table: margin, the change of the margin for each parameter's typical change,
+    and the parameter that moves it most."""
+    params = [p for p in sens.parameters if p.key not in sens.skipped]
+    head = f"{'rule':<26} {'seat':<12} {'margin':>8} " + " ".join(
+        f"{p.label[:10]:>10}" for p in params) + "  moved most by"
+    lines = ["sensitivity: change of each margin for a typical change of each parameter",
+             "  (" + ", ".join(f"{p.label} {p.typical:g} {p.unit}" for p in params) + ")",
+             head, "-" * len(head)]
+    for r in sens.rows:
+        cells = []
+        for p in params:
+            e = r.effect(p)
+            cells.append(f"{'stall' if e is None else f'{e:+.3f}':>10}")
+        top = next((p.label for p in params if p.key == r.dominant), "-")
+        lines.append(f"{r.rule[:26]:<26} {r.seat[:12]:<12} {r.margin:8.3f} " + " ".join(cells)
+                     + f"  {top}")
+    if not sens.rows:
+        lines.append("  (no rule to rank)")
+    for key, why in sens.skipped.items():
+        lines.append(f"  {key}: not varied ({why})")
+    return "\n".join(lines)

@@ -1,0 +1,200 @@
+"""Rider uplift: how far an unrestrained rider would rise off the seat during negative Gz.
+
+While the seat pushes on the rider (filtered Gz >= 0) the rider moves with it. Where Gz falls
+below zero the seat would have to pull; an unrestrained rider leaves it with no relative speed
+and, relative to the seat, accelerates at ``-Gz g0`` along the seat's z axis (the rider is in
+free fall, the seat is not). The relative displacement d obeys d'' = -Gz(t) g0 from d = d' = 0
+at the moment Gz crosses zero, and the event ends when d returns to zero (the seat catches up
+with the rider). The rotation of the seat frame and the lateral and longitudinal axes are left
+out: this is the vertical free travel a restraint must allow or stop.
+
+Between samples the acceleration is taken as linear, which the integration below follows
+exactly (v by the trapezoid rule, d by the cubic term); the zero crossings at both ends are
+interpolated.
+
+References
+----------
+Uniform and piecewise-linear acceleration: any mechanics text, e.g. Halliday, Resnick &
+Walker, *Fundamentals of Physics*, chapter on motion along a straight line (from memory).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from .constants import G0
+
+
+@dataclass(frozen=True)
+class UpliftEvent:
+    """One flight of an unrestrained rider off the seat."""
+
+    t_start: float  # [s] Gz crosses below zero
+    t_end: float  # [s] the rider is back on the seat (or the record ends)
+    peak_m: float  # highest relative displacement off the seat [m]
+    t_peak: float  # [s]
+    min_gz: float  # lowest filtered Gz during the flight [g0]
+    landed: bool  # False when the record ends with the rider still off the seat
+    s_start_m: float | None = None  # station of the seat's car at the start [m]
+
+    @property
+    def duration_s(self) -> float:
+        return self.t_end - self.t_start
+
+    def to_dict(self) -> dict:
+        return {"t_start": self.t_start, "t_end": self.t_end, "duration_s": self.duration_s,
+                "peak_m": self.peak_m, "t_peak": self.t_peak, "min_gz": self.min_gz,
+                "landed": self.landed, "s_start_m": self.s_start_m}
+
+
+def _step(v: float, d: float, a0: float, a1: float, h: float) -> tuple[float, float]:
+    """Exact state after time h under acceleration linear from a0 to a1."""
+    return v + 0.5 * (a0 + a1) * h, d + v * h + (2.0 * a0 + a1) * h * h / 6.0
+
+
+def _peak_in_step(v: float, d: float, a0: float, a1: float, h: float) -> tuple[float, float]:
+    """Highest d within a step (where the relative speed changes sign), and its offset."""
+    best, at = d, 0.0
+    # v(x) = v + a0 x + (a1 - a0) x^2 / (2h): roots in (0, h)
+    c2, c1, c0 = (a1 - a0) / (2.0 * h), a0, v
+    if abs(c2) < 1e-15:
+        roots = [-c0 / c1] if abs(c1) > 1e-15 else []
+    else:
+        disc = c1 * c1 - 4.0 * c2 * c0
+        roots = [] if disc < 0 else [(-c1 + sgn * np.sqrt(disc)) / (2.0 * c2)
+                                     for sgn in (1.0, -1.0)]
+    for x in roots:
+        if 0.0 < x < h:
+            dx = d + v * x + a0 * x * x / 2.0 + (a1 - a0) * x ** 3 / (6.0 * h)
+            if dx > best:
+                best, at = dx, x
+    return best, at
+
+
+def _landing_in_step(v: float, d: float, a0: float, a1: float, h: float) -> float:
+    """Offset within a step at which d returns to zero (bisection on the exact cubic)."""
+    def pos(x: float) -> float:
+        return d + v * x + a0 * x * x / 2.0 + (a1 - a0) * x ** 3 / (6.0 * h)
+
+    lo, hi = 0.0, h
+    for _ in range(60):
+        mid = 0.5 * (lo + hi)
+        if pos(mid) > 0.0:
+            lo = mid
+        else:
+            hi = mid
+    return 0.5 * (lo + hi)
+
+
+def uplift_events(gz: np.ndarray, t: np.ndarray, station: np.ndarray | None = None,
+                  g0: float = G0) -> list[UpliftEvent]:
+    """Every flight of an unrestrained rider for one seat's filtered Gz.
+
+    Parameters
+    ----------
+    gz : (n,) filtered vertical specific force [g0]
+    t : (n,) sample times [s], increasing
+    station : (n,) station of the seat's car [m], or None
+    g0 : standard gravity [m/s^2]
+
+    Returns
+    -------
+    list of :class:`UpliftEvent`, in time order.
+    """
+    gz = np.asarray(gz, dtype=float)
+    t = np.asarray(t, dtype=float)
+    events: list[UpliftEvent] = []
+    starts = np.flatnonzero((gz[1:] < 0.0) & (gz[:-1] >= 0.0)) + 1
+    if gz.size and gz[0] < 0.0:
+        starts = np.concatenate([[0], starts])
+    i_free = 0  # the next sample at which a new flight may begin
+    acc = -gz * g0  # relative acceleration off the seat [m/s^2]
+    for i0 in starts.tolist():
+        if i0 < i_free:
+            continue
+        if i0 > 0:  # start at the interpolated zero crossing between i0 - 1 and i0
+            frac = gz[i0 - 1] / (gz[i0 - 1] - gz[i0])
+            t0 = t[i0 - 1] + frac * (t[i0] - t[i0 - 1])
+            v, d = _step(0.0, 0.0, 0.0, acc[i0], t[i0] - t0)
+        else:
+            t0, v, d = t[0], 0.0, 0.0
+        peak, t_peak, k, landed, t_end = d, t[i0], i0, False, t[-1]
+        while k + 1 < len(t):
+            h = t[k + 1] - t[k]
+            top, at = _peak_in_step(v, d, acc[k], acc[k + 1], h)
+            if top > peak:
+                peak, t_peak = top, t[k] + at
+            v1, d1 = _step(v, d, acc[k], acc[k + 1], h)
+            if d1 <= 0.0:
+                t_end = t[k] + _landing_in_step(v, d, acc[k], acc[k + 1], h)
+                landed = True
+                k += 1
+                break
+            v, d, k = v1, d1, k + 1
+        if d > peak:
+            peak, t_peak = d, t[k]
+        i_free = k
+        lo = int(np.searchsorted(t, t0))
+        hi = max(k, lo + 1)
+        events.append(UpliftEvent(
+            float(t0), float(t_end), float(peak), float(t_peak),
+            float(gz[lo:hi].min()) if hi > lo else float(gz[i0]), landed,
+            float(station[i0]) if station is not None else None))
+    return events
+
+
+@dataclass(frozen=True)
+class UpliftSummary:
+    """One seat's flights and the worst of them against the free-travel limit."""
+
+    events: tuple[UpliftEvent, ...]
+    free_travel_m: float | None = None
+
+    @property
+    def worst(self) -> UpliftEvent | None:
+        return max(self.events, key=lambda e: e.peak_m) if self.events else None
+
+    @property
+    def exceeding(self) -> tuple[UpliftEvent, ...]:
+        if self.free_travel_m is None:
+            return ()
+        return tuple(e for e in self.events if e.peak_m > self.free_travel_m)
+
+    def to_dict(self) -> dict:
+        worst = self.worst
+        return {"events": [e.to_dict() for e in self.events],
+                "peak_m": worst.peak_m if worst else 0.0,
+                "free_travel_m": self.free_travel_m,
+                "exceeding": len(self.exceeding)}
+
+
+def seat_uplift(gz: np.ndarray, t: np.ndarray, station: np.ndarray | None,
+                free_travel_m: float | None, min_peak_m: float = 1e-4) -> UpliftSummary:
+    """A seat's flights higher than ``min_peak_m`` [m] (0.1 mm: numerical dust is not a
+    flight), with the limit they are compared with."""
+    events = tuple(e for e in uplift_events(gz, t, station) if e.peak_m >= min_peak_m)
+    return UpliftSummary(events, free_travel_m)
+
+
+def uplift_findings(summary: UpliftSummary, ctx) -> list:
+    """One finding per flight higher than the free travel (peak and limit in metres).
+    ``ctx`` is the rule engine's location context."""
+    from .rules import Finding
+
+    out = []
+    for e in summary.exceeding:
+        start = int(np.searchsorted(ctx.t, e.t_start))
+        worst = min(int(np.searchsorted(ctx.t, e.t_peak)), len(ctx.t) - 1)
+        start = min(start, len(ctx.t) - 1)
+        out.append(Finding(
+            rule="uplift free travel", kind="uplift", axis="gz", seat=ctx.seat.seat,
+            case=ctx.case, t_start=e.t_start, t_end=e.t_end, duration_s=e.duration_s,
+            peak_g=e.peak_m, limit_g=float(summary.free_travel_m),
+            margin=float(summary.free_travel_m) - e.peak_m, t_worst=e.t_peak,
+            detail=f"an unrestrained rider would rise {100 * e.peak_m:.1f} cm off the seat "
+                   f"(Gz down to {e.min_gz:.2f} g for {e.duration_s:.2f} s); free travel "
+                   f"{100 * summary.free_travel_m:.1f} cm",
+            **ctx.locate(start, worst)))
+    return out
