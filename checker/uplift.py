@@ -135,7 +135,7 @@ def uplift_events(gz: np.ndarray, t: np.ndarray, station: np.ndarray | None = No
             v, d, k = v1, d1, k + 1
         if d > peak:
             peak, t_peak = d, t[k]
-        i_free = k
+        i_free = k if landed else len(t)
         lo = int(np.searchsorted(t, t0))
         hi = max(k, lo + 1)
         events.append(UpliftEvent(

@@ -1,0 +1,98 @@
+"""Rider uplift against uniform-acceleration closed forms.
+
+Source: motion with constant acceleration, x = v0 t + a t^2 / 2 and v^2 = v0^2 + 2 a x
+(Halliday, Resnick & Walker, Fundamentals of Physics, motion along a straight line; from
+memory).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from checker.uplift import seat_uplift, uplift_events
+
+G0 = 9.80665  # standard gravity [m/s^2], 3rd CGPM (1901)
+
+
+def step_signal(a: float, T: float, dt: float = 1e-4, before: float = 0.3, after: float = 3.0):
+    t = np.arange(0.0, before + T + after, dt)
+    gz = np.where((t >= before) & (t < before + T), -a, 1.0)
+    return t, gz
+
+
+def closed_form(a: float, T: float) -> tuple[float, float]:
+    """Gz = -a for T, then +1. Off the seat the rider accelerates away at a g0 for T:
+    x1 = a g0 T^2 / 2, v1 = a g0 T. Then the relative acceleration is -g0 (Gz = +1): it rises
+    a further v1^2 / (2 g0) = a^2 g0 T^2 / 2, so the peak is a g0 T^2 (1 + a) / 2. It rises
+    for v1 / g0 = a T and falls from the peak in sqrt(2 peak / g0) = T sqrt(a (1 + a))."""
+    x1, v1 = a * G0 * T ** 2 / 2, a * G0 * T
+    peak = x1 + v1 ** 2 / (2 * G0)
+    assert peak == pytest.approx(a * G0 * T ** 2 * (1 + a) / 2)
+    flight = T + v1 / G0 + np.sqrt(2 * peak / G0)
+    return peak, flight
+
+
+@pytest.mark.parametrize("a,T", [(0.3, 0.4), (1.0, 0.2), (0.05, 1.5)])
+def test_constant_negative_gz_then_rest_matches_uniform_acceleration(a, T):
+    t, gz = step_signal(a, T)
+    events = uplift_events(gz, t)
+    peak, flight = closed_form(a, T)
+    assert len(events) == 1
+    e = events[0]
+    # the sampled step is linear over one 0.1 ms interval: error of order dt / T
+    assert e.peak_m == pytest.approx(peak, rel=2e-3)
+    assert e.duration_s == pytest.approx(flight, abs=2e-3)
+    assert e.landed
+    assert e.min_gz == pytest.approx(-a)
+
+
+def test_rest_and_positive_gz_give_no_flight():
+    t = np.arange(0.0, 10.0, 0.005)
+    assert uplift_events(np.ones_like(t), t) == []
+    assert uplift_events(1.0 + 0.8 * np.sin(t), t) == []  # down to +0.2 g: still seated
+    assert seat_uplift(np.zeros_like(t), t, None, 0.05).events == ()  # exactly 0 g: no force
+
+
+def test_record_ending_in_flight_is_marked_and_limit_compared():
+    t = np.arange(0.0, 1.0, 1e-3)
+    gz = np.where(t >= 0.5, -0.5, 1.0)
+    summary = seat_uplift(gz, t, t * 10.0, free_travel_m=0.1)
+    (e,) = summary.events
+    assert not e.landed and e.t_end == pytest.approx(t[-1])
+    # a g0 t^2 / 2 after about 0.5 s
+    assert e.peak_m == pytest.approx(0.5 * G0 * (t[-1] - 0.5) ** 2 / 2, rel=1e-2)
+    assert e.s_start_m == pytest.approx(5.0, abs=0.02)
+    assert summary.exceeding == (e,)
+
+
+@settings(max_examples=40, deadline=None)
+@given(st.lists(st.floats(-1.5, 2.0), min_size=3, max_size=40))
+def test_events_agree_with_fine_explicit_integration(levels):
+    """Reference: semi-implicit Euler on a 100x finer grid of the same piecewise-linear Gz."""
+    dt = 0.05
+    t = np.arange(len(levels)) * dt
+    gz = np.asarray(levels)
+    fine_t = np.linspace(0.0, t[-1], 100 * (len(t) - 1) + 1)
+    fine = np.interp(fine_t, t, gz)
+    h = fine_t[1] - fine_t[0]
+    peaks, flying, v, d, best = [], False, 0.0, 0.0, 0.0
+    for g in fine:
+        if not flying and g < 0:
+            flying, v, d, best = True, 0.0, 0.0, 0.0
+        if flying:
+            v += -g * G0 * h
+            d += v * h
+            best = max(best, d)
+            if d <= 0:
+                peaks.append(best)
+                flying = False
+    if flying:
+        peaks.append(best)
+    got = [e.peak_m for e in uplift_events(gz, t)]
+    big = [p for p in peaks if p > 1e-3]
+    assert len([p for p in got if p > 1e-3]) == len(big)
+    for p, q in zip([p for p in got if p > 1e-3], big):
+        assert p == pytest.approx(q, rel=0.02, abs=2e-4)
