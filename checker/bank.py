@@ -39,7 +39,7 @@ from .ride import RideOptions, run_ride
 
 DEFAULT_ROLL_RATE_DEG_S = 60.0
 DEFAULT_TOLERANCE_G = 0.02
-DEFAULT_SMOOTHING_S = 0.3
+DEFAULT_SMOOTHING_S = 0.6
 MIN_SPEED_M_S = 0.5  # below this the roll rate is no constraint worth tracking
 
 
