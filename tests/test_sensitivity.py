@@ -1,0 +1,70 @@
+"""Sensitivity of rule margins against closed forms.
+
+Crest: on a frictionless track v^2 = v0^2 + 2 g0 (z0 - z) (energy conservation), so on a
+crest arc of radius R the vertical specific force Gz = cos(pitch) - v^2 / (g0 R) (uniform
+circular motion; at the top Gz = 1 - v^2 / (g0 R), Halliday, Resnick & Walker, from memory)
+changes with the start speed at d Gz / d v0 = -2 v0 / (g0 R) everywhere on the arc.
+Drag straight: a level straight with quadratic drag only decelerates at rho CdA v^2 / (2 m)
+(drag equation), so at the start Gx = -rho CdA (v0 + w)^2 / (2 m g0) with head wind w.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from shapes import G0, from_pitch_profile, straight
+
+from checker.conditioning import FilterSpec
+from checker.limits import DurationLimit, LimitSet
+from checker.operation import Operation
+from checker.ride import RideOptions
+from checker.sensitivity import run_sensitivity, sensitivity_table
+from checker.track import Centerline
+from checker.train import Seat, Train, ideal_rider
+
+
+def limits_with(rule: DurationLimit) -> LimitSet:
+    return LimitSet("test", "", "", False, FilterSpec(kind="none"), (rule,), (), ())
+
+
+def test_crest_margin_moves_with_start_speed_as_the_closed_form():
+    radius, v0 = 20.0, 12.0
+    s = np.arange(0.0, 20.0 + radius * np.radians(40.0) + 20.0, 0.25)
+    pitch = np.clip((s - 20.0) / radius, 0.0, np.radians(40.0))  # level, then over the top
+    pts = from_pitch_profile(s, -pitch)
+    rule = DurationLimit("gz", -1, np.array([0.0]), np.array([-1.0]))
+    sens = run_sensitivity(Centerline(pts), ideal_rider(), Operation(start_speed_m_s=v0),
+                           limits_with(rule), RideOptions(rate_hz=400.0), workers=1)
+    (row,) = sens.rows
+    assert row.rule == "duration -Gz"
+    assert row.derivative["start_speed_m_s"] == pytest.approx(-2 * v0 / (G0 * radius),
+                                                              rel=0.02)
+    assert row.derivative["rider_mass_kg"] == pytest.approx(0.0, abs=1e-9)  # no losses
+    assert row.derivative["air_density_kg_m3"] == pytest.approx(0.0, abs=1e-9)  # CdA = 0
+    assert row.derivative["drag_area_m2"] > 0  # drag slows the train: less airtime
+    assert row.dominant == "start_speed_m_s"
+    assert "lift_speed_pct" in sens.skipped  # no lift on this layout
+    assert "start speed" in sensitivity_table(sens)
+
+
+def test_drag_straight_margin_derivatives_match_the_drag_equation():
+    v0, rho, area, empty, rider = 20.0, 1.225, 1.5, 500.0, 75.0
+    train = Train(car_count=1, empty_mass_kg=empty, seats=(Seat("r"),), rider_mass_kg=rider,
+                  drag_area_m2=area, air_density_kg_m3=rho)
+    m = empty + rider
+    rule = DurationLimit("gx", -1, np.array([0.0]), np.array([-0.5]))
+    sens = run_sensitivity(Centerline(straight(200.0, 1.0)), train,
+                           Operation(start_speed_m_s=v0), limits_with(rule), RideOptions(),
+                           workers=1)
+    (row,) = sens.rows
+    gx0 = rho * area * v0 ** 2 / (2 * m * G0)
+    assert row.margin == pytest.approx(0.5 - gx0, rel=1e-3)
+    d = row.derivative
+    assert d["drag_area_m2"] == pytest.approx(-rho * v0 ** 2 / (2 * m * G0), rel=1e-3)
+    assert d["air_density_kg_m3"] == pytest.approx(-area * v0 ** 2 / (2 * m * G0), rel=1e-3)
+    assert d["head_wind_m_s"] == pytest.approx(-rho * area * v0 / (m * G0), rel=1e-3)
+    assert d["start_speed_m_s"] == pytest.approx(-rho * area * v0 / (m * G0), rel=1e-3)
+    assert d["rider_mass_kg"] == pytest.approx(gx0 / m, rel=1e-2)
+    assert d["occupancy"] == pytest.approx(gx0 / m * rider, rel=1e-2)  # one-sided at 1
+    assert d["rolling_coefficient"] == pytest.approx(-1.0, rel=1e-3)  # Gx = -mu, one-sided
+    assert set(row.one_sided) == {"occupancy", "rolling_coefficient"}
