@@ -106,42 +106,55 @@ def uplift_events(gz: np.ndarray, t: np.ndarray, station: np.ndarray | None = No
     gz = np.asarray(gz, dtype=float)
     t = np.asarray(t, dtype=float)
     events: list[UpliftEvent] = []
-    starts = np.flatnonzero((gz[1:] < 0.0) & (gz[:-1] >= 0.0)) + 1
-    if gz.size and gz[0] < 0.0:
-        starts = np.concatenate([[0], starts])
-    i_free = 0  # the next sample at which a new flight may begin
+    n = len(t)
     acc = -gz * g0  # relative acceleration off the seat [m/s^2]
-    for i0 in starts.tolist():
-        if i0 < i_free:
-            continue
-        if i0 > 0:  # start at the interpolated zero crossing between i0 - 1 and i0
-            frac = gz[i0 - 1] / (gz[i0 - 1] - gz[i0])
-            t0 = t[i0 - 1] + frac * (t[i0] - t[i0 - 1])
-            v, d = _step(0.0, 0.0, 0.0, acc[i0], t[i0] - t0)
+    starts = np.flatnonzero((gz[1:] < 0.0) & (gz[:-1] >= 0.0)) + 1
+    if n and gz[0] < 0.0:
+        starts = np.concatenate([[0], starts])
+    carry = None  # (time, acceleration, next sample): landed while Gz < 0, off again at once
+    k = 0
+    while True:
+        if carry is not None:
+            t0, a0, i0 = carry
         else:
-            t0, v, d = t[0], 0.0, 0.0
+            later = starts[starts >= k]
+            if later.size == 0:
+                break
+            i0 = int(later[0])
+            if i0 == 0:
+                t0, a0 = t[0], acc[0]
+            else:  # the zero crossing between i0 - 1 and i0
+                frac = gz[i0 - 1] / (gz[i0 - 1] - gz[i0])
+                t0, a0 = t[i0 - 1] + frac * (t[i0] - t[i0 - 1]), 0.0
+        carry = None
+        v, d = _step(0.0, 0.0, a0, acc[i0], t[i0] - t0) if t[i0] > t0 else (0.0, 0.0)
         peak, t_peak, k, landed, t_end = d, t[i0], i0, False, t[-1]
-        while k + 1 < len(t):
+        while k + 1 < n:
             h = t[k + 1] - t[k]
             top, at = _peak_in_step(v, d, acc[k], acc[k + 1], h)
             if top > peak:
                 peak, t_peak = top, t[k] + at
             v1, d1 = _step(v, d, acc[k], acc[k + 1], h)
             if d1 <= 0.0:
-                t_end = t[k] + _landing_in_step(v, d, acc[k], acc[k + 1], h)
-                landed = True
+                x = _landing_in_step(v, d, acc[k], acc[k + 1], h)
+                t_end, landed = t[k] + x, True
+                a_land = acc[k] + (acc[k + 1] - acc[k]) * x / h
+                if a_land > 0.0 and x < h:  # Gz < 0 as the seat catches up
+                    carry = (t_end, a_land, k + 1)
                 k += 1
                 break
             v, d, k = v1, d1, k + 1
-        if d > peak:
+        if d > peak and not landed:
             peak, t_peak = d, t[k]
-        i_free = k if landed else len(t)
-        lo = int(np.searchsorted(t, t0))
-        hi = max(k, lo + 1)
+        if not landed:
+            k = n
+        lo = max(int(np.searchsorted(t, t0)) - 1, 0)
+        hi = max(min(k, n - 1) + 1, lo + 1)
         events.append(UpliftEvent(
-            float(t0), float(t_end), float(peak), float(t_peak),
-            float(gz[lo:hi].min()) if hi > lo else float(gz[i0]), landed,
-            float(station[i0]) if station is not None else None))
+            float(t0), float(t_end), float(peak), float(t_peak), float(gz[lo:hi].min()),
+            landed, float(station[min(i0, n - 1)]) if station is not None else None))
+        if k >= n:
+            break
     return events
 
 
