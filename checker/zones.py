@@ -1,11 +1,13 @@
 """Restraint zones: where a ride's (Gx, Gz) trace falls on the user's own zone diagram.
 
 A limits file may carry a diagram of zones in the Gx-Gz plane (``[[zones]]``), ranked from
-least (order 1) to most restraint. A seat *reaches* a zone when its filtered (Gx, Gz) stays
-inside the zone's polygon continuously for at least the zone's dwell time; shorter visits do
-not count. Per seat the highest zone reached is reported with when and where; samples outside
-every zone are reported too (the diagram does not cover them). Zones may overlap or nest:
-each is tested on its own.
+least (order 1) to most restraint. Each sample belongs to the least-restraint
+zone whose polygon contains it, so a diagram may be drawn as nested regions (each zone the
+whole region it allows) or as adjacent ones. A seat *reaches* a zone when its filtered
+(Gx, Gz) stays in that zone or a higher one continuously for at least the zone's dwell time;
+shorter visits do not count. Per seat the highest zone reached is reported with when and
+where; samples outside every zone are reported too (the diagram does not cover them; they
+count as beyond the highest zone).
 
 Point-in-polygon test: :func:`checker.limits.contains` (matplotlib.path, boundary inside).
 """
@@ -78,15 +80,17 @@ def seat_zones(gx: np.ndarray, gz: np.ndarray, t: np.ndarray, zones: tuple[Zone,
     A run of n samples inside a zone lasts n * dt (each sample stands for one interval, as
     the rule engine counts durations); it counts when that is at least the zone's dwell time.
     """
+    zones = tuple(sorted(zones, key=lambda z: z.order))
     t = np.asarray(t, dtype=float)
     dt = float(np.median(np.diff(t))) if len(t) > 1 else 0.0
     pts = np.column_stack([gx, gz])
-    inside_any = np.zeros(len(t), dtype=bool)
+    level = np.full(len(t), len(zones))  # index of each sample's zone; len(zones): outside
+    for k in range(len(zones) - 1, -1, -1):  # the least-restraint zone containing it wins
+        level[contains(zones[k].vertices, pts)] = k
+    inside_any = level < len(zones)
     reached = []
-    for zone in zones:
-        inside = contains(zone.vertices, pts)
-        inside_any |= inside
-        first, last = _runs(inside)
+    for k, zone in enumerate(zones):
+        first, last = _runs(level >= k)
         length = (last - first + 1) * dt
         ok = np.flatnonzero(length >= zone.dwell_s - 1e-9)
         if ok.size == 0:
