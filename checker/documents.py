@@ -54,6 +54,9 @@ def evaluation_document(evaluation: Evaluation, inputs: list[tuple[str, str]],
                   for s in evaluation.seats],
         "findings": [f.to_dict() for f in evaluation.findings],
     }
+    from .aids import aids_document
+
+    doc.update(aids_document(evaluation))  # uplift, zones, sustained (checker.aids)
     if extra:
         doc.update(extra)
     return _clean(doc)

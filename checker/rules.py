@@ -308,10 +308,13 @@ def evaluate_seat(seat, limits: LimitSet, case: str = "nominal",
         findings += found
         if exposure is not None:
             exposures[rule.name] = exposure
+    sustained = {}
     for env in limits.combined:
         if env.source == "sustained":
             from .sustained import sustained_findings
-            findings += sustained_findings(filtered, env, limits.duration, ctx, dt)
+            found, sustained[env.name] = sustained_findings(filtered, env, limits.duration,
+                                                            ctx, dt)
+            findings += found
         else:
             findings += _combined_findings(filtered, env, ctx)
     for onset in limits.onset:
@@ -329,7 +332,7 @@ def evaluate_seat(seat, limits: LimitSet, case: str = "nominal",
              if limits.zones else None)
     return SeatResult(seat.seat, case, worst, findings, exposures,
                       filtered if keep_signals else None, t if keep_signals else None,
-                      uplift, zones, rule_margins(filtered, dt, limits, t, uplift))
+                      uplift, zones, rule_margins(filtered, dt, limits, t, uplift, sustained))
 
 
 def evaluate(seats, limits: LimitSet, case: str = "nominal",

@@ -97,12 +97,48 @@ class Sensitivity:
 
 
 def _duration_margin(x: np.ndarray, dt: float, rule) -> float:
-    from .rules import sustained_windows
+    """min over samples of (allowed(held) - level), in the rule's direction. Only samples
+    that can beat the margin of the highest sample are windowed (windows_above)."""
+    from .rules import windows_above
 
     signed = rule.sign * x
-    left, right = sustained_windows(signed)
-    allowed = rule.sign * rule.allowed((right - left + 1) * dt)
-    return float(np.min(allowed - signed))
+    top = int(np.argmax(signed))
+    peak = signed[top]
+    lo, hi = top, top
+    while lo > 0 and signed[lo - 1] >= peak:
+        lo -= 1
+    while hi < len(signed) - 1 and signed[hi + 1] >= peak:
+        hi += 1
+    best = float(rule.sign * rule.allowed(np.array([(hi - lo + 1) * dt]))[0] - peak)
+    floor = float(np.min(rule.sign * rule.levels_g)) - best  # below it a sample does better
+    samples, left, right = windows_above(signed, floor)
+    if samples.size:
+        allowed = rule.sign * rule.allowed((right - left + 1) * dt)
+        best = min(best, float(np.min(allowed - signed[samples])))
+    return best
+
+
+def ray_fraction(vertices: np.ndarray, center: np.ndarray, points: np.ndarray) -> np.ndarray:
+    """:func:`checker.limits.outside_fraction` in O(n log m) for a polygon that every ray
+    from ``center`` crosses once (star-shaped about it); the general routine otherwise."""
+    a = vertices - center
+    ang = np.arctan2(a[:, 1], a[:, 0])
+    steps = np.angle(np.exp(1j * np.diff(np.append(ang, ang[0]))))
+    if not (np.all(steps > 0) or np.all(steps < 0)) or abs(abs(steps.sum()) - 2 * np.pi) > 1e-6:
+        return outside_fraction(vertices, center, points)
+    if steps[0] < 0:  # walk the polygon counter-clockwise
+        a = a[::-1]
+        ang = ang[::-1]
+        steps = np.angle(np.exp(1j * np.diff(np.append(ang, ang[0]))))
+    unwrapped = ang[0] + np.concatenate([[0.0], np.cumsum(steps[:-1])])
+    p = np.asarray(points, dtype=float) - center
+    theta = np.mod(np.arctan2(p[:, 1], p[:, 0]) - ang[0], 2 * np.pi) + ang[0]
+    i = np.clip(np.searchsorted(unwrapped, theta, side="right") - 1, 0, len(a) - 1)
+    start, e = a[i], np.roll(a, -1, axis=0)[i] - a[i]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        t = (start[:, 0] * e[:, 1] - start[:, 1] * e[:, 0]) / (p[:, 0] * e[:, 1]
+                                                             - p[:, 1] * e[:, 0])
+    return np.where(np.isfinite(t) & (t > 0), 1.0 / t - 1.0, np.inf)
 
 
 def _polygon_margin(pair: np.ndarray, env) -> float:
@@ -110,15 +146,16 @@ def _polygon_margin(pair: np.ndarray, env) -> float:
     away = np.any(np.abs(pair - center) > 1e-12, axis=1)
     if not away.any():
         return 1.0
-    return -float(np.max(outside_fraction(env.vertices, center, pair[away])))
+    return -float(np.max(ray_fraction(env.vertices, center, pair[away])))
 
 
 def rule_margins(filtered: np.ndarray, dt: float, limits: LimitSet, t: np.ndarray,
-                 uplift=None) -> dict:
+                 uplift=None, sustained: dict | None = None) -> dict:
     """Worst margin of every rule over one seat's filtered signal (rule name -> margin).
 
     Units as the findings': g0 for duration rules, the fraction of the envelope for combined
-    ones, g0/s for onset, metres for uplift.
+    ones, g0/s for onset, metres for uplift. ``sustained`` maps a sustained envelope's name
+    to its :class:`checker.sustained.SustainedCombined` where the rule engine has it.
     """
     idx = {a: i for i, a in enumerate(AXES)}
     out = {}
@@ -131,7 +168,7 @@ def rule_margins(filtered: np.ndarray, dt: float, limits: LimitSet, t: np.ndarra
         if env.source == "sustained":
             from .sustained import pair_limits, sustained_combined
 
-            res = sustained_combined(pair[:, 0], pair[:, 1], dt,
+            res = (sustained or {}).get(env.name) or sustained_combined(pair[:, 0], pair[:, 1], dt,
                                      pair_limits(limits.duration, env.axes[0]),
                                      pair_limits(limits.duration, env.axes[1]))
             out[f"combined {env.name}"] = 1.0 - float(np.sqrt(res.ratio.max()))

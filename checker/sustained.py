@@ -98,9 +98,10 @@ def pair_limits(duration: tuple[DurationLimit, ...], axis: str
 
 
 def sustained_findings(filtered: np.ndarray, env, duration: tuple[DurationLimit, ...], ctx,
-                       dt: float) -> list:
-    """Findings of one sustained combined envelope for one seat: one per run of samples with
-    ratio > 1, at its worst sample. ``ctx`` is the rule engine's location context."""
+                       dt: float) -> tuple[list, SustainedCombined]:
+    """Findings of one sustained combined envelope for one seat (one per run of samples with
+    ratio > 1, at its worst sample) and the per-sample result. ``ctx`` is the rule engine's
+    location context."""
     from .rules import AXIS_INDEX, Finding
 
     ia, ib = AXIS_INDEX[env.axes[0]], AXIS_INDEX[env.axes[1]]
@@ -127,4 +128,4 @@ def sustained_findings(filtered: np.ndarray, env, duration: tuple[DurationLimit,
                    f"{adm[0]:.2f} g and {adm[1]:.2f} g are admissible: ratio "
                    f"{res.ratio[w]:.3f} > 1",
             **ctx.locate(start, w)))
-    return findings
+    return findings, res

@@ -68,3 +68,46 @@ def test_drag_straight_margin_derivatives_match_the_drag_equation():
     assert d["occupancy"] == pytest.approx(gx0 / m * rider, rel=1e-2)  # one-sided at 1
     assert d["rolling_coefficient"] == pytest.approx(-1.0, rel=1e-3)  # Gx = -mu, one-sided
     assert set(row.one_sided) == {"occupancy", "rolling_coefficient"}
+
+
+def test_fast_ray_fraction_equals_the_general_routine():
+    """The O(n log m) star-shaped path against checker.limits.outside_fraction (itself
+    checked against shapely in test_rules)."""
+    from checker.limits import outside_fraction
+    from checker.sensitivity import ray_fraction
+
+    rng = np.random.default_rng(5)
+    theta = np.linspace(0, 2 * np.pi, 40, endpoint=False)
+    radius = rng.uniform(0.8, 2.0, 40)
+    star = np.column_stack([radius * np.cos(theta), 1.0 + radius * np.sin(theta)])
+    pts = rng.uniform(-3, 3, (500, 2)) + [0, 1]
+    for poly in (star, star[::-1]):
+        np.testing.assert_allclose(ray_fraction(poly, np.array([0.0, 1.0]), pts),
+                                   outside_fraction(poly, np.array([0.0, 1.0]), pts),
+                                   rtol=1e-9, atol=1e-12)
+    notched = np.array([[-1, 0], [1, 0], [1, 2], [0.1, 2], [0.1, 0.5], [-0.1, 0.5],
+                        [-0.1, 2], [-1, 2]], dtype=float)  # not star-shaped about (0, 1.5)
+    c = np.array([0.0, 1.5])
+    np.testing.assert_allclose(ray_fraction(notched, c, pts), outside_fraction(notched, c, pts))
+
+
+def test_margins_agree_with_the_findings_they_summarize():
+    """A rule's margin is the worst over the ride: where a rule is exceeded it equals the
+    most negative finding margin (same definition, computed another way)."""
+    from checker.history import RecordedSignal
+    from checker.limits import load_limits
+    from checker.resources import bundled_limits
+    from checker.rules import evaluate
+
+    t = np.arange(0, 20, 0.005)
+    g = np.column_stack([1.2 * np.sin(0.7 * t), 0.9 * np.sin(1.3 * t),
+                         1.0 + 4.5 * np.exp(-((t - 8) / 0.6) ** 2)
+                         - 1.8 * np.exp(-((t - 14) / 0.4) ** 2)])
+    ev = evaluate([RecordedSignal("s", t, g)], load_limits(bundled_limits()))
+    margins = ev.seats[0].margins
+    assert ev.findings
+    for f in ev.findings:
+        assert margins[f.rule] <= f.margin + 1e-9
+    for rule in {f.rule for f in ev.findings}:
+        assert margins[rule] == pytest.approx(min(f.margin for f in ev.findings
+                                                  if f.rule == rule), abs=1e-9)

@@ -17,6 +17,7 @@ from ..documents import CAUTION
 from ..limits import AXES, REST, contains
 from ..rules import Evaluation
 from . import figures
+from .aids_figures import aids_context
 from .pdf import ASSET_SCHEME, TEMPLATES
 
 PAGE_SIZES = {"a4": "A4", "letter": "letter"}
@@ -36,6 +37,7 @@ class ReportMeta:
     stall: str | None = None
     date: str = ""
     sweep: object | None = None  # checker.sweep.Sweep: adds the governing and matrix tables
+    sensitivity: object | None = None  # checker.sensitivity.Sensitivity: its table and figure
 
 
 def _env() -> jinja2.Environment:
@@ -263,4 +265,5 @@ def build_html(evaluation: Evaluation, signals: dict, ride,
         layout_svg=layout_svg, station_every=station_every, seat_sections=sections,
         method=meta.method, parameters=meta.parameters, inputs=[
             {"file": f, "sha256": h} for f, h in meta.inputs], command=meta.command,
-        stall=meta.stall, sweep=_sweep_context(meta.sweep)), assets
+        stall=meta.stall, sweep=_sweep_context(meta.sweep),
+        aids=aids_context(evaluation, meta.sensitivity, asset)), assets

@@ -1,0 +1,219 @@
+"""The design aids' report section: its context and its figures (inline SVG).
+
+Figures take plain arrays and return SVG text, like :mod:`checker.report.figures`;
+:func:`aids_section` builds the template context of ``aids.html.j2`` from a result.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from ..limits import AXES
+from ..zones import overall_highest
+from .figures import FINDING_COLOR, WIDTH_IN, _svg, path_decimate, plt
+
+ZONE_COLORS = ("#e3f1e0", "#fdf1cf", "#fbdcc4", "#f6c4c4", "#e4d2ee", "#d3e3f3")
+
+
+def zones_figure(zones, traces: list[tuple[str, np.ndarray, np.ndarray]], title: str) -> str:
+    """Filtered (Gx, Gz) traces over the zone polygons (highest order drawn first, so nested
+    diagrams show every band).
+
+    zones: objects with name, order, vertices (m, 2) [g]; traces: (label, gx, gz) [g].
+    """
+    fig, ax = plt.subplots(figsize=(WIDTH_IN, 4.2))
+    for k, z in sorted(enumerate(zones), key=lambda p: -p[1].order):
+        v = np.vstack([z.vertices, z.vertices[:1]])
+        ax.fill(v[:, 0], v[:, 1], color=ZONE_COLORS[k % len(ZONE_COLORS)], lw=0)
+        ax.plot(v[:, 0], v[:, 1], color="#666666", lw=0.7)
+        top = int(np.argmax(v[:, 1]))
+        ax.annotate(z.name, (v[top, 0], v[top, 1]), fontsize=6, color="#444444",
+                    textcoords="offset points", xytext=(2, -8))
+    shades = ("#1f5fa8", "#b0301f", "#2a8a3e", "#7a3fa0")
+    for i, (label, gx, gz) in enumerate(traces):
+        pts = np.column_stack([gx, gz])
+        path = pts[path_decimate(pts, 0.02)]
+        ax.plot(path[:, 0], path[:, 1], lw=0.6, color=shades[i % len(shades)], label=label)
+    ax.set_xlabel("Gx [g]")
+    ax.set_ylabel("Gz [g]")
+    ax.set_title(title)
+    if traces:
+        ax.legend(loc="lower right")
+    fig.tight_layout()
+    return _svg(fig)
+
+
+def uplift_figure(points: list[tuple[float, float, str]], free_travel_m: float | None,
+                  xlabel: str, title: str) -> str:
+    """Peak rise off the seat [m] of every flight against its station (or time).
+
+    points: (station or time, peak [m], seat label).
+    """
+    fig, ax = plt.subplots(figsize=(WIDTH_IN, 2.6))
+    if points:
+        x = np.array([p[0] for p in points])
+        y = np.array([p[1] for p in points])
+        over = np.full(len(y), False) if free_travel_m is None else y > free_travel_m
+        ax.plot(x[~over], y[~over], "o", ms=3, color="#1f5fa8", label="flight")
+        if over.any():
+            ax.plot(x[over], y[over], "o", ms=3.5, color=FINDING_COLOR,
+                    label="beyond the free travel")
+        ax.set_yscale("log")
+    if free_travel_m is not None:
+        ax.axhline(free_travel_m, color=FINDING_COLOR, lw=1.0, ls="--", label="free travel")
+    ax.set_xlabel(xlabel)
+    ax.set_ylabel("rise off the seat [m]")
+    ax.set_title(title)
+    if points or free_travel_m is not None:
+        ax.legend(loc="best")
+    fig.tight_layout()
+    return _svg(fig)
+
+
+def ratio_figure(t: np.ndarray, ratios: list[tuple[str, np.ndarray]], title: str) -> str:
+    """Sustained combined ratio (a/A)^2 + (b/B)^2 against time, with the limit 1."""
+    fig, ax = plt.subplots(figsize=(WIDTH_IN, 2.4))
+    for label, r in ratios:
+        ax.plot(t, r, lw=0.8, label=label)
+    ax.axhline(1.0, color=FINDING_COLOR, lw=1.0, label="limit")
+    ax.set_xlabel("time [s]")
+    ax.set_ylabel("ratio")
+    ax.set_title(title)
+    ax.legend(loc="upper right")
+    fig.tight_layout()
+    return _svg(fig)
+
+
+def sensitivity_figure(rules: list[str], labels: list[str], effects: np.ndarray,
+                       title: str) -> str:
+    """Margin change for each parameter's typical change (rows: rules, columns: parameters),
+    as grouped horizontal bars."""
+    n_rules, n_par = effects.shape
+    fig, ax = plt.subplots(figsize=(WIDTH_IN, 0.9 + 0.32 * n_rules * max(n_par, 1) / 2.5))
+    height = 0.8 / max(n_par, 1)
+    cmap = plt.get_cmap("tab10")
+    for j in range(n_par):
+        y = np.arange(n_rules) + j * height
+        ax.barh(y, np.nan_to_num(effects[:, j]), height=height, color=cmap(j % 10),
+                label=labels[j])
+    ax.set_yticks(np.arange(n_rules) + 0.4 - height / 2)
+    ax.set_yticklabels(rules, fontsize=6.5)
+    ax.invert_yaxis()
+    ax.axvline(0.0, color="#222222", lw=0.6)
+    ax.set_xlabel("change of the margin for a typical change of the parameter")
+    ax.set_title(title)
+    ax.legend(loc="best", fontsize=6, ncol=2)
+    fig.tight_layout()
+    return _svg(fig)
+
+
+def bank_figure(s: np.ndarray, given: np.ndarray, advised: np.ndarray, target: np.ndarray,
+                unmet: np.ndarray, title: str) -> str:
+    """Given and advised bank [deg] against station, with the unsmoothed target."""
+    fig, ax = plt.subplots(figsize=(WIDTH_IN, 2.8))
+    ax.plot(s, target, color="#bbbbbb", lw=0.8, label="cancelling Gy (unsmoothed)")
+    ax.plot(s, given, color="#222222", lw=1.0, label="given")
+    ax.plot(s, advised, color="#1f5fa8", lw=1.2, label="advised")
+    if unmet.any():
+        ax.plot(s, np.where(unmet, advised, np.nan), color=FINDING_COLOR, lw=2.0,
+                label="cannot meet every seat")
+    ax.set_xlabel("station along the track [m]")
+    ax.set_ylabel("roll [deg]")
+    ax.set_title(title)
+    ax.legend(loc="best")
+    fig.tight_layout()
+    return _svg(fig)
+
+
+def _governing(evaluation, rule: str):
+    """The seat with the smallest margin for a rule among those with signals kept."""
+    kept = [s for s in evaluation.seats if s.filtered is not None and rule in s.margins]
+    return min(kept, key=lambda s: s.margins[rule]) if kept else None
+
+
+def aids_section(evaluation, sensitivity=None) -> dict:
+    """Template context of the aids section: tables and SVG figures (not yet assets)."""
+    from ..aids import sustained_document, uplift_document, zones_document
+
+    limits = evaluation.limits
+    up = uplift_document(evaluation)
+    flights = []
+    by_station = all(e["s_start_m"] is not None for s in up["seats"] for e in s["events"])
+    for s in up["seats"]:
+        for e in s["events"]:
+            flights.append((e["s_start_m"] if by_station else e["t_start"], e["peak_m"],
+                            s["seat"]))
+    uplift_rows = sorted(
+        ({"seat": s["seat"], "case": s["case"], "flights": len(s["events"]),
+          "peak": s["peak_m"], "where": max(s["events"], key=lambda e: e["peak_m"])}
+         for s in up["seats"] if s["events"]), key=lambda r: -r["peak"])[:12]
+    section = {
+        "uplift": {"free_travel": up["free_travel_m"], "rows": uplift_rows,
+                   "worst": up["worst"],
+                   "figure": uplift_figure(flights, up["free_travel_m"],
+                                           "station [m]" if by_station else "time [s]",
+                                           "Rise of an unrestrained rider off the seat, "
+                                           "every flight of every seat")},
+        "zones": None, "sustained": [], "sensitivity": None,
+    }
+    zones = zones_document(evaluation)
+    if zones is not None:
+        summaries = {(s.seat, s.case): s for s in evaluation.seats if s.zones is not None}
+        top = overall_highest({k: s.zones for k, s in summaries.items()})
+        traced = [s for s in evaluation.seats if s.filtered is not None]
+        traced.sort(key=lambda s: -(s.zones.highest.order if s.zones and s.zones.highest
+                                    else 0))
+        traces = [(f"{s.seat} ({s.case})", s.filtered[:, 0], s.filtered[:, 2])
+                  for s in traced[:3]]
+        section["zones"] = {
+            "top": zones["highest"], "rows": zones["seats"][:24],
+            "more": max(0, len(zones["seats"]) - 24),
+            "diagram": [{"name": z.name, "order": z.order, "dwell": z.dwell_s}
+                        for z in limits.zones],
+            "figure": zones_figure(limits.zones, traces, "Filtered (Gx, Gz) over the zone "
+                                   "diagram" + (f"; highest zone by {top[0][0]}" if top
+                                                else "")),
+        }
+    for entry in sustained_document(evaluation):
+        seat = _governing(evaluation, entry["rule"])
+        figure = ""
+        if seat is not None:
+            from ..sustained import pair_limits, sustained_combined
+
+            env = next(e for e in limits.combined if f"combined {e.name}" == entry["rule"])
+            ia, ib = AXES.index(env.axes[0]), AXES.index(env.axes[1])
+            dt = float(np.median(np.diff(seat.t)))
+            res = sustained_combined(seat.filtered[:, ia], seat.filtered[:, ib], dt,
+                                     pair_limits(limits.duration, env.axes[0]),
+                                     pair_limits(limits.duration, env.axes[1]))
+            figure = ratio_figure(seat.t, [(f"{seat.seat} ({seat.case})", res.ratio)],
+                                  f"{entry['rule']}: (a/A)^2 + (b/B)^2 at the governing seat")
+        section["sustained"].append({**entry, "figure": figure})
+    if sensitivity is not None and sensitivity.rows:
+        params = [p for p in sensitivity.parameters if p.key not in sensitivity.skipped]
+        rows = list(sensitivity.rows)
+        effects = np.array([[r.effect(p) if r.effect(p) is not None else np.nan
+                             for p in params] for r in rows])
+        section["sensitivity"] = {
+            "params": [{"label": p.label, "unit": p.unit, "typical": f"{p.typical:g}",
+                        "nominal": sensitivity.base.get(p.key)} for p in params],
+            "rows": [{"rule": r.rule, "seat": r.seat, "margin": f"{r.margin:.3f}",
+                      "cells": ["-" if np.isnan(e) else f"{e:+.3f}" for e in effects[i]],
+                      "dominant": next((p.label for p in params if p.key == r.dominant),
+                                       "-")} for i, r in enumerate(rows)],
+            "skipped": sorted(sensitivity.skipped.items()),
+            "figure": sensitivity_figure([f"{r.rule} ({r.seat})" for r in rows[:8]],
+                                         [p.label for p in params], effects[:8],
+                                         "What moves each margin"),
+        }
+    return section
+
+
+def aids_context(evaluation, sensitivity, asset) -> dict:
+    """:func:`aids_section` with every figure handed to ``asset`` (SVG text -> its URL)."""
+    section = aids_section(evaluation, sensitivity)
+    for part in (section["uplift"], section["zones"], section["sensitivity"],
+                 *section["sustained"]):
+        if part is not None and part.get("figure"):
+            part["figure"] = asset(part["figure"])
+    return section
