@@ -79,7 +79,8 @@ def _on_grid(result, grid: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     gy, gz = [], []
     for h in result.histories:
         g = h.g
-        order = np.maximum.accumulate(h.s)  # car reference station [m]  # stations only grow (a stopped train repeats)
+        # car reference station [m]; it only grows (a stopped train repeats stations)
+        order = np.maximum.accumulate(h.s)
         keep = np.concatenate([[True], np.diff(order) > 1e-9])
         x = order[keep]
         inside = (grid >= x[0]) & (grid <= x[-1])
@@ -134,6 +135,17 @@ def smooth_in_time(values: np.ndarray, tau: np.ndarray, window_s: float) -> np.n
     return np.interp(tau, uniform, y)
 
 
+def _smooth_rows(rows: np.ndarray, tau: np.ndarray, window_s: float) -> np.ndarray:
+    """Each seat's signal smoothed in time over ``window_s`` where it is defined: the bank
+    follows the lateral force that lasts, not the jolts a rate limit cannot follow."""
+    out = rows.copy()
+    for row in out:
+        ok = np.isfinite(row)
+        if ok.sum() > 3:
+            row[ok] = smooth_in_time(row[ok], tau[ok], window_s)
+    return out
+
+
 def _bounds(gy: np.ndarray, gz: np.ndarray, current: np.ndarray,
             tolerance_g: float) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Per station: lower and upper admissible bank [deg] over all seats, and the middle
@@ -152,14 +164,14 @@ def _bounds(gy: np.ndarray, gz: np.ndarray, current: np.ndarray,
         t_lo = np.where(free, np.inf, theta).min(axis=0)
         t_hi = np.where(free, -np.inf, theta).max(axis=0)
         middle = 0.5 * (t_lo + t_hi)
-    clash = lower > upper  # the seats' intervals do not overlap: balance the extremes
-    lower = np.where(clash, middle, lower)
-    upper = np.where(clash, middle, upper)
+    clash = lower > upper  # the seats' intervals do not overlap: anywhere between the
+    lower = np.where(clash, t_lo, lower)  # seats' own angles will do, the middle is the
+    upper = np.where(clash, t_hi, upper)  # fairest (the envelopes' midpoint gets near it)
     target = np.where(np.isfinite(middle), middle, current)
     return lower, upper, target
 
 
-def advise_bank(centerline, train, operation, options: RideOptions = RideOptions(), *,
+def advise_bank(centerline, train, operation, options: RideOptions | None = None, *,
                 roll_rate_limit_deg_s: float = DEFAULT_ROLL_RATE_DEG_S,
                 tolerance_g: float = DEFAULT_TOLERANCE_G,
                 smoothing_s: float = DEFAULT_SMOOTHING_S, iterations: int = 3,
@@ -180,6 +192,7 @@ def advise_bank(centerline, train, operation, options: RideOptions = RideOptions
     -------
     :class:`BankAdvice`
     """
+    options = options or RideOptions()
     given = run_ride(centerline, train, operation, options)
     grid = given.geometry.s
     sample_s = given.geometry.sample_stations
@@ -200,6 +213,7 @@ def advise_bank(centerline, train, operation, options: RideOptions = RideOptions
     line = centerline
     for _ in range(iterations):
         gy, gz = _on_grid(probe, grid)
+        gy, gz = _smooth_rows(gy, tau, smoothing_s), _smooth_rows(gz, tau, smoothing_s)
         lower, upper, target = _bounds(gy, gz, current, tolerance_g)
         advised = rate_limited(lower, upper, tau, roll_rate_limit_deg_s)
         if np.all(np.isnan(advised)):

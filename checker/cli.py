@@ -76,6 +76,25 @@ def build_parser() -> argparse.ArgumentParser:
     _add_ride_options(chk)
     _add_check_options(chk)
     _add_case_options(chk)
+    chk.add_argument("--sensitivity", action="store_true",
+                     help="also rank how rider mass, occupancy, rolling coefficient, drag "
+                          "area, air density, head wind, start speed and lift speed move "
+                          "each rule's margin (16 more runs)")
+    bank = sub.add_parser("advise-bank", help="advise the bank angle that cancels the riders' "
+                          "lateral force within a roll-rate limit; write the banked track")
+    _add_ride_options(bank)
+    bank.add_argument("-o", "--output", required=True, metavar="BANKED.csv",
+                      help="where to write the track with the advised roll_deg (a plot of "
+                           "given and advised bank goes beside it as .svg)")
+    bank.add_argument("--roll-rate", type=_positive, default=60.0, metavar="DEG_PER_S",
+                      help="highest roll rate any car may see [deg/s] (default 60)")
+    bank.add_argument("--tolerance", type=_positive, default=0.02, metavar="G",
+                      help="|Gy| accepted at each seat when choosing the bank [g] "
+                           "(default 0.02)")
+    bank.add_argument("--roll-smoothing", type=_nonnegative, default=0.6, metavar="SECONDS",
+                      help="moving-average window that softens the roll acceleration [s] "
+                           "(default 0.6)")
+    bank.add_argument("--json", metavar="ADVICE.json", help="write the advice's figures as JSON")
     hist = sub.add_parser("check-history",
                           help="check a recorded or exported history against a limit set")
     hist.add_argument("history", help="CSV with t, gx, gy, gz (optional seat)")
@@ -144,7 +163,7 @@ def _command_line() -> str:
     return "checker " + " ".join(shlex.quote(a) for a in sys.argv[1:])
 
 
-def _finish(args, run, source: str, parameters: list) -> int:
+def _finish(args, run, source: str, parameters: list, sensitivity=None) -> int:
     """Print the summary; write JSON and PDF as asked. Returns the exit code."""
     from .documents import CAUTION, evaluation_document, summary_table, to_json
     from .outputs import atomic_write_text
@@ -153,6 +172,9 @@ def _finish(args, run, source: str, parameters: list) -> int:
     for warning in evaluation.warnings:
         print(f"warning: {warning}", file=sys.stderr)
     print(summary_table(evaluation))
+    from .aids import aids_summary
+
+    print(aids_summary(evaluation, sensitivity))
     if run.sweep is not None:
         from .documents import sweep_document, sweep_tables
 
@@ -165,13 +187,15 @@ def _finish(args, run, source: str, parameters: list) -> int:
     print("caution: " + CAUTION)
     command = _command_line()
     extra = {"stall": run.stall, **extra_sweep}
+    if sensitivity is not None:
+        extra["sensitivity"] = sensitivity.to_dict()
     if args.pdf:
         from .report import ReportMeta, write_report
 
         meta = ReportMeta(project=args.project, layout=args.layout_name or source,
                           revision=args.revision, page_size=args.page_size, command=command,
                           inputs=run.inputs, parameters=parameters, stall=run.stall,
-                          sweep=run.sweep)
+                          sweep=run.sweep, sensitivity=sensitivity)
         pdf, sidecar = write_report(run, args.pdf, meta, args.json, extra)
         print(f"wrote {pdf} and {sidecar}")
     elif args.json:
@@ -201,6 +225,9 @@ def _cmd_check(args: argparse.Namespace) -> int:
     from .ride import RideOptions, load_inputs, ride_parameters, run_check
 
     _check_outputs(args)
+    if args.sensitivity and args.cases:
+        raise InputError(None, "--sensitivity works about one ride's parameters, not a set of "
+                         "load cases", "run it without --cases (or with --case NAME only)")
     limits = _limits(args)
     line, train, ops = load_inputs(args.track, args.train, ideal=args.ideal,
                                    operation=args.operation, start_speed_m_s=args.start_speed,
@@ -222,7 +249,14 @@ def _cmd_check(args: argparse.Namespace) -> int:
     if args.cases:
         params.append(("load cases", f"{args.cases} ({len(case_names)} cases: "
                        + ", ".join(case_names) + ")"))
-    return _finish(args, run, Path(args.track).stem, params)
+    sensitivity = None
+    if args.sensitivity:
+        from .sensitivity import run_sensitivity
+
+        sensitivity = run_sensitivity(line, train, ops, limits, options, workers=args.workers,
+                                      scheduler=args.scheduler,
+                                      progress=Progress("sensitivity", args.quiet))
+    return _finish(args, run, Path(args.track).stem, params, sensitivity)
 
 
 class Progress:
@@ -311,6 +345,56 @@ def _cmd_simulate(args: argparse.Namespace) -> int:
     if result.motion.stall is not None:
         print(f"checker: {result.motion.stall}; the history ends there", file=sys.stderr)
         return EXIT_FINDINGS
+    return EXIT_OK
+
+
+def _cmd_advise_bank(args: argparse.Namespace) -> int:
+    from pathlib import Path
+
+    from .bank import advise_bank, banked_table
+    from .documents import CAUTION, to_json
+    from .outputs import atomic_write_text, check_writable
+    from .report.aids_figures import bank_figure
+    from .ride import RideOptions, load_inputs
+    from .track import FOOT_M
+
+    out = check_writable(args.output)
+    plot = check_writable(Path(out).with_suffix(".svg"))
+    if args.json:
+        check_writable(args.json)
+    line, train, ops = load_inputs(args.track, args.train, ideal=args.ideal,
+                                   operation=args.operation, start_speed_m_s=args.start_speed,
+                                   units=args.units)
+    advice = advise_bank(line, train, ops, RideOptions(rate_hz=args.rate,
+                                                       smoothing_m=args.smoothing),
+                         roll_rate_limit_deg_s=args.roll_rate, tolerance_g=args.tolerance,
+                         smoothing_s=args.roll_smoothing, ideal=args.ideal or args.train is None)
+    scale = FOOT_M if args.units == "ft" else 1.0
+    note = (f"bank advised by checker advise-bank from {Path(args.track).name}: roll rate <= "
+            f"{args.roll_rate:g} deg/s, |Gy| tolerance {args.tolerance:g} g, "
+            + ("centerline rider" if advice.ideal else "every seat of the train"))
+    text = banked_table(line.points / scale, advice.advised_at_samples, note)
+    svg = bank_figure(advice.s, advice.given_deg, advice.advised_deg, advice.target_deg,
+                      advice.rate_bound, "Bank: given, advised, and the target")
+    d = advice.to_dict()
+    print(f"advised bank for {Path(args.track).name} ("
+          + ("centerline rider" if advice.ideal else f"{len(train.seats) * train.car_count} "
+             "seats") + f"), roll rate <= {args.roll_rate:g} deg/s:")
+    print(f"  largest change from the given bank {d['max_change_deg']:.1f} deg; fastest roll "
+          f"{d['max_roll_rate_deg_s']:.1f} deg/s")
+    print(f"  worst |Gy| (unfiltered, any seat): given {d['max_abs_gy_given_g']:.3f} g, "
+          f"advised {d['max_abs_gy_advised_g']:.3f} g; where every seat can be met "
+          f"{d['max_abs_gy_where_rate_allows_g']:.3f} g")
+    print(f"  stations where the bank cannot meet every seat (rate limit or seats needing "
+          f"different banks): {d['rate_bound_length_m']:.1f} m")
+    atomic_write_text(plot, svg)
+    if args.json:
+        atomic_write_text(args.json, to_json({"advice": d, "track": str(args.track),
+                                              "output": str(out), "caution": CAUTION,
+                                              "command": _command_line()}))
+    atomic_write_text(out, text)
+    print(f"wrote {out} and {plot}" + (f" and {args.json}" if args.json else ""))
+    print("caution: advice for a designer to review, not a verified design; " + CAUTION)
     return EXIT_OK
 
 
@@ -460,7 +544,7 @@ def _cmd_demo(args: argparse.Namespace) -> int:
 
 COMMANDS = {"simulate": _cmd_simulate, "check": _cmd_check,
             "check-history": _cmd_check_history, "demo": _cmd_demo,
-            "compare": _cmd_compare}
+            "compare": _cmd_compare, "advise-bank": _cmd_advise_bank}
 
 
 def _on_terminate(signum, frame):  # SIGTERM behaves like Ctrl-C: unwind, no partial output

@@ -111,7 +111,7 @@ def bank_figure(s: np.ndarray, given: np.ndarray, advised: np.ndarray, target: n
                 unmet: np.ndarray, title: str) -> str:
     """Given and advised bank [deg] against station, with the unsmoothed target."""
     fig, ax = plt.subplots(figsize=(WIDTH_IN, 2.8))
-    ax.plot(s, target, color="#bbbbbb", lw=0.8, label="cancelling Gy (unsmoothed)")
+    ax.plot(s, target, color="#bbbbbb", lw=0.8, label="cancelling Gy at rail level")
     ax.plot(s, given, color="#222222", lw=1.0, label="given")
     ax.plot(s, advised, color="#1f5fa8", lw=1.2, label="advised")
     if unmet.any():
@@ -123,6 +123,15 @@ def bank_figure(s: np.ndarray, given: np.ndarray, advised: np.ndarray, target: n
     ax.legend(loc="best")
     fig.tight_layout()
     return _svg(fig)
+
+
+def _top_zone_rows(rows: list[dict], count: int) -> list[dict]:
+    """The seats reaching the highest zones first (earliest first among equals)."""
+    def key(r):
+        h = r["highest"]
+        return (-(h["order"] if h else 0), h["t_start"] if h else 0.0)
+
+    return sorted(rows, key=key)[:count]
 
 
 def _governing(evaluation, rule: str):
@@ -166,8 +175,8 @@ def aids_section(evaluation, sensitivity=None) -> dict:
         traces = [(f"{s.seat} ({s.case})", s.filtered[:, 0], s.filtered[:, 2])
                   for s in traced[:3]]
         section["zones"] = {
-            "top": zones["highest"], "rows": zones["seats"][:24],
-            "more": max(0, len(zones["seats"]) - 24),
+            "top": zones["highest"], "rows": _top_zone_rows(zones["seats"], 10),
+            "more": max(0, len(zones["seats"]) - 10),
             "diagram": [{"name": z.name, "order": z.order, "dwell": z.dwell_s}
                         for z in limits.zones],
             "figure": zones_figure(limits.zones, traces, "Filtered (Gx, Gz) over the zone "
