@@ -149,8 +149,10 @@ def _finish(args, run, source: str, parameters: list) -> int:
     """Print the summary; write JSON and PDF as asked. Returns the exit code."""
     from .documents import CAUTION, evaluation_document, summary_table, to_json
     from .outputs import atomic_write_text
+    from .plausibility import filter_warnings
 
     evaluation = run.evaluation
+    evaluation.warnings[:0] = filter_warnings(evaluation.limits.filter)
     for warning in evaluation.warnings:
         print(f"warning: {warning}", file=sys.stderr)
     print(summary_table(evaluation))
@@ -285,6 +287,7 @@ def _cmd_check_history(args: argparse.Namespace) -> int:
     from pathlib import Path
 
     from .history import load_history
+    from .plausibility import history_warnings
     from .ride import CheckRun
     from .rules import evaluate
 
@@ -293,6 +296,7 @@ def _cmd_check_history(args: argparse.Namespace) -> int:
     _check_outputs(args, *(f for f, _ in limits.files))
     signals = load_history(args.history, args.units)
     evaluation = evaluate(signals, limits, args.case)
+    evaluation.warnings[:0] = history_warnings(signals)
     run = CheckRun(evaluation, None, {(s.seat, args.case): s for s in signals},
                    _inputs(args.history) + list(limits.files))
     params = [("history units", args.units), ("filter", limits.filter.describe())]

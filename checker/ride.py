@@ -18,7 +18,7 @@ from .errors import InputError
 from .geometry import TrackGeometry, build_geometry
 from .kinematics import SeatHistory, rider_histories
 from .operation import Operation, load_operation
-from .plausibility import motion_warnings, track_warnings
+from .plausibility import crossing_warnings, motion_warnings, track_warnings, train_clearance_m
 from .track import Centerline, load_centerline
 from .train import Train, ideal_rider, load_train
 
@@ -68,6 +68,7 @@ def run_ride(centerline: Centerline, train: Train, operation: Operation,
                  options.rate_hz, centerline.source)
     histories = rider_histories(geometry, motion, train.seats, options.rate_hz)
     warnings = (track_warnings(geometry, centerline.points)
+                + crossing_warnings(geometry, train_clearance_m(train))
                 + motion_warnings(geometry, motion, operation))
     return RideResult(geometry, motion, histories, train, operation, options, tuple(warnings))
 
