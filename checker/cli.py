@@ -497,7 +497,7 @@ def _interrupted_message() -> str:
 
 
 def main(argv: Sequence[str] | None = None) -> int:
-    from .outputs import install_interrupt_handlers, was_interrupted
+    from .outputs import interrupt_handling, was_interrupted
     from .terminal import terminal_streams
 
     parser = build_parser()
@@ -505,8 +505,9 @@ def main(argv: Sequence[str] | None = None) -> int:
     if args.command is None:
         parser.print_help()
         return EXIT_INPUT
-    install_interrupt_handlers()  # SIGINT and SIGTERM: unwind, no partial output
-    with terminal_streams():  # user text cleaned; a closed reader does not change the code
+    # SIGINT and SIGTERM unwind (no partial output); user text is cleaned on the terminal
+    # and a closed reader does not change the exit code
+    with interrupt_handling(), terminal_streams():
         try:
             code = COMMANDS[args.command](args)
             if was_interrupted():  # a library swallowed the KeyboardInterrupt

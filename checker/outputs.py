@@ -3,12 +3,13 @@
 A run's outputs (the JSON and the PDF of a check, say) are rendered in memory first. Then
 :func:`commit` writes each to a temporary file beside its target and flushes it to disk; only
 when every one is complete are they renamed over their targets, one after the other, with
-SIGINT and SIGTERM held back and the target folders locked (``flock`` on the folder), so that
-neither an interruption nor a second run to the same paths can leave a new file beside an old
-one. A failed rename puts back the files already replaced. A full disk or any other write
-error leaves every previous output as it was and is reported as one line (exit 2).
+SIGINT and SIGTERM held back (a deferring handler) and the target folders locked (``flock``
+on the folder), so that neither an interruption nor a second run to the same paths can leave
+a new file beside an old one. A failed rename puts back the files already replaced. A full
+disk or any other write error leaves every previous output as it was and is reported as one
+line (exit 2).
 
-The interruption handlers (:func:`install_interrupt_handlers`) turn SIGINT and SIGTERM into
+The interruption handlers (:func:`interrupt_handling`) turn SIGINT and SIGTERM into
 ``KeyboardInterrupt`` and also remember that it happened: a library that swallows the
 exception cannot make an interrupted run commit its files or exit 0.
 """
@@ -45,13 +46,21 @@ def _on_signal(signum, frame):
     raise KeyboardInterrupt
 
 
-def install_interrupt_handlers() -> None:
-    """SIGINT and SIGTERM raise ``KeyboardInterrupt`` and are remembered."""
+@contextlib.contextmanager
+def interrupt_handling() -> Iterator[None]:
+    """For the length of a command: SIGINT and SIGTERM raise ``KeyboardInterrupt`` and are
+    remembered (:func:`was_interrupted`); the previous handlers come back afterwards."""
     _state["interrupted"] = False
     written.clear()
+    saved = {}
     if threading.current_thread() is threading.main_thread():
-        for sig in _STOP_SIGNALS:
-            signal.signal(sig, _on_signal)
+        saved = {sig: signal.signal(sig, _on_signal) for sig in _STOP_SIGNALS}
+    try:
+        yield
+    finally:
+        for sig, handler in saved.items():
+            signal.signal(sig, handler)
+        _state["interrupted"] = False
 
 
 def was_interrupted() -> bool:
@@ -104,16 +113,24 @@ def _remove(path: str) -> None:
 
 @contextlib.contextmanager
 def _held_signals() -> Iterator[None]:
-    """SIGINT and SIGTERM wait until the block ends (then they are delivered)."""
-    if not hasattr(signal, "pthread_sigmask") or (
-            threading.current_thread() is not threading.main_thread()):
+    """SIGINT and SIGTERM wait until the block ends, then are delivered as usual.
+
+    Python runs signal handlers in the main thread whichever thread the signal reached, so
+    a deferring handler works where blocking the signal in one thread would not.
+    """
+    if threading.current_thread() is not threading.main_thread():
         yield
         return
-    old = signal.pthread_sigmask(signal.SIG_BLOCK, _STOP_SIGNALS)
+    held: list[int] = []
+    saved = {sig: signal.signal(sig, lambda signum, frame: held.append(signum))
+             for sig in _STOP_SIGNALS}
     try:
         yield
     finally:
-        signal.pthread_sigmask(signal.SIG_SETMASK, old)
+        for sig, handler in saved.items():
+            signal.signal(sig, handler)
+        for sig in dict.fromkeys(held):
+            signal.raise_signal(sig)
 
 
 @contextlib.contextmanager
