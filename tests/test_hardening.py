@@ -453,3 +453,78 @@ def test_bad_or_unreachable_scheduler_is_one_line(address, capsys):
     assert code == 2
     line = one_error_line(err)
     assert "Dask scheduler" in line and " -- " in line
+
+
+# --- 6. workers die with their parent ----------------------------------------------------
+
+def _children(pid: int) -> set[int]:
+    """Process ids whose parent is ``pid`` (Linux /proc)."""
+    found = set()
+    for entry in Path("/proc").iterdir():
+        if entry.name.isdigit():
+            try:
+                fields = (entry / "stat").read_text().rsplit(")", 1)[1].split()
+            except OSError:
+                continue
+            if int(fields[1]) == pid:
+                found.add(int(entry.name))
+    return found
+
+
+def _alive(pid: int) -> bool:
+    try:
+        state = Path(f"/proc/{pid}/stat").read_text().rsplit(")", 1)[1].split()[0]
+    except OSError:
+        return False
+    return state != "Z"
+
+
+@pytest.mark.skipif(not sys.platform.startswith("linux"), reason="reads /proc")
+def test_sweep_workers_exit_when_the_parent_is_killed(tmp_path):
+    """SIGKILL of the parent of a two-worker sweep: no worker is alive 10 s later."""
+    import time
+
+    demo = ROOT / "sample_tracks"
+    proc = subprocess.Popen(
+        [sys.executable, "-m", "checker", "check", str(demo / "thistle_comet_revA.csv"),
+         "--train", str(demo / "thistle_comet_train.toml"), "--operation",
+         str(demo / "thistle_comet_revA.operation.toml"), "--cases", "standard",
+         "--workers", "2", "--quiet", "--json", str(tmp_path / "f.json")],
+        stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, env=ENV)
+    try:
+        workers: set[int] = set()
+        deadline = time.monotonic() + 120
+        while len(workers) < 2 and proc.poll() is None and time.monotonic() < deadline:
+            time.sleep(0.2)
+            workers = _children(proc.pid)
+        assert len(workers) >= 2, "the sweep never started its two workers"
+    finally:
+        proc.kill()
+        proc.wait()
+    deadline = time.monotonic() + 10
+    while any(_alive(w) for w in workers) and time.monotonic() < deadline:
+        time.sleep(0.2)
+    alive = [w for w in workers if _alive(w)]
+    for w in alive:  # do not leave them behind even when the test fails
+        os.kill(w, signal.SIGKILL)
+    assert not alive
+    assert not (tmp_path / "f.json").exists()
+
+
+def test_watch_parent_ends_a_process_whose_parent_is_gone():
+    """The initializer itself: a child whose expected parent is not its parent exits."""
+    script = ("import time\nfrom checker.sweep import watch_parent\n"
+              "watch_parent(-1)\ntime.sleep(30)\n")
+    proc = subprocess.run([sys.executable, "-c", script], env=ENV, timeout=60)
+    assert proc.returncode == 1
+
+
+def test_scheduler_with_no_worker_fails_within_the_timeout(capsys):
+    distributed = pytest.importorskip("dask.distributed")
+    with distributed.LocalCluster(n_workers=0, processes=False, dashboard_address=None) as c:
+        code, _, err = run(["check", TRACK, *RIDE, "--cases", "standard", "--scheduler",
+                            c.scheduler_address, "--scheduler-timeout", "2", "--quiet"],
+                           capsys)
+    assert code == 2
+    line = one_error_line(err)
+    assert "has no worker after 2 s" in line and "--scheduler-timeout" in line
