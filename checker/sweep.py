@@ -9,8 +9,6 @@ from __future__ import annotations
 
 import os
 import sys
-import threading
-import time
 from collections.abc import Callable
 from dataclasses import dataclass
 
@@ -20,6 +18,7 @@ from .errors import InputError
 from .limits import LimitSet
 from .loadcases import LoadCase, apply_case
 from .operation import Operation
+from .parentwatch import watch_parent
 from .ride import RideOptions, run_check
 from .rules import Evaluation, Finding
 from .terminal import shorten
@@ -178,34 +177,6 @@ def _dask_client(client_class, scheduler: str, timeout_s: float):
                          f"{timeout_s:g} s", "start workers for it (dask worker ADDRESS) or "
                          "raise --scheduler-timeout") from None
     return client
-
-
-def watch_parent(parent_pid: int, interval_s: float = 0.5) -> None:
-    """Pool initializer: the worker exits when its parent is gone (even after SIGKILL).
-
-    A thread polls the parent's process id; when the worker has been re-parented (the parent
-    died), it ends the worker at once. On Linux the kernel is also asked to send SIGKILL when
-    the parent dies (``prctl(PR_SET_PDEATHSIG)``).
-    """
-    if sys.platform.startswith("linux"):
-        try:
-            import ctypes
-            import signal
-
-            libc = ctypes.CDLL(None, use_errno=True)
-            libc.prctl(1, signal.SIGKILL, 0, 0, 0)  # 1 = PR_SET_PDEATHSIG
-        except (OSError, AttributeError):
-            pass
-    if os.getppid() != parent_pid:  # died before this worker started
-        os._exit(1)
-
-    def watch() -> None:
-        while True:
-            time.sleep(interval_s)
-            if os.getppid() != parent_pid:
-                os._exit(1)
-
-    threading.Thread(target=watch, name="watch-parent", daemon=True).start()
 
 
 def peak_summary(sweep: Sweep) -> dict:

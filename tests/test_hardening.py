@@ -513,7 +513,7 @@ def test_sweep_workers_exit_when_the_parent_is_killed(tmp_path):
 
 def test_watch_parent_ends_a_process_whose_parent_is_gone():
     """The initializer itself: a child whose expected parent is not its parent exits."""
-    script = ("import time\nfrom checker.sweep import watch_parent\n"
+    script = ("import time\nfrom checker.parentwatch import watch_parent\n"
               "watch_parent(-1)\ntime.sleep(30)\n")
     proc = subprocess.run([sys.executable, "-c", script], env=ENV, timeout=60)
     assert proc.returncode == 1
