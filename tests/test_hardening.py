@@ -231,21 +231,16 @@ def test_full_disk_while_staging_leaves_the_old_pair(tmp_path, capsys, monkeypat
     assert _pair_state(pdf, sidecar) == "old"
 
 
-def test_signal_between_the_renames_is_held_until_the_pair_is_whole(tmp_path):
+def test_signal_between_the_renames_is_held_until_the_pair_is_whole(tmp_path, capsys,
+                                                                  monkeypatch, fast_pdf):
     """A real SIGINT arrives between the two renames: both files are new and the message
-    says so (the signal waits until the pair is written)."""
+    says so (the signal waits until the pair is written, then interrupts)."""
     pdf, sidecar = _old_pair(tmp_path)
-    script = (
-        "import os, signal, sys\n"
-        "import checker.outputs as o, checker.report as r\n"
-        "r.render_pdf = lambda html, fetcher=None: b'%PDF-test'\n"
-        "o._between_renames = lambda: os.kill(os.getpid(), signal.SIGINT)\n"
-        "from checker.cli import main\n"
-        f"sys.exit(main(['check-history', {str(HISTORY)!r}, '--pdf', {str(pdf)!r}]))\n")
-    proc = subprocess.run([sys.executable, "-c", script], capture_output=True, text=True,
-                          env=ENV, timeout=300)
-    assert proc.returncode == 130, proc.stderr
-    line = one_error_line(proc.stderr)
+    monkeypatch.setattr(outputs, "_between_renames",
+                        lambda: os.kill(os.getpid(), signal.SIGINT))
+    code, _, err = run(["check-history", HISTORY, "--pdf", pdf], capsys)
+    assert code == 130
+    line = one_error_line(err)
     assert "interrupted after writing" in line and "r.json" in line and "r.pdf" in line
     assert _pair_state(pdf, sidecar) == "new"
 
@@ -378,19 +373,25 @@ def test_internal_error_is_exit_3_with_one_line_and_traceback_only_with_debug(
     assert code == 3 and "Traceback" in err
 
 
-def test_closed_stdout_keeps_the_exit_code_and_writes_the_json(tmp_path):
-    """`checker check-history F --json f.json | head -1` with pipefail: exit 1, JSON
-    written. The reader is gone before the first write (deterministic)."""
+class _ClosedPipe:
+    """A standard output whose reader has gone away."""
+
+    def write(self, text):
+        raise BrokenPipeError(errno.EPIPE, "Broken pipe")
+
+    def flush(self):
+        raise BrokenPipeError(errno.EPIPE, "Broken pipe")
+
+    def isatty(self):
+        return False
+
+
+def test_closed_stdout_keeps_the_exit_code_and_writes_the_json(tmp_path, monkeypatch):
+    """The reader is gone before the first line: exit 1 (a finding), the JSON written."""
     history = failing_history(tmp_path / "h.csv")
     out = tmp_path / "f.json"
-    read_end, write_end = os.pipe()
-    os.close(read_end)
-    proc = subprocess.run([sys.executable, "-m", "checker", "check-history", str(history),
-                           "--json", str(out)], stdout=write_end, stderr=subprocess.PIPE,
-                          text=True, env=ENV, timeout=300)
-    os.close(write_end)
-    assert proc.returncode == 1, proc.stderr
-    assert "Traceback" not in proc.stderr and "BrokenPipe" not in proc.stderr
+    monkeypatch.setattr(sys, "stdout", _ClosedPipe())
+    assert main(["check-history", str(history), "--json", str(out)]) == 1
     assert out.read_text().startswith("{")
 
 
