@@ -220,6 +220,18 @@ def _points_from(fields: Fields, name: str, base: Path, columns: tuple[str, str]
     return arr
 
 
+MAX_LEVEL_G = 20.0  # beyond any ride limit: a unit mistake (m/s^2 written as g?)
+MAX_DURATION_S = 3600.0
+
+
+def _check_range(f: Fields, key: str, values: np.ndarray, bound: float, what: str,
+                 unit: str) -> None:
+    if values.size and np.abs(values).max() > bound:
+        worst = float(values.flat[int(np.argmax(np.abs(values)))])
+        raise f.error(key, f"{what} of {worst:g}{unit} is beyond {bound:g}{unit}",
+                      f"give values within {bound:g}{unit} (units or a typing slip?)")
+
+
 def _duration_limit(f: Fields, base: Path, files: list) -> DurationLimit:
     axis = f.text("axis", choices=AXES)
     word = f.text("direction", choices=tuple(DIRECTION_WORDS))
@@ -232,6 +244,8 @@ def _duration_limit(f: Fields, base: Path, files: list) -> DurationLimit:
     key = "table" if f.has("table") else "points"
     if np.any(durations < 0):
         raise f.error(key, "has a negative duration", "durations are seconds, 0 or more")
+    _check_range(f, key, durations, MAX_DURATION_S, "a duration", "s")
+    _check_range(f, key, levels, MAX_LEVEL_G, "a level", " g")
     if np.any(np.diff(durations) <= 0):
         i = int(np.flatnonzero(np.diff(durations) <= 0)[0]) + 2
         raise f.error(key, f"durations must increase (point {i} does not)",
@@ -305,9 +319,12 @@ def load_limits(path: str | Path) -> LimitSet:
         name = f.text("name", PLANES[axes] + " envelope")
         shape = f.text("shape", "polygon", choices=("polygon", "ellipse"))
         if shape == "ellipse":
-            vertices = _ellipse(duration, axes, f.number("at_duration_s", 0.0, minimum=0), f)
+            vertices = _ellipse(duration, axes, f.number("at_duration_s", 0.0, minimum=0,
+                                                                     maximum=MAX_DURATION_S), f)
         else:
             vertices = _points_from(f, "vertices", base, axes, files)
+            _check_range(f, "table" if f.has("table") else "vertices", vertices, MAX_LEVEL_G,
+                         "a vertex", " g")
             if len(vertices) >= 2 and np.allclose(vertices[0], vertices[-1]):
                 vertices = vertices[:-1]
             problem = polygon_problem(vertices)

@@ -50,6 +50,8 @@ CORPUS = {
                                              "folder"]),
     "limits_table_absolute.toml": ("limits", ["combined[1]", "outside the limits file's "
                                               "folder"]),
+    "limits_level_huge.toml": ("limits", ["duration[1].points", "beyond 20 g"]),
+    "limits_vertices_huge.toml": ("limits", ["combined[1].vertices", "beyond 20 g"]),
     "limits_corner_tiny.toml": ("limits", ["filter.corner_hz", "at least 0.01"]),
     "train_negative_mass.toml": ("train", ["cars.empty_mass_kg", "greater than zero"]),
     "train_zero_spacing.toml": ("train", ["cars.spacing_m"]),

@@ -102,6 +102,10 @@ TEXT = {
                                  'table = "../../../../../../../../etc/passwd"\n',
     "limits_table_absolute.toml": LIMITS_HEAD + '[[combined]]\naxes = ["gy", "gz"]\n'
                                   'table = "/etc/hostname"\n',
+    "limits_level_huge.toml": LIMITS_HEAD + GZ.replace("[0.0, 5.0]", "[0.0, 1e300]"),
+    "limits_vertices_huge.toml": LIMITS_HEAD + '[[combined]]\naxes = ["gy", "gz"]\n'
+                                 'vertices = [[-1e300, -1e300], [1e300, -1e300], '
+                                 '[1e300, 1e300], [-1e300, 1e300]]\n',
     "limits_corner_tiny.toml": LIMITS_HEAD + "[filter]\ncorner_hz = 1e-9\n" + GZ,
     # load cases
     "cases_bad_occupancy.toml": '[[case]]\nname = "x"\noccupancy = "most"\n',
