@@ -351,7 +351,7 @@ def test_huge_project_name_is_shortened_in_the_report_and_kept_in_the_json(tmp_p
     monkeypatch.setattr(sys, "argv", ["checker", *argv])  # the command line in the record
     code, _, err = run(argv, capsys)
     assert code == 0, err
-    assert project not in pages[0] and "P" * 150 + "..." in pages[0]
+    assert project not in pages[0] and "P" * 70 + "..." in pages[0]
     assert project in pdf.with_suffix(".json").read_text()  # the command line, in full
 
 

@@ -12,7 +12,7 @@ from ..terminal import shorten
 from .document import ReportMeta, build_html
 from .pdf import TemplatesOnlyFetcher, render_pdf
 
-DISPLAY_CHARS = 200  # user text longer than this is cut in the report (the JSON keeps it all)
+DISPLAY_CHARS = 80  # user text longer than this is cut in the report (the JSON keeps it all)
 
 METHOD = [
     "Geometry: the centerline samples are joined by a degree-5 B-spline (scipy), "
