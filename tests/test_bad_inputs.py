@@ -91,6 +91,7 @@ CORPUS = {
     "history_missing_gz.csv": ("history", ["missing required column 'gz'"]),
     "history_few_samples.csv": ("history", ["at least 8"]),
     "history_text_cell.csv": ("history", ["row 7", "'gz'", "high"]),
+    "history_long_seat_name.csv": ("history", ["row 2", "'seat'", "300 characters"]),
     "history_decimal_comma.csv": ("history", ["row 7", "decimal commas"]),
     "history_utf16.csv": ("history", ["UTF-16"]),
 }

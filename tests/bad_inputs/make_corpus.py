@@ -121,6 +121,8 @@ TEXT = {
     "history_few_samples.csv": history([0, 0.01, 0.02]),
     "history_text_cell.csv": history([i / 100 for i in range(20)]).replace("0.050,0,0,1",
                                                                            "0.050,0,0,high"),
+    "history_long_seat_name.csv": "seat,t,gx,gy,gz\n" + "".join(
+        f"{'s' * 300},{i / 100:.2f},0,0,1\n" for i in range(20)),
     "history_decimal_comma.csv": history([i / 100 for i in range(20)]).replace(
         "0.050,0,0,1", "0,050,0,0,1"),
 }
