@@ -50,6 +50,18 @@ def number_option(low: float, high: float, unit: str = "", hint: str = "",
     return parse
 
 
+def name_option(max_chars: int = 200) -> Callable[[str], str]:
+    """An argparse type: a name of at most ``max_chars`` characters (it titles figures)."""
+
+    def parse(text: str) -> str:
+        if len(text) > max_chars:
+            raise argparse.ArgumentTypeError(
+                f"is {len(text)} characters long; give at most {max_chars}")
+        return text
+
+    return parse
+
+
 def machine_memory_bytes() -> int | None:
     try:
         return os.sysconf("SC_PAGE_SIZE") * os.sysconf("SC_PHYS_PAGES")

@@ -19,6 +19,7 @@ from .bounds import (
     SMOOTHING_M,
     START_SPEED_M_S,
     WORKERS,
+    name_option,
     number_option,
 )
 from .errors import InputError, TrainStalled
@@ -110,7 +111,8 @@ def _add_check_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--project", default="(not given)", help="project name for the report")
     p.add_argument("--layout-name", default=None, help="layout name (default: file name)")
     p.add_argument("--revision", default="(not given)", help="layout revision for the report")
-    p.add_argument("--case", default="nominal", help="name of the load case (default nominal)")
+    p.add_argument("--case", default="nominal", type=name_option(),
+                   help="name of the load case (default nominal)")
 
 
 def _add_case_options(p: argparse.ArgumentParser) -> None:
