@@ -178,8 +178,9 @@ def commit(files: dict[str | Path, bytes]) -> list[Path]:
                 raise _write_error(path, exc) from None
         if was_interrupted():
             raise KeyboardInterrupt
-        with _held_signals(), _folder_locks([Path(os.path.realpath(p)).parent
-                                             for p in targets]):
+        # the lock first: waiting for another run stays interruptible
+        with _folder_locks([Path(os.path.realpath(p)).parent for p in targets]), \
+                _held_signals():
             _swap_in(staged)
             written.extend(targets)  # before a held signal is delivered at the block's end
     finally:
