@@ -78,8 +78,8 @@ def memory_cap_bytes() -> int | None:
         except ValueError:
             value = float("nan")
         if not 0 < value < 1e9:
-            raise InputError(None, f"environment variable {MEMORY_ENV}={text[:20]!r} is not a "
-                             "size in megabytes", "set it to a number such as 4000 or unset it")
+            raise InputError(MEMORY_ENV, f"environment variable value {text[:20]!r} is not "
+                             "a size in megabytes", "set it to a number such as 4000 or unset it")
         return int(value * 1e6)
     total = machine_memory_bytes()
     return int(total * DEFAULT_MEMORY_FRACTION) if total else None

@@ -198,7 +198,7 @@ def _check_outputs(args, *inputs) -> None:
 
     if getattr(args, "scheduler", None) and not getattr(args, "cases", None) and (
             args.command == "check"):
-        raise InputError(None, "--scheduler runs load cases on a cluster but no --cases was "
+        raise InputError("--scheduler", "runs load cases on a cluster but no --cases was "
                          "given", "add --cases standard (or a cases file), or drop --scheduler")
     cases = getattr(args, "cases", None)
     inputs += (getattr(args, "limits", None), cases if cases != "standard" else None)

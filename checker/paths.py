@@ -36,7 +36,7 @@ def max_input_bytes() -> int:
     except ValueError:
         value = float("nan")
     if not 0 < value < 1e7:
-        raise InputError(None, f"environment variable {MAX_INPUT_ENV}={text[:20]!r} is not a "
+        raise InputError(MAX_INPUT_ENV, f"environment variable value {text[:20]!r} is not a "
                          "size in megabytes", "set it to a number such as 500 or unset it")
     return int(value * 1e6)
 

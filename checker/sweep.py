@@ -127,7 +127,7 @@ def _execute(jobs: list, workers: int | None, scheduler: str | None,
         try:
             from dask.distributed import Client, as_completed
         except ImportError:
-            raise InputError(None, "--scheduler needs dask.distributed",
+            raise InputError("--scheduler", "needs dask.distributed",
                              "install the extra: pip install -e \".[dask]\"") from None
         client = _dask_client(Client, scheduler, scheduler_timeout_s)
         with client:
@@ -164,16 +164,16 @@ def _dask_client(client_class, scheduler: str, timeout_s: float):
     try:
         client = client_class(scheduler, timeout=timeout_s)
     except (OSError, TimeoutError) as exc:
-        raise InputError(None, f"cannot reach the Dask scheduler at {shown} within "
+        raise InputError("--scheduler", f"cannot reach the Dask scheduler at {shown} within "
                          f"{timeout_s:g} s ({shorten(str(exc), 120)})", hint) from None
     except (ValueError, TypeError) as exc:
-        raise InputError(None, f"--scheduler {shown} is not a Dask scheduler address "
+        raise InputError("--scheduler", f"{shown} is not a Dask scheduler address "
                          f"({shorten(str(exc), 120)})", hint) from None
     try:
         client.wait_for_workers(1, timeout=timeout_s)
     except (OSError, TimeoutError):
         client.close()
-        raise InputError(None, f"the Dask scheduler at {shown} has no worker after "
+        raise InputError("--scheduler", f"the Dask scheduler at {shown} has no worker after "
                          f"{timeout_s:g} s", "start workers for it (dask worker ADDRESS) or "
                          "raise --scheduler-timeout") from None
     return client

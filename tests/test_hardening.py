@@ -529,3 +529,14 @@ def test_scheduler_with_no_worker_fails_within_the_timeout(capsys):
     assert code == 2
     line = one_error_line(err)
     assert "has no worker after 2 s" in line and "--scheduler-timeout" in line
+
+
+@pytest.mark.parametrize("variable", ["CHECKER_MAX_INPUT_MB", "CHECKER_MAX_MEMORY_MB"])
+@pytest.mark.parametrize("value", ["lots", "-5", "inf"])
+def test_bad_cap_in_the_environment_is_one_line(variable, value, capsys, monkeypatch,
+                                                tmp_path):
+    monkeypatch.setenv(variable, value)
+    code, _, err = run(["simulate", TRACK, *RIDE, "-o", tmp_path / "h.csv"], capsys)
+    assert code == 2
+    line = one_error_line(err)
+    assert variable in line and "megabytes" in line
