@@ -92,6 +92,8 @@ def build_parser() -> argparse.ArgumentParser:
                       help="moving-average window that softens the roll acceleration [s] "
                            "(default 0.6)")
     bank.add_argument("--json", metavar="ADVICE.json", help="write the advice's figures as JSON")
+    bank.add_argument("--pdf", metavar="ADVICE.pdf", help="write a short PDF of the advice")
+    bank.add_argument("--page-size", choices=("a4", "letter"), default="a4")
     hist = sub.add_parser("check-history",
                           help="check a recorded or exported history against a limit set")
     hist.add_argument("history", help="CSV with t, gx, gy, gz (optional seat)")
@@ -387,7 +389,7 @@ def _cmd_advise_bank(args: argparse.Namespace) -> int:
         raise InputError(out, "-o names the track CSV; its plot goes beside it as .svg",
                          "give the output a .csv name")
     check_run_paths([args.track, args.train, args.operation],
-                    [("-o", out), ("plot", plot), ("--json", args.json)])
+                    [("-o", out), ("plot", plot), ("--json", args.json), ("--pdf", args.pdf)])
     line, train, ops = load_inputs(args.track, args.train, ideal=args.ideal,
                                    operation=args.operation, start_speed_m_s=args.start_speed,
                                    units=args.units)
@@ -417,8 +419,18 @@ def _cmd_advise_bank(args: argparse.Namespace) -> int:
     if args.json:
         files[args.json] = to_json({"advice": d, "track": str(args.track), "output": str(out),
                                     "caution": CAUTION, "command": _command_line()}).encode()
-    commit(files)  # the banked track, its plot and its JSON together, or none of them
-    print(f"wrote {out} and {plot}" + (f" and {args.json}" if args.json else ""))
+    if args.pdf:
+        from .report.aids_figures import bank_pdf
+
+        files[args.pdf] = bank_pdf(advice, svg, {
+            "track": str(args.track), "output": str(out),
+            "riders": "centerline rider" if advice.ideal else "every seat of the train",
+            "inputs": _inputs(args.track, args.train, args.operation),
+            "command": _command_line(), "page_size": args.page_size,
+            "roll_rate": args.roll_rate, "tolerance": args.tolerance,
+            "smoothing": args.roll_smoothing})
+    commit(files)  # the banked track, its plot, JSON and PDF together, or none of them
+    print("wrote " + ", ".join(str(f) for f in files))
     print("caution: advice for a designer to review, not a verified design; " + CAUTION)
     return EXIT_OK
 

@@ -53,8 +53,9 @@ def test_advise_bank_writes_track_plot_and_json(tmp_path, capsys):
     track = write_track(tmp_path / "s.csv", clothoid_s_curve())
     out = tmp_path / "banked.csv"
     code = main(["advise-bank", str(track), "--ideal", "--start-speed", "15", "-o", str(out),
-                 "--json", str(tmp_path / "a.json")])
+                 "--json", str(tmp_path / "a.json"), "--pdf", str(tmp_path / "a.pdf")])
     assert code == 0
+    assert (tmp_path / "a.pdf").read_bytes().startswith(b"%PDF")
     lines = out.read_text().splitlines()
     assert lines[0].startswith("#") and lines[1] == "x,y,z,roll_deg"
     assert len(lines) - 2 == len(clothoid_s_curve())

@@ -226,3 +226,38 @@ def aids_context(evaluation, sensitivity, asset) -> dict:
         if part is not None and part.get("figure"):
             part["figure"] = asset(part["figure"])
     return section
+
+
+def bank_pdf(advice, svg: str, info: dict) -> bytes:
+    """A short PDF of a bank advice: caution, figures, plot, inputs and command.
+
+    info: track, output, riders, inputs [(file, sha256)], command, page_size, roll_rate,
+    tolerance, smoothing.
+    """
+    import jinja2
+
+    from .. import __version__
+    from ..documents import CAUTION
+    from .pdf import ASSET_SCHEME, TEMPLATES, TemplatesOnlyFetcher, render_pdf
+
+    env = jinja2.Environment(loader=jinja2.FileSystemLoader(str(TEMPLATES)), autoescape=True,
+                             undefined=jinja2.StrictUndefined)
+    d = advice.to_dict()
+    rows = [("Roll-rate limit", f"{info['roll_rate']:g} deg/s (fastest advised "
+                                f"{d['max_roll_rate_deg_s']:.1f} deg/s)"),
+            ("|Gy| tolerance per seat", f"{info['tolerance']:g} g"),
+            ("Roll smoothing window", f"{info['smoothing']:g} s"),
+            ("Largest change from the given bank", f"{d['max_change_deg']:.1f} deg"),
+            ("Worst |Gy| at any seat, given bank", f"{d['max_abs_gy_given_g']:.3f} g"),
+            ("Worst |Gy| at any seat, advised bank", f"{d['max_abs_gy_advised_g']:.3f} g"),
+            ("Same, where the rail-level target is met",
+             f"{d['max_abs_gy_where_rate_allows_g']:.3f} g"),
+            ("Length where it is not met", f"{d['rate_bound_length_m']:.1f} m")]
+    css = env.get_template("report.css").render(
+        page_size={"a4": "A4", "letter": "letter"}[info.get("page_size", "a4")],
+        footer_left="checker bank advice - not a verified design")
+    html = env.get_template("bank.html.j2").render(
+        css=css, track=info["track"], output=info["output"], riders=info["riders"],
+        version=__version__, caution=CAUTION, rows=rows, figure=f"{ASSET_SCHEME}:bank.svg",
+        inputs=info["inputs"], command=info["command"])
+    return render_pdf(html, TemplatesOnlyFetcher(assets={"bank.svg": svg}))
