@@ -72,7 +72,7 @@ class SensitivityRow:
         """The parameter whose typical change moves this margin most."""
         effects = [(abs(self.effect(p)), p.key) for p in PARAMETERS
                    if self.effect(p) is not None]
-        return max(effects)[1] if effects and max(effects)[0] > 1e-4 else None
+        return max(effects)[1] if effects and max(effects)[0] >= 1e-3 else None
 
     def to_dict(self) -> dict:
         return {"rule": self.rule, "seat": self.seat, "margin": self.margin,
