@@ -99,7 +99,7 @@ def aids_summary(evaluation: Evaluation, sensitivity=None) -> str:
     if w is None:
         lines.append("uplift: no seat leaves its seat (filtered Gz never below 0)" + against)
     else:
-        over = sum(len(s["events"]) and s["exceeding"] for s in up["seats"])
+        over = sum(s["exceeding"] for s in up["seats"])
         lines.append(
             f"uplift: highest {_length(w['peak_m'])} off the seat, {w['seat']} "
             f"({w['case']}) at {_where(w)}, {w['duration_s']:.2f} s off the seat{against}"

@@ -68,21 +68,32 @@ def test_record_ending_in_flight_is_marked_and_limit_compared():
     assert summary.exceeding == (e,)
 
 
+def _matched(a: list[float], b: list[float]) -> bool:
+    """Every clear flight (over 1.3 mm) of one list has a partner in the other."""
+    return all(any(q == pytest.approx(p, rel=0.02, abs=2e-4) for q in b)
+               for p in a if p > 1.3e-3)
+
+
 @settings(max_examples=40, deadline=None)
 @given(st.lists(st.floats(-1.5, 2.0), min_size=3, max_size=40))
 def test_events_agree_with_fine_explicit_integration(levels):
-    """Reference: trapezoidal steps on a 100x finer grid of the same piecewise-linear Gz; a
-    rider landing while Gz < 0 leaves the seat again at once."""
+    """Reference: trapezoidal steps on a 100x finer grid of the same piecewise-linear Gz,
+    starting at the interpolated crossing; a rider landing while Gz < 0 leaves the seat again
+    at once."""
     dt = 0.05
     t = np.arange(len(levels)) * dt
     gz = np.asarray(levels)
     fine_t = np.linspace(0.0, t[-1], 100 * (len(t) - 1) + 1)
     fine = np.interp(fine_t, t, gz)
     h = fine_t[1] - fine_t[0]
-    peaks, flying, v, d, best, g_old = [], False, 0.0, 0.0, 0.0, 0.0
-    for g in fine:
-        if not flying and g < 0:
-            flying, v, d, best, g_old = True, 0.0, 0.0, 0.0, 0.0
+    peaks, flying, v, d, best, g_old = [], False, 0.0, 0.0, 0.0, fine[0]
+    for k, g in enumerate(fine):
+        if not flying and g < 0:  # off the seat from the crossing within this fine step
+            part = h * (1.0 if k == 0 or fine[k - 1] < 0 else g / (g - fine[k - 1]))
+            part = 0.0 if k == 0 else part
+            flying, best, g_old = True, 0.0, g
+            v, d = -0.5 * g * G0 * part, -g * G0 * part ** 2 / 6
+            continue
         if flying:
             v_new = v - 0.5 * (g + g_old) * G0 * h
             d += 0.5 * (v + v_new) * h
@@ -95,7 +106,27 @@ def test_events_agree_with_fine_explicit_integration(levels):
     if flying:
         peaks.append(best)
     got = [e.peak_m for e in uplift_events(gz, t)]
-    big = [p for p in peaks if p > 1e-3]
-    assert len([p for p in got if p > 1e-3]) == len(big)
-    for p, q in zip([p for p in got if p > 1e-3], big):
-        assert p == pytest.approx(q, rel=0.02, abs=2e-4)
+    assert _matched(got, peaks) and _matched(peaks, got)
+
+
+def test_flight_beyond_the_free_travel_is_a_finding_and_fails_the_verdict():
+    from checker.conditioning import FilterSpec
+    from checker.history import RecordedSignal
+    from checker.limits import LimitSet
+    from checker.rules import evaluate
+
+    t, gz = step_signal(0.5, 0.3, dt=0.005)
+    g = np.column_stack([np.zeros_like(gz), np.zeros_like(gz), gz])
+    peak, _ = closed_form(0.5, 0.3)  # 0.33 m
+    for travel, verdict in ((0.05, "fail"), (1.0, "pass")):
+        limits = LimitSet("t", "", "", False, FilterSpec(kind="none"), (), (), (),
+                          uplift_free_travel_m=travel)
+        ev = evaluate([RecordedSignal("s", t, g)], limits)
+        assert ev.verdict == verdict
+        assert ev.seats[0].margins["uplift free travel"] == pytest.approx(travel - peak,
+                                                                           abs=0.01)
+    (f,) = evaluate([RecordedSignal("s", t, g)], LimitSet(
+        "t", "", "", False, FilterSpec(kind="none"), (), (), (),
+        uplift_free_travel_m=0.05)).findings
+    assert f.kind == "uplift" and f.limit_g == 0.05 and f.peak_g == pytest.approx(peak,
+                                                                                  rel=0.02)
