@@ -60,11 +60,12 @@ class Sweep:
         return list(best.values())
 
     def matrix(self) -> tuple[list[str], list[str], dict]:
-        """Seats, cases and {(seat, case): verdict}."""
+        """Seats, cases and {(seat, case): "pass", "fail" or "stall"}."""
         cases = [o.case for o in self.outcomes]
         seats = [s.seat for s in self.outcomes[0].evaluation.seats] if self.outcomes else []
-        cells = {(s.seat, o.case): s.verdict for o in self.outcomes
-                 for s in o.evaluation.seats}
+        cells = {(s.seat, o.case): ("stall" if any(f.kind == "stall" for f in s.findings)
+                                    else s.verdict)
+                 for o in self.outcomes for s in o.evaluation.seats}
         return seats, cases, cells
 
 
