@@ -147,12 +147,14 @@ def _command_line() -> str:
 def _finish(args, run, source: str, parameters: list) -> int:
     """Print the summary; write JSON and PDF as asked. Returns the exit code."""
     from .documents import CAUTION, evaluation_document, summary_table, to_json
+    from .events import events_of_run
     from .outputs import atomic_write_text
 
     evaluation = run.evaluation
     for warning in evaluation.warnings:
         print(f"warning: {warning}", file=sys.stderr)
-    print(summary_table(evaluation))
+    events = events_of_run(evaluation, run.ride)
+    print(summary_table(evaluation, events))
     if run.sweep is not None:
         from .documents import sweep_document, sweep_tables
 
@@ -175,7 +177,7 @@ def _finish(args, run, source: str, parameters: list) -> int:
         pdf, sidecar = write_report(run, args.pdf, meta, args.json, extra)
         print(f"wrote {pdf} and {sidecar}")
     elif args.json:
-        doc = evaluation_document(evaluation, run.inputs, command, extra)
+        doc = evaluation_document(evaluation, run.inputs, command, extra, events)
         atomic_write_text(args.json, to_json(doc))
         print(f"wrote {args.json}")
     return EXIT_FINDINGS if evaluation.verdict == "fail" or run.stall else EXIT_OK
@@ -213,8 +215,6 @@ def _cmd_check(args: argparse.Namespace) -> int:
         extra_inputs = [cases_file]
     else:
         run = run_check(line, train, ops, limits, options, args.case)
-    if run.stall:
-        print(f"checker: {run.stall}", file=sys.stderr)
     run.inputs = (_inputs(args.track, args.train, args.operation, *extra_inputs)
                   + list(limits.files))
     params = ride_parameters(run.ride) + [("track length unit", args.units),
@@ -318,7 +318,7 @@ def _cmd_compare(args: argparse.Namespace) -> int:
     from pathlib import Path
 
     from .compare import compare_sweeps
-    from .documents import CAUTION, comparison_document, to_json
+    from .documents import CAUTION, change_text, comparison_document, to_json
     from .loadcases import STANDARD_CASES, LoadCase, apply_case, load_cases
     from .outputs import atomic_write_bytes, atomic_write_text
     from .ride import RideOptions, load_inputs, run_check
@@ -360,11 +360,7 @@ def _cmd_compare(args: argparse.Namespace) -> int:
     for c in comparison.changes:
         if c.status == "same":
             continue
-        f = c.new or c.old
-        where = f"{f.s_worst_m:.1f} m" if f.s_worst_m is not None else f"{f.t_worst:.2f} s"
-        print(f"  {c.status:<6} {c.rule:<26} {c.seat:<12} {c.case:<14} at {where:<9} "
-              f"margin {c.old.margin if c.old else float('nan'):7.2f} -> "
-              f"{c.new.margin if c.new else float('nan'):7.2f}  {c.matched_by}")
+        print("  " + change_text(c))
     print(f"{'seat':<14}" + "".join(f"{a + ' ' + k:>16}" for a in ("gx", "gy", "gz")
                                     for k in ("min", "max")))
     by_seat: dict = {}

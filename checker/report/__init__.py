@@ -5,6 +5,7 @@ from __future__ import annotations
 from pathlib import Path
 
 from ..documents import evaluation_document, to_json
+from ..events import events_of_run
 from ..outputs import atomic_write_bytes, atomic_write_text, check_writable
 from .document import ReportMeta, build_html
 from .pdf import TemplatesOnlyFetcher, render_pdf
@@ -42,9 +43,10 @@ def write_report(run, pdf_path: str | Path, meta: ReportMeta, json_path: str | P
     json_path = check_writable(json_path or pdf_path.with_suffix(".json"))
     if not meta.method:
         meta.method = list(METHOD)
-    html, assets = build_html(run.evaluation, run.signals, run.ride, meta)
+    events = events_of_run(run.evaluation, run.ride)
+    html, assets = build_html(run.evaluation, run.signals, run.ride, meta, events)
     pdf = render_pdf(html, TemplatesOnlyFetcher(assets=assets))
-    doc = evaluation_document(run.evaluation, meta.inputs, meta.command, json_extra)
+    doc = evaluation_document(run.evaluation, meta.inputs, meta.command, json_extra, events)
     atomic_write_text(json_path, to_json(doc))
     atomic_write_bytes(pdf_path, pdf)
     return pdf_path, json_path
