@@ -101,6 +101,8 @@ def build_parser() -> argparse.ArgumentParser:
     demo.add_argument("--out", default="demo-output", metavar="FOLDER",
                       help="folder for the reports (default ./demo-output)")
     demo.add_argument("--page-size", choices=("a4", "letter"), default="a4")
+    demo.add_argument("--seat-pages", choices=("all", "governing", "none"),
+                      default="governing", help="seat pages of figures (default governing)")
     return parser
 
 
@@ -115,6 +117,10 @@ def _add_check_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--layout-name", default=None, help="layout name (default: file name)")
     p.add_argument("--revision", default="(not given)", help="layout revision for the report")
     p.add_argument("--case", default="nominal", help="name of the load case (default nominal)")
+    p.add_argument("--seat-pages", choices=("all", "governing", "none"), default="governing",
+                   help="seat pages of figures in the PDF: the governing seat of each event "
+                   "and seats whose findings differ (default), every seat with a finding, "
+                   "or none")
 
 
 def _add_case_options(p: argparse.ArgumentParser) -> None:
@@ -138,10 +144,13 @@ def _limits(args: argparse.Namespace):
     return load_limits(args.limits)
 
 
-def _command_line() -> str:
+def _command_line(args: argparse.Namespace | None = None) -> str:
+    """The command that reproduces this run, quoted for a POSIX shell (shlex.join): the
+    arguments given to :func:`main`, or the process's own."""
     import shlex
 
-    return "checker " + " ".join(shlex.quote(a) for a in sys.argv[1:])
+    argv = getattr(args, "argv", None)
+    return shlex.join(["checker", *(sys.argv[1:] if argv is None else argv)])
 
 
 def _finish(args, run, source: str, parameters: list) -> int:
@@ -165,7 +174,7 @@ def _finish(args, run, source: str, parameters: list) -> int:
     if evaluation.limits.illustrative:
         print("note: the limit set is ILLUSTRATIVE; the verdict says nothing about compliance")
     print("caution: " + CAUTION)
-    command = _command_line()
+    command = _command_line(args)
     extra = {"stall": run.stall, **extra_sweep}
     if args.pdf:
         from .report import ReportMeta, write_report
@@ -173,7 +182,8 @@ def _finish(args, run, source: str, parameters: list) -> int:
         meta = ReportMeta(project=args.project, layout=args.layout_name or source,
                           revision=args.revision, page_size=args.page_size, command=command,
                           inputs=run.inputs, parameters=parameters, stall=run.stall,
-                          sweep=run.sweep)
+                          sweep=run.sweep, seat_pages=args.seat_pages,
+                          recorded=run.ride is None)
         pdf, sidecar = write_report(run, args.pdf, meta, args.json, extra)
         print(f"wrote {pdf} and {sidecar}")
     elif args.json:
@@ -375,13 +385,14 @@ def _cmd_compare(args: argparse.Namespace) -> int:
     inputs = _inputs(args.old, args.new, args.train, old_ops_file,
                      new_ops_file if new_ops_file != old_ops_file else None,
                      cases_file) + list(limits.files)
-    command = _command_line()
-    if args.json:
+    command = _command_line(args)
+    json_path = args.json or (str(Path(args.pdf).with_suffix(".json")) if args.pdf else None)
+    if json_path:  # --pdf always brings its JSON sidecar
         doc = comparison_document(comparison, limits, args.old, args.new, len(old.findings),
                                   len(new.findings), regressed, new_stalls,
                                   [c.name for c in cases], inputs, command)
-        atomic_write_text(args.json, to_json(doc))
-        print(f"wrote {args.json}")
+        atomic_write_text(json_path, to_json(doc))
+        print(f"wrote {json_path}")
     if args.pdf:
         from .report.comparison import comparison_pdf
 
@@ -407,6 +418,7 @@ def _cmd_compare(args: argparse.Namespace) -> int:
 
 
 def _cmd_demo(args: argparse.Namespace) -> int:
+    import shlex
     import time
     from pathlib import Path
 
@@ -434,17 +446,20 @@ def _cmd_demo(args: argparse.Namespace) -> int:
         line, train, ops = load_inputs(track, train_file, operation=ops_file)
         run = run_check(line, train, ops, limits, RideOptions())
         run.inputs = _inputs(track, train_file, ops_file) + list(limits.files)
-        command = (f"checker check {track} --train {train_file} --operation {ops_file} "
-                   f"--project 'Marrowvale Pleasure Gardens (fictional)' --layout-name "
-                   f"'Thistle Comet' --revision {rev} --pdf {out / f'thistle_comet_rev{rev}.pdf'}")
-        meta = ReportMeta(project="Marrowvale Pleasure Gardens (fictional demo park)",
-                          layout="Thistle Comet (fictional demo layout)",
-                          revision=f"{rev} ({what})", page_size=args.page_size,
-                          command=command, inputs=run.inputs, stall=run.stall,
+        project = "Marrowvale Pleasure Gardens (fictional demo park)"
+        layout = "Thistle Comet (fictional demo layout)"
+        pdf_path = out / f"thistle_comet_rev{rev}.pdf"
+        command = shlex.join(["checker", "check", str(track), "--train", str(train_file),
+                              "--operation", str(ops_file), "--project", project,
+                              "--layout-name", layout, "--revision", f"{rev} ({what})",
+                              "--pdf", str(pdf_path)])
+        meta = ReportMeta(project=project, layout=layout, revision=f"{rev} ({what})",
+                          page_size=args.page_size, command=command, inputs=run.inputs,
+                          stall=run.stall, seat_pages=args.seat_pages,
                           parameters=ride_parameters(run.ride) + [
+                              ("track length unit", "m"),
                               ("filter", limits.filter.describe())])
-        pdf, sidecar = write_report(run, out / f"thistle_comet_rev{rev}.pdf", meta, None,
-                                    {"stall": run.stall})
+        pdf, sidecar = write_report(run, pdf_path, meta, None, {"stall": run.stall})
         ev = run.evaluation
         print(f"  revision {rev} ({what}): {ev.verdict.upper()} with {len(ev.findings)} "
               f"findings -> {pdf}, {sidecar}")
@@ -466,6 +481,7 @@ def _on_terminate(signum, frame):  # SIGTERM behaves like Ctrl-C: unwind, no par
 def main(argv: Sequence[str] | None = None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
+    args.argv = list(sys.argv[1:] if argv is None else argv)
     if args.command is None:
         parser.print_help()
         return EXIT_INPUT

@@ -74,7 +74,7 @@ def event_record(event) -> dict:
         "time_range_s": [event.t_start, event.t_end], "place": event.place,
         "seats": len(event.seats), "seat_names": list(event.seats),
         "cases": list(event.cases), "findings": len(event.members),
-        "governing_seat": g.seat, "governing_case": g.case,
+        "governing_seat": g.seat, "governing_case": g.case, "peak_unit": g.peak_unit,
         "peak": g.peak_g, "limit": g.limit_g, "margin": g.margin,
         "s_worst_m": g.s_worst_m, "s_motion_m": g.s_motion_m, "t_worst": g.t_worst,
         "attitude": g.attitude or None,
@@ -189,7 +189,8 @@ def sweep_tables(sweep) -> str:
     governing = sweep.governing()
     for f in governing:
         lines.append(f"  {f.rule:<26} {f.seat:<12} {f.case:<20} peak "
-                     f"{with_unit(f.peak_g, f.unit):>11}  limit {with_unit(f.limit_g, f.unit):>11}"
+                     f"{with_unit(f.peak_g, f.peak_unit):>11}  limit "
+                     f"{with_unit(f.limit_g, f.peak_unit):>11}"
                      f"  margin {margin_text(f):>11}")
     if not governing:
         lines.append("  (no finding in any case)")

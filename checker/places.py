@@ -12,7 +12,8 @@ Rules, in order:
 - vertical curvature toward the rider's head (k . up > VERTICAL_K): ``valley``, called
   ``loop entry`` when an inversion begins within :data:`LOOP_REACH_M` after it and ``loop
   exit`` when one ended within that distance before it; curvature toward the feet: ``crest``;
-- lateral curvature (|k . left| > LATERAL_K): ``left turn`` / ``right turn`` (added after a
+- lateral curvature (|k . left| > LATERAL_K and above a quarter of the vertical curvature,
+  so that a loop's sideways drift is no turn): ``left turn`` / ``right turn`` (added after a
   vertical word: "valley, left turn");
 - otherwise ``straight``.
 """
@@ -64,6 +65,6 @@ def element_at(geometry: TrackGeometry, s_from: float, s_to: float,
         words.append("crest")
     lat = lateral[window]
     k_l = float(lat[np.argmax(np.abs(lat))])
-    if abs(k_l) > LATERAL_K:
+    if abs(k_l) > LATERAL_K and abs(k_l) > 0.25 * abs(k_v):  # not a loop's drift
         words.append("left turn" if k_l > 0 else "right turn")
     return ", ".join(words) or "straight"

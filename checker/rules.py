@@ -70,6 +70,12 @@ class Finding:
         return MARGIN_UNITS.get(self.kind, "g")
 
     @property
+    def peak_unit(self) -> str:
+        """Unit of peak and limit: a combined-axis finding gives its distance from the rest
+        point in g (its margin is in % of the envelope)."""
+        return {"onset": "g/s", "stall": "m/s"}.get(self.kind, "g")
+
+    @property
     def severity(self) -> float:
         """Exceedance relative to the limit (0 = at the limit); a stall is the most severe."""
         if self.kind == "stall":
@@ -82,6 +88,7 @@ class Finding:
         data = asdict(self)
         data["severity"] = self.severity
         data["unit"] = self.unit
+        data["peak_unit"] = self.peak_unit
         return data
 
 

@@ -172,10 +172,12 @@ def sweep_check_run(sweep: Sweep, centerline: Centerline, train: Train, operatio
     recomputed for the governing (seat, case) pairs so that their figures can be drawn."""
     from .ride import CheckRun
 
+    from .events import group_findings
+
     by_name = {c.name: c for c in cases}
     wanted: dict[str, set[str]] = {}
-    for f in sweep.governing():
-        wanted.setdefault(f.case, set()).add(f.seat)
+    for event in group_findings(sweep.findings, train.length_m):  # every event's governor
+        wanted.setdefault(event.governing.case, set()).add(event.governing.seat)
     if not wanted and sweep.outcomes:  # all pass: the first case's most stressed seat
         wanted[sweep.outcomes[0].case] = set()
     full = {}

@@ -55,7 +55,7 @@ def comparison_pdf(comparison: Comparison, focus: dict, meta: dict) -> bytes:
                        "limit_levels": np.append(rule.levels_g, rule.levels_g[-1]),
                        "step": rule.interpolation == "step"})
     exposure = asset(figures.exposure_curves(curves, "Exposure curves: new (solid), old "
-                                             "(dashed), limit (red)")) if curves else ""
+                                             "(dotted), limit (black, dashed)")) if curves else ""
     changes = [{"status": c.status, "rule": c.rule, "seat": c.seat, "case": c.case,
                 "old_s": _fmt(c.old.s_worst_m if c.old else None, 1),
                 "new_s": _fmt(c.new.s_worst_m if c.new else None, 1),
