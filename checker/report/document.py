@@ -352,7 +352,7 @@ def build_html(evaluation: Evaluation, signals: dict, ride, meta: ReportMeta,
              "peak": "0 m/s" if f.kind == "stall" else with_unit(f.peak_g, f.peak_unit),
              "limit": "-" if f.kind == "stall" else with_unit(f.limit_g, f.peak_unit),
              "margin": margin_text(f)} for i, f in enumerate(findings)]
-    delays = [f.group_delay_s for f in findings]
+    delays = [f.group_delay_s for f in findings if f.kind != "stall"]
     css = env.get_template("report.css").render(
         page_size=PAGE_SIZES[meta.page_size],
         footer_left="checker self-check - not a certification or an approval")
