@@ -7,12 +7,12 @@ What "the same place" means here
 --------------------------------
 Two findings of the same rule are at the same place when their station ranges (from the
 station at the start of the exceedance to the station at its end, of the seat's car) overlap
-or lie within one train length (at least :data:`MIN_GAP_M`) of each other, whatever their seat and load case. The test is
-applied transitively: findings chain into one event while each next one starts within a
-train length of the event's stations so far. One train length, because every car passes the
-same element, and an effect of the whole train (the rear pulled over a crest, a powered
-section acting while any car is on it) shows in each car up to a train length apart. A stall
-is reported at the lead car's station for every seat, so a case's stall is one event.
+or lie within one train length (at least :data:`MIN_GAP_M`) of each other, whatever their
+seat and load case. The test is applied transitively: findings chain into one event while
+each next one starts within a train length of the event's stations so far. One train
+length, because every car passes the same element, and an effect of the whole train (the
+rear pulled over a crest, a powered section acting while any car is on it) shows in each car
+up to a train length apart. A stall is reported at the lead car's station for every seat, so a case's stall is one event.
 
 Recorded data carry no station: there, findings of the same rule are the same place when
 their time ranges overlap or lie within :data:`RECORD_GAP_S` of each other.
@@ -110,7 +110,7 @@ def group_findings(findings: Sequence[Finding], train_length_m: float = 0.0) -> 
         ranges = {i: _station_range(findings[i]) for i in idx}
         placed = [i for i in idx if ranges[i] is not None]
         timed = [i for i in idx if ranges[i] is None]
-        groups += _chain(placed, lambda i: ranges[i], max(train_length_m, MIN_GAP_M))
+        groups += _chain(placed, ranges.__getitem__, max(train_length_m, MIN_GAP_M))
         groups += _chain(timed, lambda i: (findings[i].t_start, findings[i].t_end),
                          RECORD_GAP_S)
     events = [_event(findings, g) for g in groups]

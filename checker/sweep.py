@@ -170,9 +170,8 @@ def sweep_check_run(sweep: Sweep, centerline: Centerline, train: Train, operatio
                     limits: LimitSet, options: RideOptions, cases: list[LoadCase]):
     """A CheckRun of the whole sweep for documents: every seat x case result, with signals
     recomputed for the governing (seat, case) pairs so that their figures can be drawn."""
-    from .ride import CheckRun
-
     from .events import group_findings
+    from .ride import CheckRun
 
     by_name = {c.name: c for c in cases}
     wanted: dict[str, set[str]] = {}

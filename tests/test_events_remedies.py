@@ -12,6 +12,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 from scipy import signal
+from shapes import G0, flat_circle_clockwise, straight
 
 from checker.conditioning import FilterSpec, group_delay_s
 from checker.events import RECORD_GAP_S, event_of_finding, events_of_run, group_findings
@@ -22,8 +23,6 @@ from checker.ride import run_check
 from checker.rules import Finding
 from checker.track import Centerline
 from checker.train import ideal_rider
-
-from shapes import G0, flat_circle_clockwise, straight
 
 
 def finding(rule="duration +Gz", seat="car1-a", case="c1", s0=100.0, s1=101.0, t0=10.0,

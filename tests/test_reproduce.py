@@ -6,10 +6,9 @@ import json
 import shlex
 
 from pypdf import PdfReader
+from test_stalls import write_hill
 
 from checker.cli import main
-
-from test_stalls import write_hill
 
 
 def cover(pdf) -> list[str]:

@@ -11,6 +11,7 @@ import json
 import numpy as np
 import pytest
 from pypdf import PdfReader
+from shapes import G0, straight, vertical_loop
 
 from checker.cli import main
 from checker.documents import BUNDLED_LIMITS
@@ -19,8 +20,6 @@ from checker.operation import Operation
 from checker.ride import run_check
 from checker.track import Centerline
 from checker.train import ideal_rider
-
-from shapes import G0, straight, vertical_loop
 
 HILL_HEIGHT = 8.0  # [m]
 HILL_START, HILL_LENGTH = 20.0, 80.0  # [m]

@@ -6,8 +6,8 @@ from pathlib import Path
 
 from ..documents import evaluation_document, to_json
 from ..events import events_of_run
-from ..rules import sample_rate
 from ..outputs import atomic_write_bytes, atomic_write_text, check_writable
+from ..rules import sample_rate
 from .document import ReportMeta, build_html
 from .pdf import TemplatesOnlyFetcher, render_pdf
 

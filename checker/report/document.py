@@ -162,17 +162,28 @@ def _section_job(args):
     return _seat_section(result, signal, limits, worst)
 
 
-def _render_sections(jobs, signals: dict, limits) -> list[dict]:
-    """Seat figures, on both cores when there are several seats (matplotlib is the cost)."""
-    work = [(s, _lean(signals.get((s.seat, s.case))), limits, worst) for s, worst in jobs]
-    if len(work) < 3:
-        return [_section_job(w) for w in work]
+def _call(job):
+    function, args = job
+    return function(*args)
+
+
+def _run_figure_jobs(jobs: list) -> list:
+    """Run (function, args) figure jobs, on every core when there are several
+    (matplotlib is the cost); results in order."""
+    workers = min(len(jobs), os.cpu_count() or 1)
+    if workers < 2:
+        return [_call(j) for j in jobs]
     import multiprocessing
     from concurrent.futures import ProcessPoolExecutor
 
-    workers = min(len(work), max(1, (os.cpu_count() or 1)))
     with ProcessPoolExecutor(workers, mp_context=multiprocessing.get_context("fork")) as pool:
-        return list(pool.map(_section_job, work, chunksize=max(1, len(work) // (4 * workers))))
+        return list(pool.map(_call, jobs))
+
+
+def _render_sections(jobs, signals: dict, limits) -> list[dict]:
+    """Seat figures (see :func:`_run_figure_jobs`)."""
+    return _run_figure_jobs([(_seat_section, (s, _lean(signals.get((s.seat, s.case))),
+                                              limits, worst)) for s, worst in jobs])
 
 
 @dataclass
@@ -199,6 +210,25 @@ def _sweep_context(sweep) -> dict | None:
 
 
 SEAT_PAGE_MODES = ("all", "governing", "none")
+
+
+def finding_lines(findings, ids: list[str], recorded: bool = False) -> list[str]:
+    """The appendix table of every finding as fixed-width text lines, header first (one
+    text line per finding lays out far faster than a table of cells)."""
+    head = (f"{'#':>4} {'event':<5} {'rule':<22} {'seat':<12} "
+            + ("" if recorded else f"{'case':<16} ")
+            + f"{'start [s]':>9} " + ("" if recorded else f"{'station [m]':>11} ")
+            + f"{'dur. [s]':>8} {'peak':>10} {'limit':>10} {'margin':>10}")
+    lines = [head]
+    for i, f in enumerate(findings):
+        peak = "0 m/s" if f.kind == "stall" else with_unit(f.peak_g, f.peak_unit)
+        limit = "-" if f.kind == "stall" else with_unit(f.limit_g, f.peak_unit)
+        lines.append(
+            f"{i + 1:>4} {ids[i]:<5} {f.rule[:22]:<22} {f.seat[:12]:<12} "
+            + ("" if recorded else f"{f.case[:16]:<16} ")
+            + f"{f.t_start:>9.2f} " + ("" if recorded else f"{_fmt(f.s_worst_m, 1):>11} ")
+            + f"{f.duration_s:>8.3f} {peak:>10} {limit:>10} {margin_text(f):>10}")
+    return lines
 
 
 def seats_to_show(events: list[Event], evaluation: Evaluation, mode: str) -> list:
@@ -263,19 +293,20 @@ def _event_context(event: Event, evaluation: Evaluation, signals: dict, seat_cou
             "no computed remedy: recorded data carry no geometry" if event.s_start_m is None
             else "no computed remedy for this rule"),
         "message": g.detail, "attitude": g.attitude,
-        "window": "", "onset": "",
+        "window": "",
     }
 
 
-def _event_figures(event: Event, evaluation: Evaluation, signals: dict) -> tuple[str, str]:
-    """Zoomed time window (and dG/dt for onset) of the event's governing seat."""
+def _event_figure_job(event: Event, evaluation: Evaluation, signals: dict):
+    """(function, args) drawing the zoomed time window (and dG/dt for onset) of the
+    event's governing seat, or None when there is nothing to draw."""
     g = event.governing
     if event.kind == "stall":
-        return "", ""
+        return None
     seat = next((s for s in evaluation.seats if (s.seat, s.case) == (g.seat, g.case)
                  and s.filtered is not None), None)
     if seat is None:
-        return "", ""
+        return None
     raw_signal = signals.get((g.seat, g.case))
     raw = np.asarray(raw_signal.g) if raw_signal is not None else None
     axes = [AXES.index(a) for a in g.axis.split("+") if a in AXES]
@@ -283,14 +314,15 @@ def _event_figures(event: Event, evaluation: Evaluation, signals: dict) -> tuple
     title = f"{event.id} {event.rule}: seat {g.seat}, case {g.case}"
     limits = [(f"limit {g.limit_g:.2f} g for {g.duration_s:.2f} s", g.limit_g)] \
         if event.kind == "duration" else []
-    window = figures.event_window(seat.t, seat.filtered, raw, axes, span, limits, title)
-    onset = ""
+    onset = None
     if event.kind == "onset" and axes:
-        rate = onset_rate(seat.filtered[:, axes[0]], seat.t)
-        onset = figures.onset_window(seat.t, rate, abs(g.limit_g), span,
-                                     f"{event.id}: rate of change of filtered "
-                                     f"{g.axis.capitalize()}")
-    return window, onset
+        onset = (onset_rate(seat.filtered[:, axes[0]], seat.t), abs(g.limit_g))
+    window = (seat.t >= span[0] - 2.0) & (seat.t <= span[1] + 2.0)  # only what is drawn
+    if onset is not None:
+        onset = (onset[0][window], onset[1])
+    return (figures.event_window, (seat.t[window], seat.filtered[window],
+                                   None if raw is None else raw[window], axes, span, limits,
+                                   title, 1.5, onset))
 
 
 def build_html(evaluation: Evaluation, signals: dict, ride, meta: ReportMeta,
@@ -320,38 +352,37 @@ def build_html(evaluation: Evaluation, signals: dict, ride, meta: ReportMeta,
         assets[name] = svg
         return f"{ASSET_SCHEME}:{name}"
 
-    event_rows = []
-    for e in events:
-        row = _event_context(e, evaluation, signals, len(seat_names), len(case_names))
-        window, onset = _event_figures(e, evaluation, signals)
-        row["window"], row["onset"] = asset(window), asset(onset)
-        event_rows.append(row)
+    event_rows = [_event_context(e, evaluation, signals, len(seat_names), len(case_names))
+                  for e in events]
+    event_jobs = [_event_figure_job(e, evaluation, signals) for e in events]
     chosen = seats_to_show(events, evaluation, meta.seat_pages)
     governs: dict[tuple, list[str]] = {}
     for e in events:
         governs.setdefault((e.governing.seat, e.governing.case), []).append(e.id)
-    sections = _render_sections([(s, False) for s in chosen], signals, limits)
+    jobs = [(_seat_section, (s, _lean(signals.get((s.seat, s.case))), limits, False))
+            for s in chosen]
+    if ride is not None:
+        geo = ride.geometry
+        jobs.append((figures.layout_views, (
+            geo.position, geo.s, [(e.governing.s_worst_m, e.rule) for e in events
+                                  if e.governing.s_worst_m is not None],
+            50 if geo.length < 800 else 100, "", (ride.motion.s, ride.motion.v),
+            geo.roll_deg)))
+    jobs += [j for j in event_jobs if j is not None]
+    drawn = _run_figure_jobs(jobs)  # every figure, on every core
+    sections = drawn[:len(chosen)]
+    layout_drawn = drawn[len(chosen)] if ride is not None else ""
+    windows = iter(drawn[len(chosen) + (ride is not None):])
+    for row, job in zip(event_rows, event_jobs):
+        row["window"] = asset(next(windows)) if job is not None else ""
     for section in sections:
         for key in ("histories", "exposure", "combined"):
             section[key] = asset(section[key])
         section["governs"] = ", ".join(governs.get((section["seat"], section["case"]), []))
-    layout_svg = ""
-    station_every = 100
-    if ride is not None:
-        geo = ride.geometry
-        station_every = 50 if geo.length < 800 else 100
-        marks = [(e.governing.s_worst_m, e.rule) for e in events
-                 if e.governing.s_worst_m is not None]
-        layout_svg = asset(figures.layout_views(
-            geo.position, geo.s, marks, station_every,
-            speed=(ride.motion.s, ride.motion.v), bank_deg=geo.roll_deg))
+    layout_svg = asset(layout_drawn)
+    station_every = 50 if ride is not None and ride.geometry.length < 800 else 100
     ids = event_of_finding(events, len(findings))
-    rows = [{"event": ids[i], "rule": f.rule, "seat": f.seat, "case": f.case,
-             "t_start": _fmt(f.t_start), "station": _fmt(f.s_worst_m, 1),
-             "duration": _fmt(f.duration_s, 3),
-             "peak": "0 m/s" if f.kind == "stall" else with_unit(f.peak_g, f.peak_unit),
-             "limit": "-" if f.kind == "stall" else with_unit(f.limit_g, f.peak_unit),
-             "margin": margin_text(f)} for i, f in enumerate(findings)]
+    rows = finding_lines(findings, ids, recorded=meta.recorded)
     delays = [f.group_delay_s for f in findings if f.kind != "stall"]
     css = env.get_template("report.css").render(
         page_size=PAGE_SIZES[meta.page_size],

@@ -47,7 +47,7 @@ def _svg(fig) -> str:
     return text[text.index("<svg"):]
 
 
-def envelope_decimate(x: np.ndarray, y: np.ndarray, bins: int = 400):
+def envelope_decimate(x: np.ndarray, y: np.ndarray, bins: int = 300):
     """Keep the minimum and maximum of y in each of ``bins`` equal slices (peaks survive)."""
     n = len(x)
     if n <= 2 * bins:
@@ -236,16 +236,21 @@ def _own_side(levels: np.ndarray, neutral: float, side: float) -> np.ndarray:
 
 def event_window(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
                  axes: list[int], span: tuple[float, float], limits: list[tuple[str, float]],
-                 title: str, pad_s: float = 1.5) -> str:
+                 title: str, pad_s: float = 1.5,
+                 onset: tuple[np.ndarray, float] | None = None) -> str:
     """A few seconds around an event: the filtered (and raw) signal of its axes, the
-    event's time span shaded and each limit drawn as a dashed line.
+    event's time span shaded and each limit drawn as a dashed line; with ``onset`` = (rate
+    [g/s], limit [g/s]) a second panel shows dG/dt of the filtered signal against +-limit.
 
     axes: column indices (0 gx, 1 gy, 2 gz); limits: (label, level [g]) lines.
     """
     names = ("gx", "gy", "gz")
     a, b = span
     window = (t >= a - pad_s) & (t <= b + pad_s)
-    fig, ax = plt.subplots(figsize=(WIDTH_IN, 1.55))
+    rows = 2 if onset is not None else 1
+    fig, panels = plt.subplots(rows, 1, figsize=(WIDTH_IN, 1.55 + 1.2 * (rows - 1)),
+                               sharex=True, squeeze=False)
+    ax = panels[0, 0]
     for i in axes:
         if raw is not None:
             ax.plot(t[window], raw[window, i], color="#bbbbbb", lw=0.6,
@@ -255,29 +260,21 @@ def event_window(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
     for label, level in limits:
         ax.axhline(level, color=LIMIT_COLOR, ls="--", lw=1.0, label=label)
     ax.axvspan(a, b, color=FINDING_COLOR, alpha=0.12, lw=0, label="exceedance")
-    ax.set_xlabel("time [s]")
     ax.set_ylabel("[g]")
     ax.set_title(title)
     ax.legend(loc="best", fontsize=6, ncol=3)
-    fig.subplots_adjust(left=0.09, right=0.98, top=0.85, bottom=0.26)
-    return _svg(fig)
-
-
-def onset_window(t: np.ndarray, rate: np.ndarray, limit: float, span: tuple[float, float],
-                 title: str, pad_s: float = 1.5) -> str:
-    """dG/dt of the filtered signal [g/s] around an onset event, against +-limit."""
-    a, b = span
-    window = (t >= a - pad_s) & (t <= b + pad_s)
-    fig, ax = plt.subplots(figsize=(WIDTH_IN, 1.4))
-    ax.plot(t[window], rate[window], color="#1f5fa8", lw=1.1, label="dG/dt (filtered)")
-    ax.axhline(limit, color=LIMIT_COLOR, ls="--", lw=1.0, label=f"limit +-{limit:g} g/s")
-    ax.axhline(-limit, color=LIMIT_COLOR, ls="--", lw=1.0)
-    ax.axvspan(a, b, color=FINDING_COLOR, alpha=0.12, lw=0, label="exceedance")
-    ax.set_xlabel("time [s]")
-    ax.set_ylabel("[g/s]")
-    ax.set_title(title)
-    ax.legend(loc="best", fontsize=6, ncol=3)
-    fig.subplots_adjust(left=0.09, right=0.98, top=0.83, bottom=0.28)
+    if onset is not None:
+        rate, limit = onset
+        ax2 = panels[1, 0]
+        ax2.plot(t[window], rate[window], color="#1f5fa8", lw=1.1, label="dG/dt (filtered)")
+        ax2.axhline(limit, color=LIMIT_COLOR, ls="--", lw=1.0, label=f"limit +-{limit:g} g/s")
+        ax2.axhline(-limit, color=LIMIT_COLOR, ls="--", lw=1.0)
+        ax2.axvspan(a, b, color=FINDING_COLOR, alpha=0.12, lw=0, label="exceedance")
+        ax2.set_ylabel("[g/s]")
+        ax2.legend(loc="best", fontsize=6, ncol=3)
+    panels[-1, 0].set_xlabel("time [s]")
+    fig.subplots_adjust(left=0.09, right=0.98, top=0.88 if rows == 2 else 0.85,
+                        bottom=0.14 if rows == 2 else 0.26, hspace=0.12)
     return _svg(fig)
 
 
@@ -290,7 +287,7 @@ def combined_scatter(panels: list[dict], title: str) -> str:
     fig, axes = plt.subplots(1, max(n, 1), figsize=(WIDTH_IN, 2.2), squeeze=False)
     for ax, p in zip(axes.flat, panels):
         pts = p["points"]
-        path = pts[path_decimate(pts, 0.02)]
+        path = pts[path_decimate(pts, 0.04)]
         # the trajectory as one path (one SVG node), not thousands of markers
         ax.plot(path[:, 0], path[:, 1], lw=0.5, color="#1f5fa8", alpha=0.7)
         out = p["outside"]
