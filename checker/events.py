@@ -12,7 +12,8 @@ seat and load case. The test is applied transitively: findings chain into one ev
 each next one starts within a train length of the event's stations so far. One train
 length, because every car passes the same element, and an effect of the whole train (the
 rear pulled over a crest, a powered section acting while any car is on it) shows in each car
-up to a train length apart. A stall is reported at the lead car's station for every seat, so a case's stall is one event.
+up to a train length apart. A stall is reported at the lead car's station for every seat,
+so a case's stall is one event.
 
 Recorded data carry no station: there, findings of the same rule are the same place when
 their time ranges overlap or lie within :data:`RECORD_GAP_S` of each other.
