@@ -176,7 +176,10 @@ def _run_figure_jobs(jobs: list) -> list:
     import multiprocessing
     from concurrent.futures import ProcessPoolExecutor
 
-    with ProcessPoolExecutor(workers, mp_context=multiprocessing.get_context("fork")) as pool:
+    from ..parentwatch import watch_parent
+
+    with ProcessPoolExecutor(workers, mp_context=multiprocessing.get_context("fork"),
+                             initializer=watch_parent, initargs=(os.getpid(),)) as pool:
         return list(pool.map(_call, jobs))
 
 
