@@ -150,9 +150,12 @@ def events_table(events: list, verdict: str, finding_count: int) -> str:
                  f"{'' if finding_count == 1 else 's'}"
                  + (f"; the train stalls in {stalls} event{'' if stalls == 1 else 's'}"
                     if stalls else "") + ")")
-    lines.append("margins: limit - value in the rule's unit (g, g/s, % of the envelope); "
-                 "negative = exceeded; stations of the seat's car where the filtered peak "
-                 "occurs")
+    if events:
+        where = ("stations of the seat's car where the filtered peak occurs"
+                 if any(e.s_start_m is not None for e in events)
+                 else "places are times (recorded data carry no station)")
+        lines.append("margins: limit - value in the rule's unit (g, g/s, % of the envelope);"
+                     f" negative = exceeded; {where}")
     return "\n".join(lines)
 
 

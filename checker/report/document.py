@@ -128,7 +128,14 @@ def ride_statistics(ride, evaluation: Evaluation) -> list[tuple[str, str]]:
         longest = max(below)
         stats.append(("Time below 0 g vertical (filtered Gz < 0)",
                       f"{longest[0]:.2f} s at most (seat {longest[1]})"))
-    stats.append(("Seats x load cases checked", str(len(evaluation.seats))))
+    if ride is None:
+        rates = sorted({round(1.0 / float(np.median(np.diff(s.t))), 6) for s in evaluation.seats
+                        if s.t is not None and len(s.t) > 1})
+        if rates:
+            stats.insert(0, ("Sample rate", ", ".join(f"{r:g} Hz" for r in rates)))
+        stats.append(("Seats checked", str(len(evaluation.seats))))
+    else:
+        stats.append(("Seats x load cases checked", str(len(evaluation.seats))))
     return stats
 
 
