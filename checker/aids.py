@@ -68,7 +68,7 @@ def sustained_document(evaluation: Evaluation) -> list[dict]:
         if worst is not None:
             margin, seat = worst
             entry.update({"seat": seat.seat, "case": seat.case, "margin": margin,
-                          "ratio": (1.0 - margin) ** 2})
+                          "ratio": (1.0 - margin / 100.0) ** 2})
         if found:
             entry.update({"worst_finding_ratio": found[0].ratio,
                           "admissible_g": list(found[0].admissible_g)})

@@ -145,17 +145,18 @@ def _polygon_margin(pair: np.ndarray, env) -> float:
     center = np.array([REST[env.axes[0]], REST[env.axes[1]]])
     away = np.any(np.abs(pair - center) > 1e-12, axis=1)
     if not away.any():
-        return 1.0
-    return -float(np.max(ray_fraction(env.vertices, center, pair[away])))
+        return 100.0
+    return -100.0 * float(np.max(ray_fraction(env.vertices, center, pair[away])))
 
 
 def rule_margins(filtered: np.ndarray, dt: float, limits: LimitSet, t: np.ndarray,
                  uplift=None, sustained: dict | None = None) -> dict:
     """Worst margin of every rule over one seat's filtered signal (rule name -> margin).
 
-    Units as the findings': g0 for duration rules, the fraction of the envelope for combined
-    ones, g0/s for onset, metres for uplift. ``sustained`` maps a sustained envelope's name
-    to its :class:`checker.sustained.SustainedCombined` where the rule engine has it.
+    Units as the findings': g0 for duration rules, % of the envelope for combined ones
+    (inside positive), g0/s for onset, metres for uplift. ``sustained`` maps a sustained
+    envelope's name to its :class:`checker.sustained.SustainedCombined` where the rule engine
+    has it.
     """
     idx = {a: i for i, a in enumerate(AXES)}
     out = {}
@@ -171,7 +172,7 @@ def rule_margins(filtered: np.ndarray, dt: float, limits: LimitSet, t: np.ndarra
             res = (sustained or {}).get(env.name) or sustained_combined(pair[:, 0], pair[:, 1], dt,
                                      pair_limits(limits.duration, env.axes[0]),
                                      pair_limits(limits.duration, env.axes[1]))
-            out[f"combined {env.name}"] = 1.0 - float(np.sqrt(res.ratio.max()))
+            out[f"combined {env.name}"] = 100.0 * (1.0 - float(np.sqrt(res.ratio.max())))
         else:
             out[f"combined {env.name}"] = _polygon_margin(pair, env)
     if len(t) > 1:

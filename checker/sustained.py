@@ -121,11 +121,11 @@ def sustained_findings(filtered: np.ndarray, env, duration: tuple[DurationLimit,
             rule=f"combined {env.name}", kind="combined", axis=f"{env.axes[0]}+{env.axes[1]}",
             seat=ctx.seat.seat, case=ctx.case, t_start=float(ctx.t[start]),
             t_end=float(ctx.t[end]) + dt, duration_s=float(ctx.t[end] - ctx.t[start] + dt),
-            peak_g=reach, limit_g=reach / q, margin=1.0 - q, t_worst=float(ctx.t[w]),
+            peak_g=reach, limit_g=reach / q, margin=100.0 * (1.0 - q), t_worst=float(ctx.t[w]),
             ratio=float(res.ratio[w]), admissible_g=adm,
             detail=f"({env.axes[0]}, {env.axes[1]}) = ({a[w]:.2f}, {b[w]:.2f}) g held "
                    f"{res.held_a_s[w]:.2f} s and {res.held_b_s[w]:.2f} s, where "
                    f"{adm[0]:.2f} g and {adm[1]:.2f} g are admissible: ratio "
                    f"{res.ratio[w]:.3f} > 1",
-            **ctx.locate(start, w)))
+            **ctx.locate(start, w, end)))
     return findings, res

@@ -201,6 +201,7 @@ def uplift_findings(summary: UpliftSummary, ctx) -> list:
         start = int(np.searchsorted(ctx.t, e.t_start))
         worst = min(int(np.searchsorted(ctx.t, e.t_peak)), len(ctx.t) - 1)
         start = min(start, len(ctx.t) - 1)
+        end = min(max(int(np.searchsorted(ctx.t, e.t_end)) - 1, worst), len(ctx.t) - 1)
         out.append(Finding(
             rule="uplift free travel", kind="uplift", axis="gz", seat=ctx.seat.seat,
             case=ctx.case, t_start=e.t_start, t_end=e.t_end, duration_s=e.duration_s,
@@ -209,5 +210,5 @@ def uplift_findings(summary: UpliftSummary, ctx) -> list:
             detail=f"an unrestrained rider would rise {100 * e.peak_m:.1f} cm off the seat "
                    f"(Gz down to {e.min_gz:.2f} g for {e.duration_s:.2f} s); free travel "
                    f"{100 * summary.free_travel_m:.1f} cm",
-            **ctx.locate(start, worst)))
+            **ctx.locate(start, worst, end)))
     return out

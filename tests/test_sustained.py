@@ -91,7 +91,7 @@ def test_two_pulse_example_worked_by_hand():
     assert (f.t_start, f.t_end) == pytest.approx((2.2, 2.5))
     assert f.ratio == pytest.approx(1.2351, abs=1e-4)
     assert f.admissible_g == pytest.approx((1.2, 3.4))
-    assert f.margin == pytest.approx(1 - np.sqrt(f.ratio))
+    assert f.margin == pytest.approx(100 * (1 - np.sqrt(f.ratio)))  # % of the ellipse
     assert ev.seats[0].margins["combined x-z sustained"] == pytest.approx(f.margin)
 
 
