@@ -6,6 +6,7 @@ Figures take plain arrays and return SVG text, like :mod:`checker.report.figures
 
 from __future__ import annotations
 
+import matplotlib.ticker
 import numpy as np
 
 from ..limits import AXES
@@ -59,6 +60,9 @@ def uplift_figure(points: list[tuple[float, float, str]], free_travel_m: float |
             ax.plot(x[over], y[over], "o", ms=3.5, color=FINDING_COLOR,
                     label="beyond the free travel")
         ax.set_yscale("log")
+        # plain numbers: mathtext labels do not survive as SVG text
+        ax.yaxis.set_major_formatter(matplotlib.ticker.FuncFormatter(lambda v, _: f"{v:g}"))
+        ax.yaxis.set_minor_locator(matplotlib.ticker.NullLocator())
     if free_travel_m is not None:
         ax.axhline(free_travel_m, color=FINDING_COLOR, lw=1.0, ls="--", label="free travel")
     ax.set_xlabel(xlabel)
