@@ -276,7 +276,7 @@ def sensitivity_from_sweep(sweep, base: dict, points: dict, skipped: dict,
             if x_lo == base[p.key] or x_hi == base[p.key]:
                 one_sided.append(p.key)
         rows.append(SensitivityRow(rule, seat, m0, deriv, tuple(one_sided)))
-    rows.sort(key=lambda r: r.margin)
+    # rows in the limit set's order (margins of different rules have different units)
     return Sensitivity(tuple(rows), tuple(parameters), dict(base), dict(skipped))
 
 

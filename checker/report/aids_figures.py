@@ -89,24 +89,28 @@ def ratio_figure(t: np.ndarray, ratios: list[tuple[str, np.ndarray]], title: str
 
 
 def sensitivity_figure(rules: list[str], labels: list[str], effects: np.ndarray,
-                       title: str) -> str:
-    """Margin change for each parameter's typical change (rows: rules, columns: parameters),
-    as grouped horizontal bars."""
-    n_rules, n_par = effects.shape
-    fig, ax = plt.subplots(figsize=(WIDTH_IN, 0.9 + 0.32 * n_rules * max(n_par, 1) / 2.5))
-    height = 0.8 / max(n_par, 1)
-    cmap = plt.get_cmap("tab10")
-    for j in range(n_par):
-        y = np.arange(n_rules) + j * height
-        ax.barh(y, np.nan_to_num(effects[:, j]), height=height, color=cmap(j % 10),
-                label=labels[j])
-    ax.set_yticks(np.arange(n_rules) + 0.4 - height / 2)
+                       margins: np.ndarray, title: str) -> str:
+    """Heat map: the change of each rule's margin for a typical change of each parameter, in
+    % of that margin (rows: rules, columns: parameters), so rules of different units compare;
+    red loses margin, blue gains it.
+    """
+    scale = np.where(np.abs(margins) > 1e-9, np.abs(margins), np.nan)[:, None]
+    rel = 100.0 * effects / scale
+    fig, ax = plt.subplots(figsize=(WIDTH_IN, 0.9 + 0.3 * len(rules)))
+    top = np.nanmax(np.abs(rel)) if np.isfinite(rel).any() else 1.0
+    ax.imshow(np.nan_to_num(rel), cmap="RdBu", vmin=-top, vmax=top, aspect="auto")
+    for i in range(rel.shape[0]):
+        for j in range(rel.shape[1]):
+            if np.isfinite(rel[i, j]):
+                dark = abs(rel[i, j]) > 0.6 * top
+                ax.text(j, i, f"{rel[i, j]:+.0f}", ha="center", va="center", fontsize=6,
+                        color="white" if dark else "#111111")
+    ax.set_xticks(range(len(labels)))
+    ax.set_xticklabels(labels, fontsize=6.5, rotation=30, ha="right")
+    ax.set_yticks(range(len(rules)))
     ax.set_yticklabels(rules, fontsize=6.5)
-    ax.invert_yaxis()
-    ax.axvline(0.0, color="#222222", lw=0.6)
-    ax.set_xlabel("change of the margin for a typical change of the parameter")
+    ax.grid(False)
     ax.set_title(title)
-    ax.legend(loc="best", fontsize=6, ncol=2)
     fig.tight_layout()
     return _svg(fig)
 
@@ -215,9 +219,11 @@ def aids_section(evaluation, sensitivity=None) -> dict:
                       "dominant": next((p.label for p in params if p.key == r.dominant),
                                        "-")} for i, r in enumerate(rows)],
             "skipped": sorted(sensitivity.skipped.items()),
-            "figure": sensitivity_figure([f"{r.rule} ({r.seat})" for r in rows[:8]],
-                                         [p.label for p in params], effects[:8],
-                                         "What moves each margin"),
+            "figure": sensitivity_figure([f"{r.rule} ({r.seat})" for r in rows],
+                                         [p.label for p in params], effects,
+                                         np.array([r.margin for r in rows]),
+                                         "Change of each margin for a typical change of each "
+                                         "parameter, in % of the margin"),
         }
     return section
 
