@@ -62,6 +62,12 @@ class SensitivityRow:
     margin: float
     derivative: dict  # parameter key -> d margin / d parameter [rule unit per unit], or None
     one_sided: tuple[str, ...]  # parameters differenced one-sided (at a bound)
+    events: tuple[str, ...] = ()  # the nominal run's events this seat governs for this rule
+
+    @property
+    def label(self) -> str:
+        """The rule, with the events this seat governs (``[E1,E3]``)."""
+        return self.rule + (f" [{','.join(self.events)}]" if self.events else "")
 
     def effect(self, p: Parameter) -> float | None:
         d = self.derivative.get(p.key)
@@ -79,7 +85,8 @@ class SensitivityRow:
                 "derivative": dict(self.derivative),
                 "typical_effect": {p.key: self.effect(p) for p in PARAMETERS
                                    if p.key in self.derivative},
-                "one_sided": list(self.one_sided), "dominant": self.dominant}
+                "one_sided": list(self.one_sided), "dominant": self.dominant,
+                "events": list(self.events)}
 
 
 @dataclass(frozen=True)
@@ -248,8 +255,12 @@ def perturbation_cases(base: dict, parameters=PARAMETERS) -> tuple[list[LoadCase
 
 
 def sensitivity_from_sweep(sweep, base: dict, points: dict, skipped: dict,
-                           parameters=PARAMETERS) -> Sensitivity:
-    """Derivatives of every rule's governing margin from a sweep of the perturbation cases."""
+                           parameters=PARAMETERS, train_length_m: float = 0.0) -> Sensitivity:
+    """Derivatives of every rule's governing margin from a sweep of the perturbation cases:
+    one row per rule at its governing seat, and one per other seat that governs an event of
+    the nominal run (:func:`checker.events.group_findings`)."""
+    from .events import group_findings
+
     by_case = {o.case: o for o in sweep.outcomes}
     nominal = by_case["sensitivity nominal"]
     margins = {(s.seat, o.case): s.margins for o in sweep.outcomes
@@ -259,8 +270,14 @@ def sensitivity_from_sweep(sweep, base: dict, points: dict, skipped: dict,
         for rule, m in s.margins.items():
             if rule not in rules or m < rules[rule][0]:
                 rules[rule] = (m, s.seat)
+    pairs: dict[tuple[str, str], list[str]] = {(r, seat): [] for r, (_, seat) in rules.items()}
+    for event in group_findings(nominal.evaluation.findings, train_length_m):
+        pairs.setdefault((event.rule, event.governing.seat), []).append(event.id)
     rows = []
-    for rule, (m0, seat) in rules.items():
+    for (rule, seat), event_ids in pairs.items():
+        m0 = margins.get((seat, "sensitivity nominal"), {}).get(rule)
+        if m0 is None:
+            continue
         deriv, one_sided = {}, []
         for p in parameters:
             if p.key not in points:
@@ -275,7 +292,7 @@ def sensitivity_from_sweep(sweep, base: dict, points: dict, skipped: dict,
             deriv[p.key] = (m_hi - m_lo) / (x_hi - x_lo)
             if x_lo == base[p.key] or x_hi == base[p.key]:
                 one_sided.append(p.key)
-        rows.append(SensitivityRow(rule, seat, m0, deriv, tuple(one_sided)))
+        rows.append(SensitivityRow(rule, seat, m0, deriv, tuple(one_sided), tuple(event_ids)))
     # rows in the limit set's order (margins of different rules have different units)
     return Sensitivity(tuple(rows), tuple(parameters), dict(base), dict(skipped))
 
@@ -291,7 +308,8 @@ def run_sensitivity(centerline, train, operation, limits: LimitSet, options, *,
     cases, points, skipped = perturbation_cases(base)
     sweep = run_cases(centerline, train, operation, limits, options, cases, workers=workers,
                       scheduler=scheduler, progress=progress)
-    return sensitivity_from_sweep(sweep, base, points, skipped)
+    return sensitivity_from_sweep(sweep, base, points, skipped,
+                                  train_length_m=train.length_m)
 
 
 def sensitivity_table(sens: Sensitivity) -> str:
@@ -309,7 +327,7 @@ def sensitivity_table(sens: Sensitivity) -> str:
             e = r.effect(p)
             cells.append(f"{'stall' if e is None else f'{e:+.3f}':>10}")
         top = next((p.label for p in params if p.key == r.dominant), "-")
-        lines.append(f"{r.rule[:26]:<26} {r.seat[:12]:<12} {r.margin:8.3f} " + " ".join(cells)
+        lines.append(f"{r.label[:26]:<26} {r.seat[:12]:<12} {r.margin:8.3f} " + " ".join(cells)
                      + f"  {top}")
     if not sens.rows:
         lines.append("  (no rule to rank)")

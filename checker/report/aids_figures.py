@@ -214,12 +214,12 @@ def aids_section(evaluation, sensitivity=None) -> dict:
         section["sensitivity"] = {
             "params": [{"label": p.label, "unit": p.unit, "typical": f"{p.typical:g}",
                         "nominal": sensitivity.base.get(p.key)} for p in params],
-            "rows": [{"rule": r.rule, "seat": r.seat, "margin": f"{r.margin:.3f}",
+            "rows": [{"rule": r.label, "seat": r.seat, "margin": f"{r.margin:.3f}",
                       "cells": ["-" if np.isnan(e) else f"{e:+.3f}" for e in effects[i]],
                       "dominant": next((p.label for p in params if p.key == r.dominant),
                                        "-")} for i, r in enumerate(rows)],
             "skipped": sorted(sensitivity.skipped.items()),
-            "figure": sensitivity_figure([f"{r.rule} ({r.seat})" for r in rows],
+            "figure": sensitivity_figure([f"{r.label} ({r.seat})" for r in rows],
                                          [p.label for p in params], effects,
                                          np.array([r.margin for r in rows]),
                                          "Change of each margin for a typical change of each "
