@@ -22,7 +22,7 @@ def zones_figure(zones, traces: list[tuple[str, np.ndarray, np.ndarray]], title:
 
     zones: objects with name, order, vertices (m, 2) [g]; traces: (label, gx, gz) [g].
     """
-    fig, ax = plt.subplots(figsize=(WIDTH_IN, 4.2))
+    fig, ax = plt.subplots(figsize=(WIDTH_IN, 2.5))
     for k, z in sorted(enumerate(zones), key=lambda p: -p[1].order):
         v = np.vstack([z.vertices, z.vertices[:1]])
         ax.fill(v[:, 0], v[:, 1], color=ZONE_COLORS[k % len(ZONE_COLORS)], lw=0)
@@ -50,7 +50,7 @@ def uplift_figure(points: list[tuple[float, float, str]], free_travel_m: float |
 
     points: (station or time, peak [m], seat label).
     """
-    fig, ax = plt.subplots(figsize=(WIDTH_IN, 2.6))
+    fig, ax = plt.subplots(figsize=(WIDTH_IN, 1.7))
     if points:
         x = np.array([p[0] for p in points])
         y = np.array([p[1] for p in points])
@@ -76,7 +76,7 @@ def uplift_figure(points: list[tuple[float, float, str]], free_travel_m: float |
 
 def ratio_figure(t: np.ndarray, ratios: list[tuple[str, np.ndarray]], title: str) -> str:
     """Sustained combined ratio (a/A)^2 + (b/B)^2 against time, with the limit 1."""
-    fig, ax = plt.subplots(figsize=(WIDTH_IN, 2.4))
+    fig, ax = plt.subplots(figsize=(WIDTH_IN, 1.9))
     for label, r in ratios:
         ax.plot(t, r, lw=0.8, label=label)
     ax.axhline(1.0, color=FINDING_COLOR, lw=1.0, label="limit")
@@ -163,9 +163,10 @@ def aids_section(evaluation, sensitivity=None) -> dict:
     uplift_rows = sorted(
         ({"seat": s["seat"], "case": s["case"], "flights": len(s["events"]),
           "peak": s["peak_m"], "where": max(s["events"], key=lambda e: e["peak_m"])}
-         for s in up["seats"] if s["events"]), key=lambda r: -r["peak"])[:12]
+         for s in up["seats"] if s["events"]), key=lambda r: -r["peak"])[:3]
     section = {
         "uplift": {"free_travel": up["free_travel_m"], "rows": uplift_rows,
+                   "more": sum(1 for s in up["seats"] if s["events"]) > len(uplift_rows),
                    "worst": up["worst"],
                    "figure": uplift_figure(flights, up["free_travel_m"],
                                            "station [m]" if by_station else "time [s]",
@@ -183,8 +184,8 @@ def aids_section(evaluation, sensitivity=None) -> dict:
         traces = [(f"{s.seat} ({s.case})", s.filtered[:, 0], s.filtered[:, 2])
                   for s in traced[:3]]
         section["zones"] = {
-            "top": zones["highest"], "rows": _top_zone_rows(zones["seats"], 10),
-            "more": max(0, len(zones["seats"]) - 10),
+            "top": zones["highest"], "rows": _top_zone_rows(zones["seats"], 3),
+            "more": max(0, len(zones["seats"]) - 3),
             "diagram": [{"name": z.name, "order": z.order, "dwell": z.dwell_s}
                         for z in limits.zones],
             "figure": zones_figure(limits.zones, traces, "Filtered (Gx, Gz) over the zone "
