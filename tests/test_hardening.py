@@ -311,13 +311,15 @@ def test_dollar_and_control_characters_in_names(tmp_path, capsys, monkeypatch):
 
     monkeypatch.setattr(report, "render_pdf", render)
     names = ["cost $5 or $6", "$\\alpha_$", "bell\x07\x1b]0;owned\x07\x1b[2J"]
-    rows = "".join(f"{name},{i / 100:.2f},0,0,{7 if 100 <= i < 250 else 1}\n"
+    # the bell seat pulls hardest, so it governs the event and the terminal names it
+    rows = "".join(f"{name},{i / 100:.2f},0,0,"
+                   f"{(8 if name.startswith('bell') else 7) if 100 <= i < 250 else 1}\n"
                    for name in names for i in range(300))
     history = tmp_path / "ride $x$.csv"
     history.write_text("seat,t,gx,gy,gz\n" + rows)
     pdf = tmp_path / "r.pdf"
     code, out, err = run(["check-history", history, "--pdf", pdf, "--case", "$\\beta$",
-                          "--project", "$$ budget $$"], capsys)
+                          "--project", "$$ budget $$", "--seat-pages", "all"], capsys)
     assert code == 1, err
     assert "Traceback" not in err
     assert "\x1b" not in out + err and "\x07" not in out + err
