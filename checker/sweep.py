@@ -77,7 +77,6 @@ def _run_one(job) -> CaseOutcome:
     for s in ev.seats:  # keep the record small: signals are recomputed where a report needs
         s.filtered = None
         s.t = None
-        s.exposures = {}
     return CaseOutcome(case.name, ev, run.stall, peaks, float(run.ride.motion.v.max()),
                        run.ride.motion.duration_s, run.ride.geometry.length)
 

@@ -170,14 +170,11 @@ def exposure_curves(curves: list[dict], title: str) -> str:
         longest = 1.0
         for n, c in enumerate(c for c in curves if c["axis"] == axis):
             first = panel == 0 and n == 0
-            d, lv = c["durations"], c["levels"]
-            keep = np.unique(np.geomspace(1, len(d), min(len(d), 160)).astype(int) - 1)
-            ax.plot(d[keep], lv[keep], color=AXIS_COLORS[axis], lw=1.0,
-                    label="ride" if first else None)
+            d, lv = c["durations"], c["levels"]  # already at the plotted durations
+            ax.plot(d, lv, color=AXIS_COLORS[axis], lw=1.0, label="ride" if first else None)
             if c.get("overlay_levels") is not None:
                 od, ol = c["overlay_durations"], c["overlay_levels"]
-                k2 = np.unique(np.geomspace(1, len(od), min(len(od), 160)).astype(int) - 1)
-                ax.plot(od[k2], ol[k2], color="#222222", lw=0.9, ls="--",
+                ax.plot(od, ol, color="#222222", lw=0.9, ls="--",
                         label=c.get("overlay_label") if first else None)
             lim_d = np.asarray(c["limit_durations"], dtype=float)
             ax.plot(np.maximum(lim_d, d[0]), c["limit_levels"], color=FINDING_COLOR, lw=1.2,
