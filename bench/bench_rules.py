@@ -95,7 +95,8 @@ def main() -> None:
               f"(evaluate / filter {med / statistics.median(filt[n]):.1f}x); "
               f"{findings[n]} findings")
     for a, b in zip(sizes, sizes[1:]):
-        print(f"growth {a:,} -> {b:,}: time x {statistics.median(times[b]) / statistics.median(times[a]):.2f} "
+        grow = statistics.median(times[b]) / statistics.median(times[a])
+        print(f"growth {a:,} -> {b:,}: time x {grow:.2f} "
               f"for x {b / a:.0f} samples (per-sample cost x {rate[a] / rate[b]:.2f}; "
               "linear = 1.00, target within 1.15)")
     for n in sizes[1:]:

@@ -380,8 +380,11 @@ def _combined_findings(a: np.ndarray, b: np.ndarray, env: CombinedEnvelope,
     findings = []
     for first, last in _index_runs(outside):
         start, end = int(outside[first]), int(outside[last])
-        pair = np.column_stack([a[start:end + 1], b[start:end + 1]])
-        frac = _outside_fraction(env.vertices, center, pair)
+        frac = np.concatenate([  # in chunks: the temporaries are (chunk, vertices)
+            _outside_fraction(env.vertices, center,
+                              np.column_stack([a[i:min(i + 4096, end + 1)],
+                                               b[i:min(i + 4096, end + 1)]]))
+            for i in range(start, end + 1, 4096)])
         w = start + int(np.argmax(frac))
         reach = float(np.hypot(a[w] - center[0], b[w] - center[1]))
         findings.append(Finding(
