@@ -22,6 +22,11 @@ def suggest(name: str, known: Iterable[str]) -> str:
 
 def read_text(path: Path) -> str:
     """Read a UTF-8 text file; refuse binary and UTF-16 data with a clear message."""
+    return read_checked_bytes(path).decode("utf-8")
+
+
+def read_checked_bytes(path: Path) -> bytes:
+    """The bytes of a file that is UTF-8 text (checked as :func:`read_text` does)."""
     try:
         raw = path.read_bytes()
     except FileNotFoundError:
@@ -41,8 +46,11 @@ def read_text(path: Path) -> str:
             "save it as UTF-8 without BOM (e.g. 'CSV UTF-8' without signature)",
             row=1,
         )
+    if raw.isascii():  # the common case: valid UTF-8 without decoding
+        return raw
     try:
-        return raw.decode("utf-8")
+        raw.decode("utf-8")
     except UnicodeDecodeError as exc:
         line = raw[: exc.start].count(b"\n") + 1
         raise InputError(path, "is not valid UTF-8 text", "save it as UTF-8", row=line) from None
+    return raw
