@@ -80,9 +80,12 @@ def _scan_lines(raw: bytes) -> _Lines:
     while i < len(rows):  # commas per data line, block by block of whole lines
         j = max(i + 1, int(np.searchsorted(line_start, line_start[i] + BLOCK_BYTES)))
         lo, hi = int(line_start[i]), int(line_end[j - 1])
-        total = np.zeros(hi - lo + 1, dtype=np.int32)
-        np.cumsum(b[lo:hi] == COMMA, out=total[1:])
-        commas[i:j] = total[line_end[i:j] - lo] - total[line_start[i:j] - lo]
+        bounds = np.empty(2 * (j - i), dtype=np.intp)  # [start, end) of each line
+        bounds[0::2] = line_start[i:j] - lo
+        bounds[1::2] = line_end[i:j] - lo
+        # sums over [start, end) of every line (and over the breaks between, dropped); the
+        # last line runs to the end of the slice
+        commas[i:j] = np.add.reduceat(b[lo:hi] == COMMA, bounds[:-1], dtype=np.int64)[0::2]
         i = j
     return _Lines(start, end, rows, commas)
 
@@ -187,9 +190,13 @@ def _parse(raw: bytes, lines: _Lines, rows: np.ndarray, count: int, header: list
     a cell that is not a number leaves its column as strings)."""
     if count == 0:
         return pd.DataFrame({name: np.zeros(0) for name in header})
-    first = int(rows[0])
-    skipped = np.setdiff1d(np.arange(first, int(rows[count - 1]) + 1), rows[:count])
-    skip = first if skipped.size == 0 else np.concatenate([np.arange(first), skipped]).tolist()
+    first, last = int(rows[0]), int(rows[count - 1])
+    if last - first == count - 1:  # no blank or comment line among the data (the usual case)
+        skip = first
+    else:
+        between = np.ones(last - first + 1, dtype=bool)
+        between[rows[:count] - first] = False
+        skip = list(range(first)) + (np.flatnonzero(between) + first).tolist()
     return pd.read_csv(io.BytesIO(raw), header=None, names=header, skiprows=skip, nrows=count,
                        na_filter=False, quoting=csv.QUOTE_NONE, engine="c",
                        skip_blank_lines=False, index_col=False,

@@ -24,7 +24,6 @@ from __future__ import annotations
 from dataclasses import asdict, dataclass, field
 
 import numpy as np
-from scipy.ndimage import minimum_filter1d
 
 from .conditioning import lowpass, onset_rate
 from .errors import InputError
@@ -171,6 +170,8 @@ def exposure_curve(x: np.ndarray, dt: float, durations_s: np.ndarray | None = No
         np.maximum.at(best, width, x)
         levels = np.maximum.accumulate(best[::-1])[::-1][1:]
         return Exposure(dt * np.arange(1, n + 1), levels)
+    from scipy.ndimage import minimum_filter1d  # only figures need it: keep start-up lean
+
     durations = np.asarray(durations_s, dtype=float)
     samples = np.maximum(1, np.rint(durations / dt)).astype(np.intp)
     levels = np.full(len(samples), -np.inf)
@@ -347,6 +348,22 @@ def _distance_to_edges(v: np.ndarray) -> float:
     return float(np.min(np.hypot(*(v + u[:, None] * e).T)))
 
 
+def _point_inside(v: np.ndarray, p: np.ndarray) -> bool:
+    """Even-odd rule for one point strictly inside the closed polygon ``v`` (a point on an
+    edge counts as outside: the ellipse then gets radius 0)."""
+    w = np.roll(v, -1, axis=0)
+    e = w - v
+    rel = p - v
+    length_sq = np.einsum("ij,ij->i", e, e)
+    u = np.clip(np.einsum("ij,ij->i", rel, e) / np.where(length_sq > 0, length_sq, 1.0), 0, 1)
+    if np.min(np.hypot(*(rel - u[:, None] * e).T)) == 0.0:
+        return False
+    crosses = (v[:, 1] > p[1]) != (w[:, 1] > p[1])
+    with np.errstate(divide="ignore", invalid="ignore"):
+        x_at = v[:, 0] + (p[1] - v[:, 1]) * e[:, 0] / e[:, 1]
+    return bool(np.count_nonzero(crosses & (x_at > p[0])) % 2)
+
+
 def inscribed_ellipse(vertices: np.ndarray, rest: np.ndarray) -> InscribedEllipse:
     """A large axis-aligned ellipse inside the closed polygon ``vertices`` [g0].
 
@@ -361,7 +378,7 @@ def inscribed_ellipse(vertices: np.ndarray, rest: np.ndarray) -> InscribedEllips
     scale = np.where(hi > lo, 0.5 * (hi - lo), 1.0)
     best = InscribedEllipse(np.asarray(rest, dtype=float), scale, 0.0)
     for center in (0.5 * (lo + hi), np.asarray(rest, dtype=float)):
-        if contains(v, center[None, :])[0]:
+        if _point_inside(v, center):
             radius = _distance_to_edges((v - center) / scale)
             if radius > best.radius:
                 best = InscribedEllipse(center, scale, radius)
