@@ -27,6 +27,9 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
+from checker.csvtable import read_numeric_csv
+from checker.history import load_history
+
 ROOT = Path(__file__).resolve().parents[1]
 
 
@@ -82,6 +85,19 @@ def main() -> None:
         print(f"checker check-history process: {spread(times['ours'])}")
         print(f"ratio of medians {ratio:.2f} (per round {min(ratios):.2f} to {max(ratios):.2f}; "
               "target <= 3)")
+        inside = {"pandas.read_csv": [], "read_numeric_csv": [], "load_history": []}
+        for _ in range(args.rounds):  # the reading alone, in this process, interleaved
+            for label, job in (("pandas.read_csv", lambda: pd.read_csv(record)),
+                               ("read_numeric_csv", lambda: read_numeric_csv(
+                                   record, ["t", "gx", "gy", "gz"], text=["seat"])),
+                               ("load_history", lambda: load_history(record))):
+                t0 = time.perf_counter()
+                job()
+                inside[label].append(time.perf_counter() - t0)
+        base = statistics.median(inside["pandas.read_csv"])
+        for label, values in inside.items():
+            print(f"in process, {label}: {spread(values)} "
+                  f"({statistics.median(values) / base:.2f} x pandas.read_csv)")
         record.unlink()
         if args.big:
             write_record(record, args.big)

@@ -85,7 +85,8 @@ def _scan_lines(raw: bytes) -> _Lines:
         bounds[1::2] = line_end[i:j] - lo
         # sums over [start, end) of every line (and over the breaks between, dropped); the
         # last line runs to the end of the slice
-        commas[i:j] = np.add.reduceat(b[lo:hi] == COMMA, bounds[:-1], dtype=np.int64)[0::2]
+        is_comma = (b[lo:hi] == COMMA).view(np.uint8)
+        commas[i:j] = np.add.reduceat(is_comma, bounds[:-1], dtype=np.int32)[0::2]
         i = j
     return _Lines(start, end, rows, commas)
 
