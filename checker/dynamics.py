@@ -205,7 +205,7 @@ def simulate_motion(
         v = np.zeros(3)
         t = np.array([0.0, 1.0, 2.0])
         codes = np.zeros(3, dtype=codes.dtype)
-    a_t = np.gradient(e, s)
+    a_t = np.gradient(e, s, edge_order=2)  # second order at the ends too (the first sample)
     ends = {RAN_TO_END: "reached the end of the track",
             STOPPED_BY_BRAKE: f"stopped by a brake at station {s[-1]:.1f} m",
             STALLED: f"stalled at station {s[-1]:.1f} m"}

@@ -75,6 +75,34 @@ def histories_frame(histories: list[SeatHistory]) -> pd.DataFrame:
     return pd.concat(parts, ignore_index=True)[HISTORY_COLUMNS]
 
 
+# decimals written per column of a simulated history: time 1 us, lengths and speed 0.1 mm
+# (per s), specific force 1e-6 g0
+HISTORY_DECIMALS = {"car": 0, "t": 6, "s": 4, "v": 4, "gx": 6, "gy": 6, "gz": 6, "x": 4,
+                    "y": 4, "z": 4}
+
+
+def histories_csv(histories: list[SeatHistory]) -> bytes:
+    """Every seat's history as CSV (columns :data:`HISTORY_COLUMNS`) at fixed decimals,
+    written by a vectorized formatter (:func:`checker.csvformat.fixed_csv`)."""
+    import numpy as np
+
+    from .csvformat import fixed_csv
+
+    def joined(get) -> np.ndarray:
+        return np.concatenate([np.asarray(get(h)) for h in histories])
+
+    values = {
+        "seat": np.repeat(np.array([h.seat.encode("utf-8") for h in histories], dtype=bytes),
+                          [len(h.t) for h in histories]),
+        "car": joined(lambda h: np.full(len(h.t), h.car, dtype=float)),
+        "t": joined(lambda h: h.t), "s": joined(lambda h: h.s), "v": joined(lambda h: h.v),
+        **{name: joined(lambda h, i=i: h.g[:, i]) for i, name in enumerate(("gx", "gy", "gz"))},
+        **{name: joined(lambda h, i=i: h.position[:, i]) for i, name in enumerate("xyz")},
+    }
+    return fixed_csv(HISTORY_COLUMNS, [(values[name], HISTORY_DECIMALS.get(name))
+                                       for name in HISTORY_COLUMNS])
+
+
 def load_inputs(track: str | Path, train: str | Path | None = None, *, ideal: bool = False,
                 operation: str | Path | None = None, start_speed_m_s: float | None = None,
                 units: str = "m") -> tuple[Centerline, Train, Operation]:
