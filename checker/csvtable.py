@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import csv
 import io
+import re
 from collections.abc import Iterable
 from dataclasses import dataclass
 from pathlib import Path
@@ -70,9 +71,13 @@ def _scan_lines(raw: bytes) -> _Lines:
     end = end - cr
     first = b[np.minimum(start, max(n - 1, 0))] if n else np.zeros(0, np.uint8)
     data = (end > start) & (first != HASH)
-    for i in np.flatnonzero(data & ((first == 32) | (first == 9))):  # leading blanks: rare
-        text = raw[start[i]:end[i]].strip()
-        data[i] = bool(text) and not text.startswith(b"#")
+    # a line starting with blank space (as str.strip sees it) or a non-ASCII byte: rare,
+    # decided line by line
+    odd = (first == 32) | ((first >= 9) & (first <= 13)) | ((first >= 28) & (first <= 31)) \
+        | (first >= 128)
+    for i in np.flatnonzero(data & odd):
+        text = raw[start[i]:end[i]].decode("utf-8", errors="replace").strip()
+        data[i] = bool(text) and not text.startswith("#")
     rows = np.flatnonzero(data)
     commas = np.zeros(len(rows), dtype=np.int64)
     line_start, line_end = start[rows], end[rows]
@@ -118,8 +123,10 @@ def read_numeric_csv(
     required = list(required)
     known = required + list(optional) + list(text)
     raw = read_checked_bytes(path)
-    if b"\r" in raw and raw.count(b"\r") != raw.count(b"\r\n"):  # old Mac line breaks
-        raw = raw.replace(b"\r\n", b"\n").replace(b"\r", b"\n")
+    if b"\r" in raw and raw.count(b"\r") != raw.count(b"\r\n"):
+        # rows end at '\n' only; a lone '\r' is blank space inside its row (the parser
+        # would end a row there)
+        raw = re.sub(rb"\r(?!\n)", b" ", raw)
     lines = _scan_lines(raw)
     if len(lines.data) == 0:
         raise InputError(path, f"is empty: no header row found for the {what}",
@@ -222,10 +229,10 @@ def _first_bad_cell(frame: pd.DataFrame, header: list[str],
             good = cells.str.fullmatch(NUMBER).to_numpy(dtype=bool)
             bad = np.flatnonzero(~good)
             if bad.size == 0:  # numbers only, read as text by the parser: convert here
-                frame[name] = pd.to_numeric(cells)
+                frame[name] = pd.to_numeric(cells.str.strip(), errors="coerce")
                 values = frame[name].to_numpy(dtype=float)
                 bad = np.flatnonzero(~np.isfinite(values))
-                found = (int(bad[0]), col, True) if bad.size else None
+                found = (int(bad[0]), col, False) if bad.size else None
             else:
                 row = int(bad[0])
                 nonfinite = bool(pd.Series([cells.iloc[row]]).str.fullmatch(

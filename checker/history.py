@@ -29,6 +29,9 @@ class RecordedSignal:
     position: np.ndarray | None = None
 
 
+MAX_SEAT_NAME_CHARS = 200  # a name, not a pasted file
+
+
 def load_history(path: str | Path, units: str = "g") -> list[RecordedSignal]:
     path = Path(path)
     if units not in ("g", "m/s2"):
@@ -73,10 +76,16 @@ def _seat_rows(table, path: Path) -> list[tuple[str, np.ndarray]]:
         return [("recorded", np.arange(len(table)))]
     names = table.text_columns["seat"]
     codes, uniques = pd.factorize(names)
-    empty = np.flatnonzero(names == "")
-    if empty.size:
-        raise InputError(path, "seat name is empty", "name the seat on every row",
-                         row=int(table.lines[empty[0]]), column="seat")
+    lengths = np.fromiter((len(name) for name in uniques), dtype=np.intp, count=len(uniques))
+    bad_names = np.flatnonzero((lengths == 0) | (lengths > MAX_SEAT_NAME_CHARS))
+    if bad_names.size:
+        first = int(np.flatnonzero(np.isin(codes, bad_names))[0])
+        name = names[first]
+        problem = "seat name is empty" if not name else f"seat name is {len(name)} " \
+            "characters long"
+        raise InputError(path, problem, "name the seat on every row, in at most "
+                         f"{MAX_SEAT_NAME_CHARS} characters", row=int(table.lines[first]),
+                         column="seat")
     order = np.argsort(codes, kind="stable")
     bounds = np.searchsorted(codes[order], np.arange(len(uniques) + 1))
     return [(str(name), order[bounds[k]:bounds[k + 1]]) for k, name in enumerate(uniques)]

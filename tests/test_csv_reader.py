@@ -26,7 +26,7 @@ def reference_read(path, required, optional=(), text=()):
     """Line by line, cell by cell (the reader's earlier implementation, kept as the oracle)."""
     content = path.read_bytes().decode("utf-8")
     header, rows, lines = None, [], []
-    for number, line in enumerate(content.splitlines(), start=1):
+    for number, line in enumerate(content.split("\n"), start=1):  # rows end at '\n' only
         stripped = line.strip()
         if not stripped or stripped.startswith("#"):
             continue
@@ -64,9 +64,10 @@ def reference_read(path, required, optional=(), text=()):
 
 CELLS = st.sampled_from(["0", "1.5", "-2", " 3.25 ", "1e3", ".5", "7.", "+4", "1_000",
                          "\uff11\uff12", "nan", "Infinity", "-inf", "", "abc", "0x10", "1,5",
-                         "2.5e-3", "  "])
+                         "2.5e-3", "  ", "\x0c1.5", "1\r", "\u00a02"])
 SEATS = st.sampled_from(["front", " rear ", "mid", ""])
-EXTRA = st.sampled_from(["", "# note, with commas\n", "\n", "   \n", "  # indented\n"])
+EXTRA = st.sampled_from(["", "# note, with commas\n", "\n", "   \n", "  # indented\n",
+                         "\x0c\n", "\u2028# odd blank\n", "# a\rb, c\n"])
 
 
 @st.composite
