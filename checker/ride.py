@@ -49,16 +49,26 @@ class RideResult:
     warnings: tuple[str, ...] = ()  # plausibility warnings (the run went on)
 
 
-def run_ride(centerline: Centerline, train: Train, operation: Operation,
-             options: RideOptions = RideOptions()) -> RideResult:
-    """Geometry, dynamics and every seat's history for one layout and one train."""
+def layout_geometry(centerline: Centerline, options: RideOptions = RideOptions()
+                    ) -> TrackGeometry:
+    """The track geometry of a layout (depends only on the centerline, the smoothing and the
+    station step: sweeps build it once for every case)."""
     polyline_m = float(np.linalg.norm(np.diff(centerline.points, axis=0), axis=1).sum())
     if polyline_m < MIN_TRACK_M:
         raise InputError(centerline.source, f"the track is only {polyline_m:.3g} m long",
                          "lengths are read in metres (or feet with --units ft): check the "
                          "file's units")
-    geometry = build_geometry(centerline.points, centerline.roll_deg, centerline.up,
-                              smoothing_m=options.smoothing_m, step_m=options.step_m)
+    return build_geometry(centerline.points, centerline.roll_deg, centerline.up,
+                          smoothing_m=options.smoothing_m, step_m=options.step_m)
+
+
+def run_ride(centerline: Centerline, train: Train, operation: Operation,
+             options: RideOptions = RideOptions(),
+             geometry: TrackGeometry | None = None) -> RideResult:
+    """Geometry, dynamics and every seat's history for one layout and one train.
+    ``geometry``: the layout's geometry when already built (:func:`layout_geometry`)."""
+    if geometry is None:
+        geometry = layout_geometry(centerline, options)
     if train.length_m >= geometry.length:
         raise InputError(centerline.source, f"the track ({geometry.length:.1f} m) is shorter "
                          f"than the train ({train.length_m:.1f} m from first to last car)",
@@ -167,13 +177,13 @@ class CheckRun:
 
 def run_check(centerline: Centerline, train: Train, operation: Operation, limits,
               options: RideOptions = RideOptions(), case: str = "nominal",
-              keep_signals: bool = True) -> CheckRun:
+              keep_signals: bool = True, geometry: TrackGeometry | None = None) -> CheckRun:
     """Simulate and evaluate every seat: the one entry for `check`, sweeps and the API.
-    Sweeps pass ``keep_signals=False`` to skip what only documents need (exposure curves,
-    filtered signals)."""
+    Sweeps pass ``keep_signals=False`` to skip what only documents need (filtered signals)
+    and the layout's ``geometry`` built once."""
     from .rules import evaluate
 
-    result = run_ride(centerline, train, operation, options)
+    result = run_ride(centerline, train, operation, options, geometry)
     evaluation = evaluate(result.histories, limits, case, keep_signals)
     evaluation.warnings[:0] = list(result.warnings)
     stall = str(result.motion.stall) if result.motion.stall is not None else None
