@@ -85,12 +85,17 @@ def _march(ds, gravity, p, q, r, w, masses, mu_over_m, drag_over_m, wind, code, 
     lists = (gravity.tolist(), code.tolist(), remaining.tolist(), target_e.tolist(),
              accel.tolist(), force_over_m.tolist(), cap_e.tolist())
     scale = max(float(np.max(np.abs(guess))), 1.0)
+    # stretches without a powered section: with the loads linear in e (and still air, where
+    # drag is 2e rho CdA / 2M) every Heun step there is e' = P e + Q, solved in one pass
+    runs = _free_runs(code) if wind == 0.0 else {}
     result = None
     for _ in range(40):
         load, dload = _wheel_loads(guess, slope_part, rest_part)
-        base = (load - dload * guess).tolist()  # load(e) ~ base + dload * e near the guess
-        e, last, reason, frac = _march_linear(ds, base, dload.tolist(), mu_over_m, drag_over_m,
-                                              wind, e0, *lists)
+        base = load - dload * guess  # load(e) ~ base + dload * e near the guess
+        linear = (gravity - mu_over_m * base, -mu_over_m * dload - 2.0 * drag_over_m)
+        e, last, reason, frac = _march_linear(ds, base.tolist(), dload.tolist(), mu_over_m,
+                                              drag_over_m, wind, e0, *lists, runs=runs,
+                                              linear=linear)
         change = float(np.max(np.abs(e[: last + 1] - guess[: last + 1])))
         result = (e, last, reason, frac)
         guess = np.concatenate([e[: last + 1], guess[last + 1:]])
@@ -99,20 +104,58 @@ def _march(ds, gravity, p, q, r, w, masses, mu_over_m, drag_over_m, wind, code, 
     return result
 
 
+def _free_runs(code: np.ndarray) -> dict[int, int]:
+    """{first step: end step} of the runs of steps k (from station k to k + 1) without a
+    powered section."""
+    free = np.concatenate([[0], (code[:-1] == FREE).astype(np.int8), [0]])
+    edges = np.flatnonzero(np.diff(free))
+    return {int(a): int(b) for a, b in zip(edges[::2], edges[1::2]) if b - a > 1}
+
+
+def _linear_steps(e_start: float, ds: float, alpha: np.ndarray,
+                  beta: np.ndarray) -> tuple[np.ndarray, int]:
+    """Heun's steps for de/ds = alpha_k + beta_k e over a stretch (alpha, beta at its
+    stations): the energies after each step, and how many steps are valid (energy and
+    predictor positive; the rest is left to the step-by-step march)."""
+    a0, a1, b0, b1 = alpha[:-1], alpha[1:], beta[:-1], beta[1:]
+    gain = 1.0 + 0.5 * ds * (b0 + b1 * (1.0 + ds * b0))  # e_{k+1} = gain e_k + add
+    add = 0.5 * ds * (a0 + a1 + ds * b1 * a0)
+    if np.any(gain <= 0.0):
+        return np.zeros(0), 0
+    growth = np.cumprod(gain)  # product of the gains up to and including step k
+    e = growth * (e_start + np.cumsum(add / growth))
+    before = np.concatenate([[e_start], e[:-1]])
+    pred = before * (1.0 + ds * b0) + ds * a0
+    bad = np.flatnonzero((e <= 0.0) | (pred < 0.0))
+    valid = int(bad[0]) if bad.size else len(e)
+    return e, valid
+
+
 def _march_linear(ds, base, dload, mu_over_m, drag_over_m, wind, e0, gravity, code,
-                  remaining, target_e, accel, force_over_m, cap_e):
+                  remaining, target_e, accel, force_over_m, cap_e, runs=None, linear=None):
     """The scalar march with the wheel loads given as base + dload * e at each station.
 
-    Plain Python on lists: the loop is sequential, and for one ride this is faster than
-    loading a compiled kernel (measured: numba's import and cache load cost more than the
-    whole loop on a 2 km layout).
+    Plain Python on lists (the loop is sequential; for one ride this is faster than loading
+    a compiled kernel), except over ``runs`` of free steps, where the steps are linear in e
+    (``linear`` = (alpha, beta) per station) and are solved in one vectorized pass.
     """
     n = len(gravity)
     sqrt = math.sqrt
     e = [0.0] * n
     e[0] = e0
     half = 0.5 * ds
-    for k in range(n - 1):
+    runs = runs or {}
+    k = -1
+    while k < n - 2:
+        k += 1
+        end = runs.get(k)
+        if end is not None:
+            stretch, valid = _linear_steps(e[k], ds, linear[0][k:end + 1],
+                                           linear[1][k:end + 1])
+            if valid:
+                e[k + 1:k + 1 + valid] = stretch[:valid].tolist()
+                k += valid - 1
+                continue
         ek = e[k]
         c = code[k]
         air = sqrt(2.0 * ek) + wind

@@ -288,13 +288,13 @@ def build_geometry(
     c, sn = np.cos(phi)[:, None], np.sin(phi)[:, None]
     up_v = c * up0 - sn * left0
     left_v = c * left0 + sn * up0
-    twist0 = np.einsum("ij,ij->i", np.gradient(left0, s, axis=0), up0)
+    twist0 = np.einsum("ij,ij->i", np.gradient(left0, s, axis=0, edge_order=2), up0)
     omega = np.column_stack([
         twist0 + droll,
         -np.einsum("ij,ij->i", curv, up_v),
         np.einsum("ij,ij->i", curv, left_v),
     ])
-    domega = np.gradient(omega, s, axis=0)
+    domega = np.gradient(omega, s, axis=0, edge_order=2)  # second order at the track ends
 
     report = None
     if smoothing_m > 0:
