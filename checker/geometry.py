@@ -77,18 +77,15 @@ class TrackGeometry:
 
     def sample(self, stations: np.ndarray, *names: str) -> list[np.ndarray]:
         """Linear interpolation of the named grid arrays at ``stations`` [m] (clipped)."""
-        x = np.clip(np.asarray(stations, dtype=float), 0.0, self.length) / self.step
-        i = np.minimum(x.astype(np.intp), len(self.s) - 2)
-        f = (x - i)[:, None]
-        arrays = [getattr(self, name) for name in names]
-        widths = [1 if a.ndim == 1 else a.shape[1] for a in arrays]
-        # one gather of the rows of all the named arrays side by side
-        table = np.column_stack([a.reshape(len(a), -1) for a in arrays])
-        mixed = table[i] * (1 - f) + table[i + 1] * f
+        x = np.clip(np.asarray(stations, dtype=float), 0.0, self.length)
         out = []
-        for a, lo, width in zip(arrays, np.cumsum([0] + widths[:-1]), widths):
-            part = mixed[:, lo:lo + width]
-            out.append(part[:, 0].copy() if a.ndim == 1 else np.ascontiguousarray(part))
+        for name in names:  # column by column in C (np.interp): faster than gathering rows
+            a = getattr(self, name)
+            if a.ndim == 1:
+                out.append(np.interp(x, self.s, a))
+            else:
+                out.append(np.column_stack([np.interp(x, self.s, a[:, j])
+                                            for j in range(a.shape[1])]))
         return out
 
 
