@@ -70,11 +70,12 @@ class Sweep:
         return list(best.values())
 
     def matrix(self) -> tuple[list[str], list[str], dict]:
-        """Seats, cases and {(seat, case): verdict}."""
+        """Seats, cases and {(seat, case): "pass", "fail" or "stall"}."""
         cases = [o.case for o in self.outcomes]
         seats = [s.seat for s in self.outcomes[0].evaluation.seats] if self.outcomes else []
-        cells = {(s.seat, o.case): s.verdict for o in self.outcomes
-                 for s in o.evaluation.seats}
+        cells = {(s.seat, o.case): ("stall" if any(f.kind == "stall" for f in s.findings)
+                                    else s.verdict)
+                 for o in self.outcomes for s in o.evaluation.seats}
         return seats, cases, cells
 
 
@@ -91,7 +92,8 @@ def _run_one(job) -> list[CaseOutcome]:
         else:  # same ride, same signals: only the case name differs
             ev = evaluate(ride.histories, limits, name, keep_signals=True)
             ev.warnings[:] = list(run.evaluation.warnings)
-        keep = ({s.seat for s in ev.seats} if keep_all and k == 0 else _candidates(ev))
+        keep = ({s.seat for s in ev.seats} if keep_all and k == 0
+                else _candidates(ev, train.length_m))
         history = {h.seat: h for h in ride.histories}
         kept = {s.seat: (s, history[s.seat]) for s in ev.seats if s.seat in keep}
         peaks = {s.seat: dict(s.worst) for s in ev.seats}
@@ -105,17 +107,21 @@ def _run_one(job) -> list[CaseOutcome]:
     return outcomes
 
 
-def _candidates(ev: Evaluation) -> set[str]:
-    """Seats of one case that can govern a rule across cases (its most severe finding of
-    each rule, ties broken as :meth:`Sweep.governing` does), or its most stressed seat when
-    it has no finding."""
+def _candidates(ev: Evaluation, train_length_m: float) -> set[str]:
+    """Seats of one case that can govern across cases: the governor of each of its events
+    (an event across cases restricted to one case is a union of that case's events, and its
+    governor governs there too) and its most severe finding of each rule (ties broken as
+    :meth:`Sweep.governing` does); its most stressed seat when it has no finding."""
+    from .events import group_findings
+
     best: dict[str, tuple] = {}
     for f in ev.findings:
         key = (-f.severity, f.seat, f.t_start)
         if f.rule not in best or key < best[f.rule]:
             best[f.rule] = key
     if best:
-        return {key[1] for key in best.values()}
+        governors = {e.governing.seat for e in group_findings(ev.findings, train_length_m)}
+        return governors | {key[1] for key in best.values()}
     if not ev.seats:
         return set()
     stressed = max(ev.seats, key=lambda s: max(abs(s.worst[a][k] - REST[a])
@@ -255,16 +261,17 @@ def peak_summary(sweep: Sweep) -> dict:
 def sweep_check_run(sweep: Sweep, centerline: Centerline, train: Train, operation: Operation,
                     limits: LimitSet, options: RideOptions, cases: list[LoadCase]):
     """A CheckRun of the whole sweep for documents: every seat x case result, with the
-    signals kept by the sweep for the governing (seat, case) pairs (all seats of the first
-    case when everything passes), so that their figures can be drawn without running a
-    case again."""
+    signals kept by the sweep for the seat and case that govern each event (all seats of the
+    first case when everything passes), so that their figures can be drawn without running
+    a case again."""
+    from .events import group_findings
     from .ride import CheckRun
 
     by_name = {c.name: c for c in cases}
     outcome_of = {o.case: o for o in sweep.outcomes}
     wanted: dict[str, set[str]] = {}
-    for f in sweep.governing():
-        wanted.setdefault(f.case, set()).add(f.seat)
+    for event in group_findings(sweep.findings, train.length_m):  # every event's governor
+        wanted.setdefault(event.governing.case, set()).add(event.governing.seat)
     if not wanted and sweep.outcomes:  # all pass: the first case's seats
         wanted[sweep.outcomes[0].case] = set(sweep.outcomes[0].kept)
     full, signals = {}, {}
