@@ -541,3 +541,14 @@ def test_bad_cap_in_the_environment_is_one_line(variable, value, capsys, monkeyp
     assert code == 2
     line = one_error_line(err)
     assert variable in line and "megabytes" in line
+
+
+def test_parallel_workers_share_the_memory_cap(monkeypatch):
+    """Arithmetic of the cap: N workers at once each get 1/N of it."""
+    from checker import bounds
+
+    monkeypatch.setenv("CHECKER_MAX_MEMORY_MB", "1000")
+    monkeypatch.setitem(bounds._parallel, "runs", 1)
+    assert bounds.memory_cap_bytes() == 1_000_000_000
+    bounds.share_memory(4)
+    assert bounds.memory_cap_bytes() == 250_000_000
