@@ -11,6 +11,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
+import pandas as pd
 
 from .constants import G0
 from .csvtable import read_numeric_csv
@@ -38,20 +39,9 @@ def load_history(path: str | Path, units: str = "g") -> list[RecordedSignal]:
     table = read_numeric_csv(path, ["t", "gx", "gy", "gz"], ["s", "v", "car", "x", "y", "z"],
                              text=["seat"], what="history")
     scale = 1.0 / G0 if units == "m/s2" else 1.0
-    seats = table.text_columns.get("seat", ["recorded"] * len(table))
-    order: dict[str, list[int]] = {}
-    for i, name in enumerate(seats):
-        if name == "" or len(name) > MAX_SEAT_NAME_CHARS:
-            problem = "seat name is empty" if not name else f"seat name is {len(name)} " \
-                "characters long"
-            raise InputError(path, problem, "name the seat on every row, in at most "
-                             f"{MAX_SEAT_NAME_CHARS} characters", row=int(table.lines[i]),
-                             column="seat")
-        order.setdefault(name, []).append(i)
     out = []
     has_xyz = all(table.has(c) for c in "xyz")
-    for name, rows in order.items():
-        idx = np.asarray(rows)
+    for name, idx in _seat_rows(table, path):
         t = table.columns["t"][idx]
         lines = table.lines[idx]
         if len(t) < 8:
@@ -78,3 +68,24 @@ def load_history(path: str | Path, units: str = "g") -> list[RecordedSignal]:
         pos = (np.column_stack([table.columns[c][idx] for c in "xyz"]) if has_xyz else None)
         out.append(RecordedSignal(name, t, g, s, pos))
     return out
+
+
+def _seat_rows(table, path: Path) -> list[tuple[str, np.ndarray]]:
+    """(seat name, row indices in file order) for every seat, in order of first appearance."""
+    if not table.has("seat"):
+        return [("recorded", np.arange(len(table)))]
+    names = table.text_columns["seat"]
+    codes, uniques = pd.factorize(names)
+    lengths = np.fromiter((len(name) for name in uniques), dtype=np.intp, count=len(uniques))
+    bad_names = np.flatnonzero((lengths == 0) | (lengths > MAX_SEAT_NAME_CHARS))
+    if bad_names.size:
+        first = int(np.flatnonzero(np.isin(codes, bad_names))[0])
+        name = names[first]
+        problem = "seat name is empty" if not name else f"seat name is {len(name)} " \
+            "characters long"
+        raise InputError(path, problem, "name the seat on every row, in at most "
+                         f"{MAX_SEAT_NAME_CHARS} characters", row=int(table.lines[first]),
+                         column="seat")
+    order = np.argsort(codes, kind="stable")
+    bounds = np.searchsorted(codes[order], np.arange(len(uniques) + 1))
+    return [(str(name), order[bounds[k]:bounds[k + 1]]) for k, name in enumerate(uniques)]
