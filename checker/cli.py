@@ -56,8 +56,11 @@ def _add_ride_settings(p: argparse.ArgumentParser) -> None:
                    help="output sample rate [Hz] (default 200)")
     p.add_argument("--units", choices=("m", "ft"), default="m",
                    help="length unit of the track file (default m)")
-    p.add_argument("--smoothing", type=_nonnegative, default=0.0, metavar="METRES",
-                   help="RMS tolerance for smoothing noisy CAD samples (default 0: interpolate)")
+    p.add_argument("--smoothing", type=_nonnegative, default=None, metavar="METRES",
+                   help="RMS tolerance for fitting noisy CAD samples; 0 fits through every "
+                        "sample (default: half the grid a rounded file's coordinates sit on)")
+    p.add_argument("--step", type=_positive, default=0.2, metavar="METRES",
+                   help="station grid step of the simulation [m] (default 0.2)")
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -205,7 +208,8 @@ def _cmd_check(args: argparse.Namespace) -> int:
     line, train, ops = load_inputs(args.track, args.train, ideal=args.ideal,
                                    operation=args.operation, start_speed_m_s=args.start_speed,
                                    units=args.units)
-    options = RideOptions(rate_hz=args.rate, smoothing_m=args.smoothing)
+    options = RideOptions(rate_hz=args.rate, smoothing_m=args.smoothing,
+                          step_m=args.step)
     extra_inputs: list = []
     case_names: list[str] = []
     if args.cases:
@@ -295,7 +299,7 @@ def _cmd_simulate(args: argparse.Namespace) -> int:
     line, train, ops = load_inputs(args.track, args.train, ideal=args.ideal,
                                    operation=args.operation, start_speed_m_s=args.start_speed,
                                    units=args.units)
-    result = run_ride(line, train, ops, RideOptions(rate_hz=args.rate,
+    result = run_ride(line, train, ops, RideOptions(rate_hz=args.rate, step_m=args.step,
                                                     smoothing_m=args.smoothing))
     for warning in result.warnings:
         print(f"warning: {warning}", file=sys.stderr)
@@ -334,7 +338,8 @@ def _cmd_compare(args: argparse.Namespace) -> int:
     new_line, _, new_ops = load_inputs(args.new, args.train, ideal=args.ideal,
                                        operation=new_ops_file,
                                        start_speed_m_s=args.start_speed, units=args.units)
-    options = RideOptions(rate_hz=args.rate, smoothing_m=args.smoothing)
+    options = RideOptions(rate_hz=args.rate, smoothing_m=args.smoothing,
+                          step_m=args.step)
     cases_file = None
     if args.cases:
         cases_file = STANDARD_CASES if args.cases == "standard" else args.cases

@@ -74,6 +74,18 @@ def coordinate_resolution(values: np.ndarray) -> float | None:
     return None
 
 
+def smoothing_for(line: Centerline, requested_m: float | None) -> float:
+    """The smoothing tolerance [m] of a run: the one asked for, else half the coordinate grid.
+
+    Rounding to a grid q leaves each coordinate off by up to q/2 (uniform, RMS q/sqrt(12)),
+    so a point is off by sqrt(3) q / sqrt(12) = q/2 RMS when all three coordinates vary: a
+    fit within q/2 keeps what the file states and drops what the rounding added.
+    """
+    if requested_m is not None:
+        return float(requested_m)
+    return 0.5 * line.resolution_m if line.resolution_m else 0.0
+
+
 def validate_centerline(line: Centerline) -> Centerline:
     """Check the geometric sanity of a centerline; raise InputError naming the sample."""
     path, pts = line.source, line.points
