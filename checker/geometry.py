@@ -41,8 +41,9 @@ ARC_LENGTH_PASSES = 2
 # Smoothing fit: order of the coefficient differences penalized; the length of track end a
 # polynomial of END_DEGREE is fitted to, to continue the data past each end.
 PENALTY_ORDER = 5
-END_FIT_M = 3.0
-END_DEGREE = 3
+END_FIT_M = 2.0
+END_DEGREE = 5
+END_GHOST_M = 0.5
 # Curvature-noise probe: a smoothing fit within this tolerance [m] is compared with the fit
 # used; noise shows as curvature the probe removes (RMS over the samples).
 NOISE_PROBE_M = 0.002
@@ -216,23 +217,30 @@ def _arc_length_at(spline, u: np.ndarray) -> np.ndarray:
     return np.concatenate([[0.0], np.cumsum(length)])
 
 
-def _with_end_extensions(u: np.ndarray, points: np.ndarray):
-    """Samples extended past both ends by a least-squares cubic through the last END_FIT_M.
+def _with_end_extensions(u: np.ndarray, points: np.ndarray, tolerance_m: float):
+    """Samples continued past both ends by a least-squares polynomial through the last
+    END_FIT_M of track.
 
     A penalized fit pulls the curve toward a polynomial where the data stop, which bends
     the first and last metres of a track that starts or ends in a curve; continuing the
-    local shape beyond the ends (and fitting through it, then using the inside only) takes
-    that pull away. The cubic averages the rounding of the end samples.
+    local shape beyond the ends (fitting through it, then using the inside only) takes that
+    pull away. The polynomial's degree is the lowest (2 to END_DEGREE) that stays within the
+    smoothing tolerance of those samples, so it follows the shape without following the
+    rounding; it is extended over END_GHOST_M.
     """
     spacing = (u[-1] - u[0]) / (len(u) - 1)
     count = int(min(max(8, np.ceil(END_FIT_M / spacing)), len(u) // 2))
-    if count < 6:
+    if count < 8:
         return u, points
-    ghosts = np.arange(1, count + 1) * spacing
+    ghosts = np.arange(1, int(np.ceil(END_GHOST_M / spacing)) + 1) * spacing
     parts_u, parts_p = [u], [points]
     for sl, sign, edge in ((slice(0, count), -1.0, u[0]), (slice(-count, None), 1.0, u[-1])):
         local = u[sl] - edge
-        coef = np.polynomial.polynomial.polyfit(local, points[sl], END_DEGREE)
+        for degree in range(2, END_DEGREE + 1):
+            coef = np.polynomial.polynomial.polyfit(local, points[sl], degree)
+            residual = np.polynomial.polynomial.polyval(local, coef).T - points[sl]
+            if np.sqrt(np.mean(np.sum(residual**2, axis=1))) <= tolerance_m:
+                break
         parts_u.append(edge + sign * ghosts)
         parts_p.append(np.polynomial.polynomial.polyval(sign * ghosts, coef).T)
     u_all = np.concatenate(parts_u)
@@ -245,12 +253,13 @@ def _penalized_fit(points: np.ndarray, u: np.ndarray, degree: int,
     """The smoothest spline on ``knots`` whose RMS distance from the samples is ``tolerance_m``.
 
     A penalized B-spline (P-spline) on equally spaced knots (one interval per sample on
-    average, extended past both ends so that every coefficient is alike): least squares on the samples plus lambda times the sum
-    of squared PENALTY_ORDER-th differences of the coefficients, solved as one sparse banded
-    system; lambda is found by root-finding so that the sum of squared distances equals
-    n * tolerance_m^2 (the discrepancy principle). High-order differences penalize the
-    change of curvature, which is where rounding and CAD noise show, and leave circles and
-    clothoids nearly untouched.
+    average, extended past both ends so that every coefficient is alike): least squares on
+    the samples plus lambda times the sum of squared PENALTY_ORDER-th differences of the
+    coefficients, solved as one sparse banded system. Lambda is found by root-finding so
+    that the sum of squared distances equals n * tolerance_m^2 (the discrepancy principle).
+    High-order differences penalize the change of curvature, where rounding and CAD noise
+    show, and leave circles and clothoids nearly untouched. The samples are first continued
+    past both ends (:func:`_with_end_extensions`).
 
     References
     ----------
@@ -258,7 +267,7 @@ def _penalized_fit(points: np.ndarray, u: np.ndarray, degree: int,
     Statistical Science 11(2), 1996. V. A. Morozov, "On the solution of functional equations
     by the method of regularization", Soviet Math. Dokl. 7, 1966 (discrepancy principle).
     """
-    u_all, points_all = _with_end_extensions(u, points)
+    u_all, points_all = _with_end_extensions(u, points, tolerance_m)
     intervals = len(u) - 1
     h = (u[-1] - u[0]) / intervals
     before = int(np.ceil((u[0] - u_all[0]) / h))
