@@ -1,41 +1,32 @@
 """Command line: argument parsing, exit codes and error printing. No numerics here.
 
 Exit codes: 0 every rule holds (or the command ran), 1 at least one finding (or a stall),
-2 bad input or usage, 130 interrupted.
+2 bad input or usage (or an output that cannot be written), 3 internal error (a bug: one line,
+the traceback with ``--debug``), 130 interrupted.
 """
 
 from __future__ import annotations
 
 import argparse
-import signal
 import sys
 from collections.abc import Sequence
 from concurrent.futures.process import BrokenProcessPool
 
 from . import __version__
+from .bounds import (
+    RATE_HZ,
+    SCHEDULER_TIMEOUT_S,
+    SMOOTHING_M,
+    START_SPEED_M_S,
+    STEP_M,
+    WORKERS,
+    name_option,
+    number_option,
+)
 from .errors import InputError, TrainStalled
+from .terminal import write_raw
 
-EXIT_OK, EXIT_FINDINGS, EXIT_INPUT, EXIT_INTERRUPTED = 0, 1, 2, 130
-
-
-def _positive(text: str) -> float:
-    try:
-        value = float(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"'{text}' is not a number") from None
-    if not value > 0:
-        raise argparse.ArgumentTypeError(f"must be greater than zero, got {text}")
-    return value
-
-
-def _nonnegative(text: str) -> float:
-    try:
-        value = float(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"'{text}' is not a number") from None
-    if not value >= 0:
-        raise argparse.ArgumentTypeError(f"must be zero or more, got {text}")
-    return value
+EXIT_OK, EXIT_FINDINGS, EXIT_INPUT, EXIT_INTERNAL, EXIT_INTERRUPTED = 0, 1, 2, 3, 130
 
 
 def _add_ride_options(p: argparse.ArgumentParser) -> None:
@@ -50,16 +41,18 @@ def _add_ride_settings(p: argparse.ArgumentParser) -> None:
     group.add_argument("--train", help="train TOML (cars, seats, masses, resistances)")
     group.add_argument("--ideal", action="store_true",
                        help="one rider on the centerline, no rolling resistance, no drag")
-    p.add_argument("--start-speed", type=_nonnegative, metavar="M_PER_S",
+    p.add_argument("--start-speed", type=number_option(*START_SPEED_M_S, " m/s"),
+                   metavar="M_PER_S",
                    help="speed at the start [m/s]; overrides the operation file")
-    p.add_argument("--rate", type=_positive, default=200.0, metavar="HZ",
+    p.add_argument("--rate", type=number_option(*RATE_HZ, " Hz"), default=200.0, metavar="HZ",
                    help="output sample rate [Hz] (default 200)")
     p.add_argument("--units", choices=("m", "ft"), default="m",
                    help="length unit of the track file (default m)")
-    p.add_argument("--smoothing", type=_nonnegative, default=None, metavar="METRES",
+    p.add_argument("--smoothing", type=number_option(*SMOOTHING_M, " m"), default=None,
+                   metavar="METRES",
                    help="RMS tolerance for fitting noisy CAD samples; 0 fits through every "
                         "sample (default: half the grid a rounded file's coordinates sit on)")
-    p.add_argument("--step", type=_positive, default=0.2, metavar="METRES",
+    p.add_argument("--step", type=number_option(*STEP_M, " m"), default=0.2, metavar="METRES",
                    help="station grid step of the simulation [m] (default 0.2)")
 
 
@@ -70,6 +63,8 @@ def build_parser() -> argparse.ArgumentParser:
                     "not a certification: the governing code, the authority having "
                     "jurisdiction and licensed engineering review decide.")
     parser.add_argument("--version", action="version", version=f"checker {__version__}")
+    parser.add_argument("--debug", action="store_true",
+                        help="show the traceback of an internal error")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND")
     sim = sub.add_parser("simulate", help="simulate a ride; write every seat's history (CSV)")
     _add_ride_options(sim)
@@ -104,6 +99,9 @@ def build_parser() -> argparse.ArgumentParser:
     demo.add_argument("--out", default="demo-output", metavar="FOLDER",
                       help="folder for the reports (default ./demo-output)")
     demo.add_argument("--page-size", choices=("a4", "letter"), default="a4")
+    for command in sub.choices.values():  # --debug after the command too
+        command.add_argument("--debug", action="store_true", default=argparse.SUPPRESS,
+                             help="show the traceback of an internal error")
     return parser
 
 
@@ -117,16 +115,22 @@ def _add_check_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--project", default="(not given)", help="project name for the report")
     p.add_argument("--layout-name", default=None, help="layout name (default: file name)")
     p.add_argument("--revision", default="(not given)", help="layout revision for the report")
-    p.add_argument("--case", default="nominal", help="name of the load case (default nominal)")
+    p.add_argument("--case", default="nominal", type=name_option(),
+                   help="name of the load case (default nominal)")
 
 
 def _add_case_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--cases", metavar="CASES.toml",
                    help="load cases to run for every seat ('standard' for the shipped set)")
-    p.add_argument("--workers", type=int, default=None, metavar="N",
+    p.add_argument("--workers", type=number_option(*WORKERS, integer=True), default=None,
+                   metavar="N",
                    help="local worker processes for the cases (default: all cores)")
     p.add_argument("--scheduler", metavar="ADDRESS",
                    help="run the cases on a Dask cluster, e.g. tcp://10.0.0.5:8786")
+    p.add_argument("--scheduler-timeout", type=number_option(*SCHEDULER_TIMEOUT_S, " s"),
+                   default=30.0, metavar="SECONDS",
+                   help="how long to wait for the Dask scheduler and its first worker "
+                        "(default 30)")
     p.add_argument("--quiet", action="store_true", help="no progress bar")
 
 
@@ -151,8 +155,10 @@ def _finish(args, run, source: str, parameters: list) -> int:
     """Print the summary; write JSON and PDF as asked. Returns the exit code."""
     from .documents import CAUTION, evaluation_document, summary_table, to_json
     from .outputs import atomic_write_text
+    from .plausibility import filter_warnings
 
     evaluation = run.evaluation
+    evaluation.warnings[:0] = filter_warnings(evaluation.limits.filter)
     for warning in evaluation.warnings:
         print(f"warning: {warning}", file=sys.stderr)
     print(summary_table(evaluation))
@@ -190,12 +196,20 @@ def _inputs(*paths) -> list[tuple[str, str]]:
     return [(str(p), sha256_of(p)) for p in paths if p is not None]
 
 
-def _check_outputs(args) -> None:
-    from .outputs import check_writable
+def _check_outputs(args, *inputs) -> None:
+    """Before any work: no output may be an input or another output (checker.paths)."""
+    from .paths import check_run_paths, report_sidecar
 
-    for path in (args.json, args.pdf):
-        if path:
-            check_writable(path)
+    if getattr(args, "scheduler", None) and not getattr(args, "cases", None) and (
+            args.command == "check"):
+        raise InputError("--scheduler", "runs load cases on a cluster but no --cases was "
+                         "given", "add --cases standard (or a cases file), or drop --scheduler")
+    cases = getattr(args, "cases", None)
+    inputs += (getattr(args, "limits", None), cases if cases != "standard" else None)
+    sidecar = args.json
+    if args.pdf and args.command != "compare":  # a report's JSON sidecar
+        sidecar = report_sidecar(args.pdf, args.json)
+    check_run_paths(inputs, [("--pdf", args.pdf), ("--json", sidecar)])
 
 
 def _cmd_check(args: argparse.Namespace) -> int:
@@ -203,8 +217,9 @@ def _cmd_check(args: argparse.Namespace) -> int:
 
     from .ride import RideOptions, load_inputs, ride_parameters, run_check
 
-    _check_outputs(args)
+    _check_outputs(args, args.track, args.train, args.operation)
     limits = _limits(args)
+    _check_outputs(args, *(f for f, _ in limits.files))
     line, train, ops = load_inputs(args.track, args.train, ideal=args.ideal,
                                    operation=args.operation, start_speed_m_s=args.start_speed,
                                    units=args.units)
@@ -241,8 +256,8 @@ class Progress:
             return
         width = 30
         filled = int(width * done / total)
-        sys.stderr.write(f"\r{self.label} [{'#' * filled}{'.' * (width - filled)}] "
-                         f"{done}/{total}")
+        write_raw(sys.stderr, f"\r{self.label} [{'#' * filled}{'.' * (width - filled)}] "
+                  f"{done}/{total}")
         if done == total:
             sys.stderr.write("\n")
         sys.stderr.flush()
@@ -268,7 +283,8 @@ def _run_sweep(args, line, train, ops, limits, options):
     cases = load_cases(cases_file)
     _check_cases_fit(cases, cases_file, train, ops, options)
     sweep = run_cases(line, train, ops, limits, options, cases, workers=args.workers,
-                      scheduler=args.scheduler, progress=Progress("cases", args.quiet))
+                      scheduler=args.scheduler, progress=Progress("cases", args.quiet),
+                      scheduler_timeout_s=args.scheduler_timeout)
     run = sweep_check_run(sweep, line, train, ops, limits, options, cases)
     run.sweep = sweep
     return run, cases_file, [c.name for c in cases]
@@ -278,13 +294,16 @@ def _cmd_check_history(args: argparse.Namespace) -> int:
     from pathlib import Path
 
     from .history import load_history
+    from .plausibility import history_warnings
     from .ride import CheckRun
     from .rules import evaluate
 
-    _check_outputs(args)
+    _check_outputs(args, args.history)
     limits = _limits(args)
+    _check_outputs(args, *(f for f, _ in limits.files))
     signals = load_history(args.history, args.units)
     evaluation = evaluate(signals, limits, args.case)
+    evaluation.warnings[:0] = history_warnings(signals)
     run = CheckRun(evaluation, None, {(s.seat, args.case): s for s in signals},
                    _inputs(args.history) + list(limits.files))
     params = [("history units", args.units), ("filter", limits.filter.describe())]
@@ -292,10 +311,11 @@ def _cmd_check_history(args: argparse.Namespace) -> int:
 
 
 def _cmd_simulate(args: argparse.Namespace) -> int:
-    from .outputs import atomic_write_text, check_writable
+    from .outputs import atomic_write_text
+    from .paths import check_run_paths
     from .ride import RideOptions, histories_frame, load_inputs, run_ride
 
-    check_writable(args.output)
+    check_run_paths([args.track, args.train, args.operation], [("--output", args.output)])
     line, train, ops = load_inputs(args.track, args.train, ideal=args.ideal,
                                    operation=args.operation, start_speed_m_s=args.start_speed,
                                    units=args.units)
@@ -324,12 +344,15 @@ def _cmd_compare(args: argparse.Namespace) -> int:
     from .compare import compare_sweeps
     from .documents import CAUTION, comparison_document, to_json
     from .loadcases import STANDARD_CASES, LoadCase, apply_case, load_cases
-    from .outputs import atomic_write_bytes, atomic_write_text
+    from .outputs import commit
     from .ride import RideOptions, load_inputs, run_check
     from .sweep import run_layouts
+    from .terminal import shorten
 
-    _check_outputs(args)
+    _check_outputs(args, args.old, args.new, args.train, args.operation, args.old_operation,
+                   args.new_operation)
     limits = _limits(args)
+    _check_outputs(args, *(f for f, _ in limits.files))
     old_ops_file = args.old_operation or args.operation
     new_ops_file = args.new_operation or args.operation
     old_line, train, old_ops = load_inputs(args.old, args.train, ideal=args.ideal,
@@ -350,6 +373,7 @@ def _cmd_compare(args: argparse.Namespace) -> int:
         _check_cases_fit(cases, cases_file, train, old_ops, options)
     old, new = run_layouts([(old_line, train, old_ops), (new_line, train, new_ops)], limits,
                            options, cases, workers=args.workers, scheduler=args.scheduler,
+                           scheduler_timeout_s=args.scheduler_timeout,
                            progress=Progress("layouts x cases", args.quiet))
     comparison = compare_sweeps(old, new, old.outcomes[0].track_length_m,
                                 new.outcomes[0].track_length_m)
@@ -385,12 +409,12 @@ def _cmd_compare(args: argparse.Namespace) -> int:
                      new_ops_file if new_ops_file != old_ops_file else None,
                      cases_file) + list(limits.files)
     command = _command_line()
+    record: dict = {}  # rendered in memory, then written together (both or neither)
     if args.json:
         doc = comparison_document(comparison, limits, args.old, args.new, len(old.findings),
                                   len(new.findings), regressed, new_stalls,
                                   [c.name for c in cases], inputs, command)
-        atomic_write_text(args.json, to_json(doc))
-        print(f"wrote {args.json}")
+        record[args.json] = to_json(doc).encode("utf-8")
     if args.pdf:
         from .report.comparison import comparison_pdf
 
@@ -407,11 +431,13 @@ def _cmd_compare(args: argparse.Namespace) -> int:
             focus[label] = (result, run.signals[(seat, focus_case)], run.ride)
             focus["seat"] = seat
         pdf = comparison_pdf(comparison, focus, {
-            "project": args.project, "old_name": old_name, "new_name": new_name,
+            "project": shorten(args.project, 200), "old_name": old_name, "new_name": new_name,
             "limits": limits, "cases": ", ".join(c.name for c in cases), "inputs": inputs,
-            "command": command, "page_size": args.page_size, "stalls": new_stalls})
-        atomic_write_bytes(args.pdf, pdf)
-        print(f"wrote {args.pdf}")
+            "command": shorten(command, 4000), "page_size": args.page_size,
+            "stalls": new_stalls})
+        record[args.pdf] = pdf
+    if record:
+        print("wrote " + " and ".join(str(p) for p in commit(record)))
     return EXIT_FINDINGS if regressed else EXIT_OK
 
 
@@ -468,35 +494,64 @@ COMMANDS = {"simulate": _cmd_simulate, "check": _cmd_check,
             "compare": _cmd_compare}
 
 
-def _on_terminate(signum, frame):  # SIGTERM behaves like Ctrl-C: unwind, no partial output
-    raise KeyboardInterrupt
+def _interrupted_message() -> str:
+    """What an interruption left behind, said truthfully."""
+    from .outputs import written
+
+    if not written:
+        return "checker: interrupted; no output was written or changed"
+    return ("checker: interrupted after writing " + ", ".join(str(p) for p in written)
+            + " (each whole); nothing else was written or changed")
 
 
 def main(argv: Sequence[str] | None = None) -> int:
+    from .outputs import interrupt_handling, was_interrupted
+    from .terminal import terminal_streams
+
     parser = build_parser()
     args = parser.parse_args(argv)
     if args.command is None:
         parser.print_help()
         return EXIT_INPUT
-    signal.signal(signal.SIGTERM, _on_terminate)
-    try:
-        return COMMANDS[args.command](args)
-    except InputError as exc:
-        print(f"checker: error: {exc.message()}", file=sys.stderr)
-        return EXIT_INPUT
-    except TrainStalled as exc:
-        print(f"checker: {exc}", file=sys.stderr)
-        return EXIT_FINDINGS
-    except BrokenPipeError:  # output piped into a closed reader (e.g. head)
-        sys.stderr.close()
-        return EXIT_OK
-    except KeyboardInterrupt:
-        print("checker: interrupted; no output was written or changed", file=sys.stderr)
-        return EXIT_INTERRUPTED
-    except BrokenProcessPool:  # a worker was stopped (e.g. Ctrl-C reached the whole group)
-        print("checker: a worker process was stopped (interrupted?); no output was written "
-              "or changed", file=sys.stderr)
-        return EXIT_INTERRUPTED
+    # SIGINT and SIGTERM unwind (no partial output); user text is cleaned on the terminal
+    # and a closed reader does not change the exit code
+    with interrupt_handling(), terminal_streams():
+        try:
+            code = COMMANDS[args.command](args)
+            if was_interrupted():  # a library swallowed the KeyboardInterrupt
+                raise KeyboardInterrupt
+            return code
+        except InputError as exc:
+            print(f"checker: error: {exc.message()}", file=sys.stderr)
+            return EXIT_INPUT
+        except TrainStalled as exc:
+            print(f"checker: {exc}", file=sys.stderr)
+            return EXIT_FINDINGS
+        except KeyboardInterrupt:
+            print(_interrupted_message(), file=sys.stderr)
+            return EXIT_INTERRUPTED
+        except BrokenProcessPool:  # a worker was stopped (e.g. Ctrl-C reached the whole group)
+            if was_interrupted():
+                print(_interrupted_message(), file=sys.stderr)
+                return EXIT_INTERRUPTED
+            print("checker: error: a worker process died (out of memory, or killed?) -- "
+                  "run again with fewer --workers", file=sys.stderr)
+            return EXIT_INPUT
+        except MemoryError:
+            print("checker: error: out of memory -- lower --rate, the number of seats or "
+                  "of --workers", file=sys.stderr)
+            return EXIT_INPUT
+        except Exception as exc:  # a bug: one line, the traceback only when asked
+            if args.debug:
+                import traceback
+
+                traceback.print_exc()
+            text = " ".join(str(exc).split())[:300]
+            print(f"checker: internal error: {type(exc).__name__}: {text} -- this is a bug in "
+                  "checker; please report it with the command line"
+                  + ("" if args.debug else " (add --debug for the traceback)"),
+                  file=sys.stderr)
+            return EXIT_INTERNAL
 
 
 if __name__ == "__main__":  # pragma: no cover

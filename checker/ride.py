@@ -9,14 +9,22 @@ from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import TYPE_CHECKING
 
+import numpy as np
 import pandas as pd
 
+from .bounds import MIN_TRACK_M, check_memory
 from .dynamics import RideMotion, simulate_motion
 from .errors import InputError
 from .geometry import TrackGeometry, build_geometry
 from .kinematics import SeatHistory, rider_histories
 from .operation import Operation, load_operation
-from .plausibility import fitting_warnings, motion_warnings, track_warnings
+from .plausibility import (
+    crossing_warnings,
+    fitting_warnings,
+    motion_warnings,
+    track_warnings,
+    train_clearance_m,
+)
 from .track import Centerline, load_centerline, smoothing_for
 from .train import Train, ideal_rider, load_train
 
@@ -50,6 +58,11 @@ class RideResult:
 def run_ride(centerline: Centerline, train: Train, operation: Operation,
              options: RideOptions = RideOptions()) -> RideResult:
     """Geometry, dynamics and every seat's history for one layout and one train."""
+    polyline_m = float(np.linalg.norm(np.diff(centerline.points, axis=0), axis=1).sum())
+    if polyline_m < MIN_TRACK_M:
+        raise InputError(centerline.source, f"the track is only {polyline_m:.3g} m long",
+                         "lengths are read in metres (or feet with --units ft): check the "
+                         "file's units")
     geometry = build_geometry(centerline.points, centerline.roll_deg, centerline.up,
                               smoothing_m=smoothing_for(centerline, options.smoothing_m),
                               step_m=options.step_m)
@@ -58,9 +71,12 @@ def run_ride(centerline: Centerline, train: Train, operation: Operation,
                          f"than the train ({train.length_m:.1f} m from first to last car)",
                          "check the track's units and the train's car spacing")
     motion = simulate_motion(geometry, train, operation, head_wind_m_s=options.head_wind_m_s)
+    check_memory(len(train.seats) * train.car_count, train.car_count, motion.duration_s,
+                 options.rate_hz, centerline.source)
     histories = rider_histories(geometry, motion, train.seats, options.rate_hz)
     warnings = (fitting_warnings(geometry, centerline, options.smoothing_m is None)
                 + track_warnings(geometry, centerline.points)
+                + crossing_warnings(geometry, train_clearance_m(train))
                 + motion_warnings(geometry, motion, operation))
     return RideResult(geometry, motion, histories, train, operation, options, tuple(warnings))
 

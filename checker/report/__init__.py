@@ -2,12 +2,17 @@
 
 from __future__ import annotations
 
+from dataclasses import replace
 from pathlib import Path
 
 from ..documents import evaluation_document, to_json
-from ..outputs import atomic_write_bytes, atomic_write_text, check_writable
+from ..outputs import check_writable, commit
+from ..paths import report_sidecar
+from ..terminal import shorten
 from .document import ReportMeta, build_html
 from .pdf import TemplatesOnlyFetcher, render_pdf
+
+DISPLAY_CHARS = 80  # user text longer than this is cut in the report (the JSON keeps it all)
 
 METHOD = [
     "Geometry: the centerline samples are joined by a degree-5 B-spline (scipy), "
@@ -34,19 +39,20 @@ METHOD = [
 
 def write_report(run, pdf_path: str | Path, meta: ReportMeta, json_path: str | Path | None,
                  json_extra: dict | None = None) -> tuple[Path, Path]:
-    """Render the PDF and its JSON sidecar; write both atomically, the PDF last.
-
-    Everything is rendered in memory first, so a failure leaves earlier files untouched.
-    """
+    """Render the PDF and its JSON sidecar in memory, then write both together (both or
+    neither, :func:`checker.outputs.commit`)."""
     pdf_path = check_writable(pdf_path)
-    json_path = check_writable(json_path or pdf_path.with_suffix(".json"))
+    json_path = check_writable(report_sidecar(pdf_path, json_path))
     if not meta.method:
         meta.method = list(METHOD)
-    html, assets = build_html(run.evaluation, run.signals, run.ride, meta)
-    pdf = render_pdf(html, TemplatesOnlyFetcher(assets=assets))
     doc = evaluation_document(run.evaluation, meta.inputs, meta.command, json_extra)
-    atomic_write_text(json_path, to_json(doc))
-    atomic_write_bytes(pdf_path, pdf)
+    shown = replace(meta, project=shorten(meta.project, DISPLAY_CHARS),
+                    layout=shorten(meta.layout, DISPLAY_CHARS),
+                    revision=shorten(meta.revision, DISPLAY_CHARS),
+                    command=shorten(meta.command, 20 * DISPLAY_CHARS))
+    html, assets = build_html(run.evaluation, run.signals, run.ride, shown)
+    pdf = render_pdf(html, TemplatesOnlyFetcher(assets=assets))
+    commit({json_path: to_json(doc).encode("utf-8"), pdf_path: pdf})
     return pdf_path, json_path
 
 

@@ -167,7 +167,10 @@ def _render_sections(jobs, signals: dict, limits) -> list[dict]:
     from concurrent.futures import ProcessPoolExecutor
 
     workers = min(len(work), max(1, (os.cpu_count() or 1)))
-    with ProcessPoolExecutor(workers, mp_context=multiprocessing.get_context("fork")) as pool:
+    from ..parentwatch import watch_parent
+
+    with ProcessPoolExecutor(workers, mp_context=multiprocessing.get_context("fork"),
+                             initializer=watch_parent, initargs=(os.getpid(),)) as pool:
         return list(pool.map(_section_job, work, chunksize=max(1, len(work) // (4 * workers))))
 
 

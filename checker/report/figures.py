@@ -20,6 +20,7 @@ plt.rcParams.update({
     "svg.fonttype": "none", "font.family": "DejaVu Sans", "font.size": 8,
     "axes.titlesize": 9, "axes.labelsize": 8, "legend.fontsize": 7, "axes.grid": True,
     "grid.alpha": 0.3, "svg.hashsalt": "checker",  # deterministic element ids
+    "text.parse_math": False,  # '$' in a seat, case or file name is text, never math markup
 })
 AXIS_COLORS = {"gx": "#1f5fa8", "gy": "#2a8a3e", "gz": "#b0301f"}
 FINDING_COLOR = "#d11a1a"
