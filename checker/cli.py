@@ -115,6 +115,8 @@ def build_parser() -> argparse.ArgumentParser:
     demo.add_argument("--out", default="demo-output", metavar="FOLDER",
                       help="folder for the reports (default ./demo-output)")
     demo.add_argument("--page-size", choices=("a4", "letter"), default="a4")
+    demo.add_argument("--seat-pages", choices=("all", "governing", "none"),
+                      default="governing", help="seat pages of figures (default governing)")
     for command in sub.choices.values():  # --debug after the command too
         command.add_argument("--debug", action="store_true", default=argparse.SUPPRESS,
                              help="show the traceback of an internal error")
@@ -141,6 +143,10 @@ def _add_check_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--revision", default="(not given)", help="layout revision for the report")
     p.add_argument("--case", default="nominal", type=name_option(),
                    help="name of the load case (default nominal)")
+    p.add_argument("--seat-pages", choices=("all", "governing", "none"), default="governing",
+                   help="seat pages of figures in the PDF: the governing seat of each event "
+                   "and seats whose findings differ (default), every seat with a finding, "
+                   "or none")
 
 
 def _add_case_options(p: argparse.ArgumentParser) -> None:
@@ -169,15 +175,19 @@ def _limits(args: argparse.Namespace):
     return load_limits(args.limits)
 
 
-def _command_line() -> str:
+def _command_line(args: argparse.Namespace | None = None) -> str:
+    """The command that reproduces this run, quoted for a POSIX shell (shlex.join): the
+    arguments given to :func:`main`, or the process's own."""
     import shlex
 
-    return "checker " + " ".join(shlex.quote(a) for a in sys.argv[1:])
+    argv = getattr(args, "argv", None)
+    return shlex.join(["checker", *(sys.argv[1:] if argv is None else argv)])
 
 
 def _finish(args, run, source: str, parameters: list) -> int:
     """Print the summary; write JSON and PDF as asked. Returns the exit code."""
     from .documents import CAUTION, evaluation_document, summary_table, to_json
+    from .events import events_of_run
     from .outputs import atomic_write_text
     from .plausibility import filter_warnings
 
@@ -185,7 +195,8 @@ def _finish(args, run, source: str, parameters: list) -> int:
     evaluation.warnings[:0] = filter_warnings(evaluation.limits.filter)
     for warning in evaluation.warnings:
         print(f"warning: {warning}", file=sys.stderr)
-    print(summary_table(evaluation))
+    events = events_of_run(evaluation, run.ride)
+    print(summary_table(evaluation, events))
     if run.sweep is not None:
         from .documents import sweep_document, sweep_tables
 
@@ -196,7 +207,7 @@ def _finish(args, run, source: str, parameters: list) -> int:
     if evaluation.limits.illustrative:
         print("note: the limit set is ILLUSTRATIVE; the verdict says nothing about compliance")
     print("caution: " + CAUTION)
-    command = _command_line()
+    command = _command_line(args)
     extra = {"stall": run.stall, **extra_sweep}
     if args.pdf:
         from .report import ReportMeta, write_report
@@ -204,11 +215,12 @@ def _finish(args, run, source: str, parameters: list) -> int:
         meta = ReportMeta(project=args.project, layout=args.layout_name or source,
                           revision=args.revision, page_size=args.page_size, command=command,
                           inputs=run.inputs, parameters=parameters, stall=run.stall,
-                          sweep=run.sweep)
+                          sweep=run.sweep, seat_pages=args.seat_pages,
+                          recorded=run.ride is None)
         pdf, sidecar = write_report(run, args.pdf, meta, args.json, extra)
         print(f"wrote {pdf} and {sidecar}")
     elif args.json:
-        doc = evaluation_document(evaluation, run.inputs, command, extra)
+        doc = evaluation_document(evaluation, run.inputs, command, extra, events)
         atomic_write_text(args.json, to_json(doc))
         print(f"wrote {args.json}")
     return EXIT_FINDINGS if evaluation.verdict == "fail" or run.stall else EXIT_OK
@@ -256,8 +268,6 @@ def _cmd_check(args: argparse.Namespace) -> int:
         extra_inputs = [cases_file]
     else:
         run = run_check(line, train, ops, limits, options, args.case)
-    if run.stall:
-        print(f"checker: {run.stall}", file=sys.stderr)
     run.inputs = (_inputs(args.track, args.train, args.operation, *extra_inputs)
                   + list(limits.files))
     params = ride_parameters(run.ride) + [("track length unit", args.units),
@@ -372,9 +382,10 @@ def _cmd_compare(args: argparse.Namespace) -> int:
     from pathlib import Path
 
     from .compare import compare_sweeps
-    from .documents import CAUTION, comparison_document, to_json
+    from .documents import CAUTION, change_text, comparison_document, to_json
     from .loadcases import STANDARD_CASES, LoadCase, apply_case, load_cases
     from .outputs import commit
+    from .paths import report_sidecar
     from .ride import RideOptions, load_inputs, run_check
     from .sweep import run_layouts
     from .terminal import shorten
@@ -419,11 +430,7 @@ def _cmd_compare(args: argparse.Namespace) -> int:
     for c in comparison.changes:
         if c.status == "same":
             continue
-        f = c.new or c.old
-        where = f"{f.s_worst_m:.1f} m" if f.s_worst_m is not None else f"{f.t_worst:.2f} s"
-        print(f"  {c.status:<6} {c.rule:<26} {c.seat:<12} {c.case:<14} at {where:<9} "
-              f"margin {c.old.margin if c.old else float('nan'):7.2f} -> "
-              f"{c.new.margin if c.new else float('nan'):7.2f}  {c.matched_by}")
+        print("  " + change_text(c))
     print(f"{'seat':<14}" + "".join(f"{a + ' ' + k:>16}" for a in ("gx", "gy", "gz")
                                     for k in ("min", "max")))
     by_seat: dict = {}
@@ -438,13 +445,14 @@ def _cmd_compare(args: argparse.Namespace) -> int:
     inputs = _inputs(args.old, args.new, args.train, old_ops_file,
                      new_ops_file if new_ops_file != old_ops_file else None,
                      cases_file) + list(limits.files)
-    command = _command_line()
+    command = _command_line(args)
     record: dict = {}  # rendered in memory, then written together (both or neither)
-    if args.json:
+    json_path = report_sidecar(args.pdf, args.json) if args.pdf else args.json
+    if json_path:  # --pdf always brings its JSON sidecar
         doc = comparison_document(comparison, limits, args.old, args.new, len(old.findings),
                                   len(new.findings), regressed, new_stalls,
                                   [c.name for c in cases], inputs, command)
-        record[args.json] = to_json(doc).encode("utf-8")
+        record[json_path] = to_json(doc).encode("utf-8")
     if args.pdf:
         from .report.comparison import comparison_pdf
 
@@ -472,6 +480,7 @@ def _cmd_compare(args: argparse.Namespace) -> int:
 
 
 def _cmd_demo(args: argparse.Namespace) -> int:
+    import shlex
     import time
     from pathlib import Path
 
@@ -499,17 +508,20 @@ def _cmd_demo(args: argparse.Namespace) -> int:
         line, train, ops = load_inputs(track, train_file, operation=ops_file)
         run = run_check(line, train, ops, limits, RideOptions())
         run.inputs = _inputs(track, train_file, ops_file) + list(limits.files)
-        command = (f"checker check {track} --train {train_file} --operation {ops_file} "
-                   f"--project 'Marrowvale Pleasure Gardens (fictional)' --layout-name "
-                   f"'Thistle Comet' --revision {rev} --pdf {out / f'thistle_comet_rev{rev}.pdf'}")
-        meta = ReportMeta(project="Marrowvale Pleasure Gardens (fictional demo park)",
-                          layout="Thistle Comet (fictional demo layout)",
-                          revision=f"{rev} ({what})", page_size=args.page_size,
-                          command=command, inputs=run.inputs, stall=run.stall,
+        project = "Marrowvale Pleasure Gardens (fictional demo park)"
+        layout = "Thistle Comet (fictional demo layout)"
+        pdf_path = out / f"thistle_comet_rev{rev}.pdf"
+        command = shlex.join(["checker", "check", str(track), "--train", str(train_file),
+                              "--operation", str(ops_file), "--project", project,
+                              "--layout-name", layout, "--revision", f"{rev} ({what})",
+                              "--pdf", str(pdf_path)])
+        meta = ReportMeta(project=project, layout=layout, revision=f"{rev} ({what})",
+                          page_size=args.page_size, command=command, inputs=run.inputs,
+                          stall=run.stall, seat_pages=args.seat_pages,
                           parameters=ride_parameters(run.ride) + [
+                              ("track length unit", "m"),
                               ("filter", limits.filter.describe())])
-        pdf, sidecar = write_report(run, out / f"thistle_comet_rev{rev}.pdf", meta, None,
-                                    {"stall": run.stall})
+        pdf, sidecar = write_report(run, pdf_path, meta, None, {"stall": run.stall})
         ev = run.evaluation
         print(f"  revision {rev} ({what}): {ev.verdict.upper()} with {len(ev.findings)} "
               f"findings -> {pdf}, {sidecar}")
@@ -604,6 +616,7 @@ def main(argv: Sequence[str] | None = None) -> int:
 
     parser = build_parser()
     args = parser.parse_args(argv)
+    args.argv = list(sys.argv[1:] if argv is None else argv)
     if args.command is None:
         parser.print_help()
         return EXIT_INPUT

@@ -158,9 +158,16 @@ def run_check(centerline: Centerline, train: Train, operation: Operation, limits
     result = run_ride(centerline, train, operation, options)
     evaluation = evaluate(result.histories, limits, case, keep_signals)
     evaluation.warnings[:0] = list(result.warnings)
-    stall = str(result.motion.stall) if result.motion.stall is not None else None
-    if stall:
-        evaluation.warnings.append(stall)
+    stall = None
+    if result.motion.stall is not None:  # a finding of every seat, not a warning
+        from .stalls import stall_findings
+
+        stall = str(result.motion.stall)
+        found = stall_findings(result.motion.stall, result.histories, result.geometry, case,
+                               train.spacing_m)
+        by_seat = {f.seat: f for f in found}
+        for seat in evaluation.seats:
+            seat.findings.append(by_seat[seat.seat])
     signals = {(h.seat, case): h for h in result.histories}
     return CheckRun(evaluation, result, signals, [], stall)
 

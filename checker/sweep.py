@@ -62,11 +62,12 @@ class Sweep:
         return list(best.values())
 
     def matrix(self) -> tuple[list[str], list[str], dict]:
-        """Seats, cases and {(seat, case): verdict}."""
+        """Seats, cases and {(seat, case): "pass", "fail" or "stall"}."""
         cases = [o.case for o in self.outcomes]
         seats = [s.seat for s in self.outcomes[0].evaluation.seats] if self.outcomes else []
-        cells = {(s.seat, o.case): s.verdict for o in self.outcomes
-                 for s in o.evaluation.seats}
+        cells = {(s.seat, o.case): ("stall" if any(f.kind == "stall" for f in s.findings)
+                                    else s.verdict)
+                 for o in self.outcomes for s in o.evaluation.seats}
         return seats, cases, cells
 
 
@@ -195,12 +196,13 @@ def sweep_check_run(sweep: Sweep, centerline: Centerline, train: Train, operatio
                     limits: LimitSet, options: RideOptions, cases: list[LoadCase]):
     """A CheckRun of the whole sweep for documents: every seat x case result, with signals
     recomputed for the governing (seat, case) pairs so that their figures can be drawn."""
+    from .events import group_findings
     from .ride import CheckRun
 
     by_name = {c.name: c for c in cases}
     wanted: dict[str, set[str]] = {}
-    for f in sweep.governing():
-        wanted.setdefault(f.case, set()).add(f.seat)
+    for event in group_findings(sweep.findings, train.length_m):  # every event's governor
+        wanted.setdefault(event.governing.case, set()).add(event.governing.seat)
     if not wanted and sweep.outcomes:  # all pass: the first case's most stressed seat
         wanted[sweep.outcomes[0].case] = set()
     full = {}

@@ -6,8 +6,10 @@ from dataclasses import replace
 from pathlib import Path
 
 from ..documents import evaluation_document, to_json
+from ..events import events_of_run
 from ..outputs import check_writable, commit
 from ..paths import report_sidecar
+from ..rules import sample_rate
 from ..terminal import shorten
 from .document import ReportMeta, build_html
 from .pdf import TemplatesOnlyFetcher, render_pdf
@@ -37,6 +39,25 @@ METHOD = [
 ]
 
 
+def recorded_method(rate_hz: float | None, filter_text: str) -> list[str]:
+    """Method text of a report on recorded data: what the tool did and did not do."""
+    rate = f"{rate_hz:g} Hz" if rate_hz else "the record's own rate"
+    return [
+        f"Data: instrument data as recorded (or exported) and given to the tool, sampled at "
+        f"{rate}, in rider axes as the file states them (x forward, y left, z up through the "
+        "spine; specific force in units of g0 = 9.80665 m/s^2). Time stamps were checked "
+        "to run forward at a fixed step; irregular or missing stamps are refused, never "
+        "resampled.",
+        f"Conditioning: {filter_text}, as the limit set states. The tool did not resample, "
+        "remove offsets or drift, rotate axes, correct the sensor's mounting or check its "
+        "calibration; no simulation and no load case is involved.",
+        "Rules: duration limits compare the exposure curve (for every duration, the highest "
+        "level sustained at least that long) with the limit curve; combined-axis limits test "
+        "each filtered sample against the envelope; onset limits compare the rate of change "
+        "of the filtered signal. Recorded data carry no station: places are times.",
+    ]
+
+
 def write_report(run, pdf_path: str | Path, meta: ReportMeta, json_path: str | Path | None,
                  json_extra: dict | None = None) -> tuple[Path, Path]:
     """Render the PDF and its JSON sidecar in memory, then write both together (both or
@@ -44,13 +65,19 @@ def write_report(run, pdf_path: str | Path, meta: ReportMeta, json_path: str | P
     pdf_path = check_writable(pdf_path)
     json_path = check_writable(report_sidecar(pdf_path, json_path))
     if not meta.method:
-        meta.method = list(METHOD)
-    doc = evaluation_document(run.evaluation, meta.inputs, meta.command, json_extra)
+        if meta.recorded:
+            first = next(iter(run.signals.values()), None)
+            rate = sample_rate(first.t) if first is not None and len(first.t) > 1 else None
+            meta.method = recorded_method(rate, run.evaluation.limits.filter.describe())
+        else:
+            meta.method = list(METHOD)
+    events = events_of_run(run.evaluation, run.ride)
+    doc = evaluation_document(run.evaluation, meta.inputs, meta.command, json_extra, events)
     shown = replace(meta, project=shorten(meta.project, DISPLAY_CHARS),
                     layout=shorten(meta.layout, DISPLAY_CHARS),
                     revision=shorten(meta.revision, DISPLAY_CHARS),
                     command=shorten(meta.command, 20 * DISPLAY_CHARS))
-    html, assets = build_html(run.evaluation, run.signals, run.ride, shown)
+    html, assets = build_html(run.evaluation, run.signals, run.ride, shown, events)
     pdf = render_pdf(html, TemplatesOnlyFetcher(assets=assets))
     commit({json_path: to_json(doc).encode("utf-8"), pdf_path: pdf})
     return pdf_path, json_path

@@ -8,7 +8,7 @@ import numpy as np
 
 from .. import __version__
 from ..compare import MATCH_DISTANCE_M, MATCH_FRACTION, Comparison
-from ..documents import CAUTION
+from ..documents import CAUTION, margin_text
 from . import figures
 from .document import PAGE_SIZES, _env, _fmt
 from .pdf import ASSET_SCHEME, TemplatesOnlyFetcher, render_pdf
@@ -55,12 +55,12 @@ def comparison_pdf(comparison: Comparison, focus: dict, meta: dict) -> bytes:
                        "limit_levels": np.append(rule.levels_g, rule.levels_g[-1]),
                        "step": rule.interpolation == "step"})
     exposure = asset(figures.exposure_curves(curves, "Exposure curves: new (solid), old "
-                                             "(dashed), limit (red)")) if curves else ""
+                                             "(dotted), limit (black, dashed)")) if curves else ""
     changes = [{"status": c.status, "rule": c.rule, "seat": c.seat, "case": c.case,
                 "old_s": _fmt(c.old.s_worst_m if c.old else None, 1),
                 "new_s": _fmt(c.new.s_worst_m if c.new else None, 1),
-                "old_margin": _fmt(c.old.margin if c.old else None),
-                "new_margin": _fmt(c.new.margin if c.new else None),
+                "old_margin": margin_text(c.old) if c.old else "new",
+                "new_margin": margin_text(c.new) if c.new else "gone",
                 "matched_by": c.matched_by} for c in comparison.changes]
     rows: dict[str, list] = {}
     for p in comparison.peaks:
