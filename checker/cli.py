@@ -351,9 +351,9 @@ def _cmd_check_history(args: argparse.Namespace) -> int:
 
 
 def _cmd_simulate(args: argparse.Namespace) -> int:
-    from .outputs import atomic_write_text
+    from .outputs import atomic_write_bytes
     from .paths import check_run_paths
-    from .ride import RideOptions, histories_frame, load_inputs, run_ride
+    from .ride import RideOptions, histories_csv, load_inputs, run_ride
 
     check_run_paths([args.track, args.train, args.operation], [("--output", args.output)])
     line, train, ops = load_inputs(args.track, args.train, ideal=args.ideal,
@@ -363,9 +363,9 @@ def _cmd_simulate(args: argparse.Namespace) -> int:
                                                     smoothing_m=args.smoothing))
     for warning in result.warnings:
         print(f"warning: {warning}", file=sys.stderr)
-    frame = histories_frame(result.histories)
-    atomic_write_text(args.output, frame.to_csv(index=False, float_format="%.6g"))
-    print(f"wrote {args.output}: {len(result.histories)} seats, {len(frame)} rows, "
+    atomic_write_bytes(args.output, histories_csv(result.histories))
+    rows = sum(len(h.t) for h in result.histories)
+    print(f"wrote {args.output}: {len(result.histories)} seats, {rows} rows, "
           f"ride time {result.motion.duration_s:.1f} s, {result.motion.end_reason}")
     if result.geometry.smoothing is not None:
         sm = result.geometry.smoothing

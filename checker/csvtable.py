@@ -1,16 +1,34 @@
-"""Numeric CSV tables: parse, then check every cell, naming the row and column of a bad one."""
+"""Numeric CSV tables: parse first (pandas' C parser), then check every cell with vectorized
+tests, naming the row and column of the first bad one.
+
+The file's line structure (blank and ``#`` comment lines, the header, the number of values
+on each line) is found with numpy on the raw bytes, in blocks; the data lines are then parsed
+in one call to :func:`pandas.read_csv`. A numeric column that pandas could not read as numbers
+is classified cell by cell with a strict pattern (ASCII digits only: no ``1_000``, no
+full-width digits, no hexadecimal), and the first bad cell in file order is reported.
+"""
 
 from __future__ import annotations
 
-import math
+import csv
+import io
+import re
 from collections.abc import Iterable
 from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
+import pandas as pd
 
 from .errors import InputError
-from .textfiles import read_text, suggest
+from .textfiles import read_checked_bytes, suggest
+
+# A plain decimal number: optional sign, ASCII digits with an optional point, optional
+# exponent; spaces around it are allowed (the cell is stripped).
+NUMBER = r"\s*[+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?\s*"
+NOT_FINITE = r"\s*[+-]?(?:nan|inf|infinity)\s*"
+BLOCK_BYTES = 1 << 23  # the byte scans run in blocks of 8 MiB (bounded temporaries)
+NEWLINE, COMMA, HASH, CR = 10, 44, 35, 13
 
 
 @dataclass(frozen=True)
@@ -20,13 +38,72 @@ class NumericTable:
     path: Path
     columns: dict[str, np.ndarray]
     lines: np.ndarray  # 1-based line numbers in the file, one per data row
-    text_columns: dict[str, list[str]]
+    text_columns: dict[str, np.ndarray]  # stripped strings (object arrays)
 
     def __len__(self) -> int:
         return len(self.lines)
 
     def has(self, name: str) -> bool:
         return name in self.columns or name in self.text_columns
+
+
+@dataclass(frozen=True)
+class _Lines:
+    """Line structure of a file: start and end (excluding the line break) of every line,
+    whether it holds data (not blank, not a comment) and its number of commas."""
+
+    start: np.ndarray
+    end: np.ndarray
+    data: np.ndarray  # indices of the lines holding data (the header first)
+    commas: np.ndarray  # commas on each data line
+
+
+def _scan_lines(raw: bytes) -> _Lines:
+    b = np.frombuffer(raw, dtype=np.uint8)
+    n = len(b)
+    breaks = np.concatenate([np.flatnonzero(b[a:a + BLOCK_BYTES] == NEWLINE) + a
+                             for a in range(0, n, BLOCK_BYTES)] or [np.zeros(0, np.intp)])
+    start = np.concatenate([[0], breaks + 1])
+    end = np.append(breaks, n)
+    if start[-1] >= n:  # the file ends with a line break: no last line
+        start, end = start[:-1], end[:-1]
+    cr = (end > start) & (b[np.maximum(end - 1, 0)] == CR)
+    end = end - cr
+    first = b[np.minimum(start, max(n - 1, 0))] if n else np.zeros(0, np.uint8)
+    data = (end > start) & (first != HASH)
+    # a line starting with blank space (as str.strip sees it) or a non-ASCII byte: rare,
+    # decided line by line
+    odd = (first == 32) | ((first >= 9) & (first <= 13)) | ((first >= 28) & (first <= 31)) \
+        | (first >= 128)
+    for i in np.flatnonzero(data & odd):
+        text = raw[start[i]:end[i]].decode("utf-8", errors="replace").strip()
+        data[i] = bool(text) and not text.startswith("#")
+    rows = np.flatnonzero(data)
+    commas = np.zeros(len(rows), dtype=np.int64)
+    line_start, line_end = start[rows], end[rows]
+    i = 0
+    while i < len(rows):  # commas per data line, block by block of whole lines
+        j = max(i + 1, int(np.searchsorted(line_start, line_start[i] + BLOCK_BYTES)))
+        lo, hi = int(line_start[i]), int(line_end[j - 1])
+        bounds = np.empty(2 * (j - i), dtype=np.intp)  # [start, end) of each line
+        bounds[0::2] = line_start[i:j] - lo
+        bounds[1::2] = line_end[i:j] - lo
+        # sums over [start, end) of every line (and over the breaks between, dropped); the
+        # last line runs to the end of the slice
+        is_comma = (b[lo:hi] == COMMA).view(np.uint8)
+        commas[i:j] = np.add.reduceat(is_comma, bounds[:-1], dtype=np.int32)[0::2]
+        i = j
+    return _Lines(start, end, rows, commas)
+
+
+def _cell(raw: bytes, lines: _Lines, line: int, column: int) -> str:
+    text = raw[lines.start[line]:lines.end[line]].decode("utf-8", errors="replace")
+    fields = [f.strip() for f in text.strip().split(",")]
+    return fields[column] if column < len(fields) else ""
+
+
+def _shown(cell: str) -> str:
+    return cell if len(cell) <= 20 else cell[:17] + "..."
 
 
 def read_numeric_csv(
@@ -39,31 +116,59 @@ def read_numeric_csv(
     """Read a comma-separated table with a header row.
 
     Lines starting with ``#`` and blank lines are skipped. Every column must be known, appear
-    once, and every cell of a numeric column must be a finite number. Columns in ``text`` are
-    kept as strings.
+    once, and every cell of a numeric column must be a finite plain decimal number. Columns in
+    ``text`` are kept as stripped strings.
     """
     path = Path(path)
     required = list(required)
     known = required + list(optional) + list(text)
-    content = read_text(path)
-    header: list[str] | None = None
-    header_line = 0
-    rows: list[list[str]] = []
-    lines: list[int] = []
-    # rows end at '\n' only: a form feed or U+2028 inside a comment does not shift row numbers
-    for number, line in enumerate(content.split("\n"), start=1):
-        stripped = line.strip()
-        if not stripped or stripped.startswith("#"):
-            continue
-        fields = [f.strip() for f in stripped.split(",")]
-        if header is None:
-            header, header_line = fields, number
-            continue
-        rows.append(fields)
-        lines.append(number)
-    if header is None:
+    raw = read_checked_bytes(path)
+    if b"\r" in raw and raw.count(b"\r") != raw.count(b"\r\n"):
+        # rows end at '\n' only; a lone '\r' is blank space inside its row (the parser
+        # would end a row there)
+        raw = re.sub(rb"\r(?!\n)", b" ", raw)
+    lines = _scan_lines(raw)
+    if len(lines.data) == 0:
         raise InputError(path, f"is empty: no header row found for the {what}",
                          f"the first line must name the columns: {', '.join(required)}")
+    head = int(lines.data[0])
+    header_line = head + 1
+    header = [f.strip() for f in raw[lines.start[head]:lines.end[head]].decode().strip()
+              .split(",")]
+    _check_header(path, header, header_line, required, known)
+    rows = lines.data[1:]
+    counts = lines.commas[1:] + 1
+    if len(rows) == 0:
+        raise InputError(path, f"has a header but no data rows for the {what}",
+                         "add the samples below the header", row=header_line)
+    wrong = np.flatnonzero(counts != len(header))
+    parse_rows = int(wrong[0]) if wrong.size else len(rows)
+    text_set = set(text)
+    frame = _parse(raw, lines, rows, parse_rows, header, text_set)
+    bad = _first_bad_cell(frame, header, text_set)
+    if bad is not None:
+        row, column, finite_problem = bad
+        cell = _cell(raw, lines, int(rows[row]), column)
+        if finite_problem:
+            raise InputError(path, f"value '{_shown(cell)}' is not finite",
+                             "replace NaN or infinite values with real numbers",
+                             row=int(rows[row]) + 1, column=header[column])
+        raise InputError(path, f"'{_shown(cell)}' is not a number",
+                         "write a plain decimal number such as 12.5",
+                         row=int(rows[row]) + 1, column=header[column])
+    if wrong.size:
+        k = int(wrong[0])
+        raise InputError(path, f"has {int(counts[k])} values where the header has "
+                         f"{len(header)}", "check for decimal commas (use '.') or a missing value",
+                         row=int(rows[k]) + 1)
+    columns = {name: frame[name].to_numpy(dtype=float) for name in header
+               if name not in text_set}
+    strings = {name: _stripped(frame[name]) for name in header if name in text_set}
+    return NumericTable(path, columns, rows + 1, strings)
+
+
+def _check_header(path: Path, header: list[str], header_line: int, required: list[str],
+                  known: list[str]) -> None:
     if len(header) == 1 and any(sep in header[0] for sep in (";", "\t", "|")):
         raise InputError(path, "is not comma-separated (found ';', tab or '|' in the header)",
                          "use commas between columns and '.' as the decimal point",
@@ -85,33 +190,63 @@ def read_numeric_csv(
             raise InputError(path, f"missing required column '{name}'",
                              f"the header must contain: {', '.join(required)}",
                              row=header_line, column=name)
-    if not rows:
-        raise InputError(path, f"has a header but no data rows for the {what}",
-                         "add the samples below the header", row=header_line)
-    text_set = set(text)
-    values = {name: np.empty(len(rows)) for name in header if name not in text_set}
-    strings: dict[str, list[str]] = {name: [] for name in header if name in text_set}
-    for i, (fields, number) in enumerate(zip(rows, lines)):
-        if len(fields) != len(header):
-            hint = "check for decimal commas (use '.') or a missing value"
-            raise InputError(path, f"has {len(fields)} values where the header has "
-                             f"{len(header)}", hint, row=number)
-        for name, cell in zip(header, fields):
-            if name in text_set:
-                strings[name].append(cell)
-                continue
-            try:
-                if not cell.isascii() or "_" in cell:  # float() takes '1_000' and '１２'
-                    raise ValueError(cell)
-                value = float(cell)
-            except ValueError:
-                shown = cell if len(cell) <= 20 else cell[:17] + "..."
-                raise InputError(path, f"'{shown}' is not a number",
-                                 "write a plain decimal number such as 12.5",
-                                 row=number, column=name) from None
-            if not math.isfinite(value):
-                raise InputError(path, f"value '{cell}' is not finite",
-                                 "replace NaN or infinite values with real numbers",
-                                 row=number, column=name)
-            values[name][i] = value
-    return NumericTable(path, values, np.asarray(lines), strings)
+
+
+def _parse(raw: bytes, lines: _Lines, rows: np.ndarray, count: int, header: list[str],
+           text_set: set[str]) -> pd.DataFrame:
+    """The first ``count`` data rows, parsed by pandas' C parser (nothing converted to NaN:
+    a cell that is not a number leaves its column as strings)."""
+    if count == 0:
+        return pd.DataFrame({name: np.zeros(0) for name in header})
+    first, last = int(rows[0]), int(rows[count - 1])
+    if last - first == count - 1:  # no blank or comment line among the data (the usual case)
+        skip = first
+    else:
+        between = np.ones(last - first + 1, dtype=bool)
+        between[rows[:count] - first] = False
+        skip = list(range(first)) + (np.flatnonzero(between) + first).tolist()
+    return pd.read_csv(io.BytesIO(raw), header=None, names=header, skiprows=skip, nrows=count,
+                       na_filter=False, quoting=csv.QUOTE_NONE, engine="c",
+                       skip_blank_lines=False, index_col=False,
+                       dtype={name: "category" for name in text_set if name in header})
+
+
+def _first_bad_cell(frame: pd.DataFrame, header: list[str],
+                    text_set: set[str]) -> tuple[int, int, bool] | None:
+    """(data row, column position, is a non-finite number) of the first bad cell in file
+    order (row by row, left to right), or None."""
+    best = None
+    for col, name in enumerate(header):
+        if name in text_set:
+            continue
+        series = frame[name]
+        if series.dtype.kind in "fiu":
+            values = series.to_numpy(dtype=float)
+            bad = np.flatnonzero(~np.isfinite(values))
+            found = (int(bad[0]), col, True) if bad.size else None
+        else:
+            cells = series.astype(str)
+            good = cells.str.fullmatch(NUMBER).to_numpy(dtype=bool)
+            bad = np.flatnonzero(~good)
+            if bad.size == 0:  # numbers only, read as text by the parser: convert here
+                frame[name] = pd.to_numeric(cells.str.strip(), errors="coerce")
+                values = frame[name].to_numpy(dtype=float)
+                bad = np.flatnonzero(~np.isfinite(values))
+                found = (int(bad[0]), col, False) if bad.size else None
+            else:
+                row = int(bad[0])
+                nonfinite = bool(pd.Series([cells.iloc[row]]).str.fullmatch(
+                    NOT_FINITE, case=False).iloc[0])
+                found = (row, col, nonfinite)
+        if found is not None and (best is None or found[:2] < best[:2]):
+            best = found
+    return best
+
+
+def _stripped(series: pd.Series) -> np.ndarray:
+    """Stripped strings of a text column (stripping the few categories, not every cell)."""
+    if isinstance(series.dtype, pd.CategoricalDtype):
+        names = np.asarray([str(c).strip() for c in series.cat.categories], dtype=object)
+        codes = series.cat.codes.to_numpy()
+        return names[codes] if len(names) else np.full(len(codes), "", dtype=object)
+    return np.asarray([str(c).strip() for c in series], dtype=object)

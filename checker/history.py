@@ -4,7 +4,7 @@ Columns ``t`` [s], ``gx``, ``gy``, ``gz`` (in g0 by default, or m/s^2 with ``uni
 optional ``seat`` (text; rows of one seat in time order); or any logger layout described by
 an instrument file (:mod:`checker.instrument`: column names, units, mounting, seats).
 
-Time stamps must run forward. A gap longer than the instrument's ``max_gap_s`` is never
+Time stamps must run forward. A gap longer than the instrument's ``max_gap_s`` (else GAP_STEPS median steps) is never
 bridged: the record is split there and each part is checked on its own. Within a part the
 step must be regular (within STEP_TOLERANCE of the median); otherwise the rows are named and
 the record refused, unless a re-sampling rate is given: then each part is re-sampled onto a
@@ -23,6 +23,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
+import pandas as pd
 from scipy import signal
 
 from .constants import G0
@@ -32,6 +33,7 @@ from .instrument import Instrument
 
 STEP_TOLERANCE = 0.01  # a step may differ from the median step by 1 %
 MIN_SAMPLES = 8
+GAP_STEPS = 10  # without a stated max_gap_s, a step this many times the median is a gap
 ANTI_ALIAS_FRACTION = 0.8  # anti-alias corner as a fraction of the new Nyquist frequency
 REST_WINDOW_S = 1.0
 REST_STD_G = 0.1  # a stretch quieter than this on every axis can be at rest
@@ -109,11 +111,13 @@ def load_record(path: str | Path, units: str = "g", instrument: Instrument | Non
                              "sort the rows by time; remove repeated stamps",
                              row=int(lines[j]), column=instrument.time_column)
         notes += _zero_offset_note(name, t, g, instrument.zero_tolerance_g)
-        cuts = np.flatnonzero(np.diff(t) > instrument.max_gap_s) + 1
+        gap_limit = (instrument.max_gap_s if instrument.max_gap_s is not None
+                     else GAP_STEPS * float(np.median(np.diff(t))))
+        cuts = np.flatnonzero(np.diff(t) > gap_limit) + 1
         parts = np.split(np.arange(len(t)), cuts)
         if cuts.size:
             notes.append(f"seat '{name}': {cuts.size} gap(s) longer than "
-                         f"{instrument.max_gap_s:g} s (longest {np.diff(t).max():.3g} s at "
+                         f"{gap_limit:.3g} s (longest {np.diff(t).max():.3g} s at "
                          f"t = {t[cuts[np.argmax(np.diff(t)[cuts - 1])] - 1]:.3f} s); the "
                          f"record is split into {len(parts)} parts checked separately, never "
                          "bridged")
@@ -152,17 +156,26 @@ def _streams(path: Path, table, instrument: Instrument) -> list[tuple[str, np.nd
         return [(name, np.arange(len(table))) for name, _ in instrument.groups]
     if instrument.seat_column is None:
         return [(instrument.groups[0][0], np.arange(len(table)))]
-    seats = table.text_columns[instrument.seat_column]
-    order: dict[str, list[int]] = {}
-    for i, name in enumerate(seats):
-        if name == "" or len(name) > MAX_SEAT_NAME_CHARS:
-            problem = "seat name is empty" if not name else f"seat name is {len(name)} " \
-                "characters long"
-            raise InputError(path, problem, "name the seat on every row, in at most "
-                             f"{MAX_SEAT_NAME_CHARS} characters", row=int(table.lines[i]),
-                             column=instrument.seat_column)
-        order.setdefault(name, []).append(i)
-    return [(name, np.asarray(rows)) for name, rows in order.items()]
+    return _seat_rows(table, path, instrument.seat_column)
+
+
+def _seat_rows(table, path: Path, column: str) -> list[tuple[str, np.ndarray]]:
+    """(seat name, row indices in file order) for every seat, in order of first appearance."""
+    names = table.text_columns[column]
+    codes, uniques = pd.factorize(names)
+    lengths = np.fromiter((len(name) for name in uniques), dtype=np.intp, count=len(uniques))
+    bad_names = np.flatnonzero((lengths == 0) | (lengths > MAX_SEAT_NAME_CHARS))
+    if bad_names.size:
+        first = int(np.flatnonzero(np.isin(codes, bad_names))[0])
+        name = names[first]
+        problem = "seat name is empty" if not name else f"seat name is {len(name)} " \
+            "characters long"
+        raise InputError(path, problem, "name the seat on every row, in at most "
+                         f"{MAX_SEAT_NAME_CHARS} characters", row=int(table.lines[first]),
+                         column=column)
+    order = np.argsort(codes, kind="stable")
+    bounds = np.searchsorted(codes[order], np.arange(len(uniques) + 1))
+    return [(str(name), order[bounds[k]:bounds[k + 1]]) for k, name in enumerate(uniques)]
 
 
 def _regular(t: np.ndarray) -> bool:

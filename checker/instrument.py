@@ -9,7 +9,8 @@ longest gap that may be re-sampled across and the zero-offset tolerance::
     [time]
     column = "stamp"
     unit = "ms"                    # "s" or "ms"
-    max_gap_s = 0.1                # longer gaps split the record (never bridged)
+    max_gap_s = 0.1                # longer gaps split the record (never bridged);
+                                   # default: ten times the median step
 
     [acceleration]
     columns = ["ax", "ay", "az"]   # logger x, y, z
@@ -41,7 +42,6 @@ from .errors import InputError
 from .tomlfields import Fields, load_toml
 
 AXES = ("x", "y", "z")
-DEFAULT_MAX_GAP_S = 0.1
 DEFAULT_ZERO_TOLERANCE_G = 0.05
 
 
@@ -57,7 +57,7 @@ class Instrument:
     mounting: tuple[tuple[int, float], ...] = ((0, 1.0), (1, 1.0), (2, 1.0))
     seat_column: str | None = None
     ignore: tuple[str, ...] = ()
-    max_gap_s: float = DEFAULT_MAX_GAP_S
+    max_gap_s: float | None = None  # None: ten median steps (checker.history.GAP_STEPS)
     zero_tolerance_g: float = DEFAULT_ZERO_TOLERANCE_G
     source: str = "<default>"
 
@@ -72,9 +72,11 @@ class Instrument:
         names = ["x", "y", "z"]
         mapping = ", ".join(f"logger {names[i]} = rider {'-' if sign < 0 else '+'}{names[a]}"
                             for i, (a, sign) in enumerate(self.mounting))
+        gap = (f"{self.max_gap_s:g} s" if self.max_gap_s is not None
+               else "ten median steps")
         return (f"instrument {self.source}: time '{self.time_column}' "
-                f"({'ms' if self.time_scale == 1e-3 else 's'}), {mapping}; gaps over "
-                f"{self.max_gap_s:g} s split the record")
+                f"({'ms' if self.time_scale == 1e-3 else 's'}), {mapping}; gaps over {gap} "
+                "split the record")
 
 
 def _axis(fields: Fields, name: str) -> tuple[int, float]:
@@ -93,7 +95,7 @@ def load_instrument(path: str | Path) -> Instrument:
     time = doc.sub("time")
     time_column = time.text("column", "t")
     unit = time.text("unit", "s", choices=("s", "ms"))
-    max_gap = time.number("max_gap_s", DEFAULT_MAX_GAP_S, positive=True, maximum=3600.0)
+    max_gap = time.optional_number("max_gap_s", positive=True, maximum=3600.0)
     accel = doc.sub("acceleration")
     accel_unit = accel.text("unit", "g", choices=("g", "m/s2"))
     seat_tables = doc.table_list("seats")

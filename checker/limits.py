@@ -154,7 +154,9 @@ def contains(vertices: np.ndarray, points: np.ndarray) -> np.ndarray:
     out = np.flatnonzero(~inside)
     if out.size:  # points reported outside but on the boundary count as inside
         tol = 1e-9 * max(1.0, float(np.abs(vertices).max()))
-        inside[out] = _boundary_distance(vertices, points[out]) <= tol
+        for a in range(0, out.size, 4096):  # in chunks: the temporaries are (chunk, vertices)
+            part = out[a:a + 4096]
+            inside[part] = _boundary_distance(vertices, points[part]) <= tol
     return inside
 
 

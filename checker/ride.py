@@ -55,17 +55,27 @@ class RideResult:
     warnings: tuple[str, ...] = ()  # plausibility warnings (the run went on)
 
 
-def run_ride(centerline: Centerline, train: Train, operation: Operation,
-             options: RideOptions = RideOptions()) -> RideResult:
-    """Geometry, dynamics and every seat's history for one layout and one train."""
+def layout_geometry(centerline: Centerline, options: RideOptions = RideOptions()
+                    ) -> TrackGeometry:
+    """The track geometry of a layout (depends only on the centerline, the smoothing and the
+    station step: sweeps build it once for every case)."""
     polyline_m = float(np.linalg.norm(np.diff(centerline.points, axis=0), axis=1).sum())
     if polyline_m < MIN_TRACK_M:
         raise InputError(centerline.source, f"the track is only {polyline_m:.3g} m long",
                          "lengths are read in metres (or feet with --units ft): check the "
                          "file's units")
-    geometry = build_geometry(centerline.points, centerline.roll_deg, centerline.up,
-                              smoothing_m=smoothing_for(centerline, options.smoothing_m),
-                              step_m=options.step_m)
+    return build_geometry(centerline.points, centerline.roll_deg, centerline.up,
+                          smoothing_m=smoothing_for(centerline, options.smoothing_m),
+                          step_m=options.step_m)
+
+
+def run_ride(centerline: Centerline, train: Train, operation: Operation,
+             options: RideOptions = RideOptions(),
+             geometry: TrackGeometry | None = None) -> RideResult:
+    """Geometry, dynamics and every seat's history for one layout and one train.
+    ``geometry``: the layout's geometry when already built (:func:`layout_geometry`)."""
+    if geometry is None:
+        geometry = layout_geometry(centerline, options)
     if train.length_m >= geometry.length:
         raise InputError(centerline.source, f"the track ({geometry.length:.1f} m) is shorter "
                          f"than the train ({train.length_m:.1f} m from first to last car)",
@@ -91,6 +101,34 @@ def histories_frame(histories: list[SeatHistory]) -> pd.DataFrame:
             "x": h.position[:, 0], "y": h.position[:, 1], "z": h.position[:, 2],
         }))
     return pd.concat(parts, ignore_index=True)[HISTORY_COLUMNS]
+
+
+# decimals written per column of a simulated history: time 1 us, lengths and speed 0.1 mm
+# (per s), specific force 1e-6 g0
+HISTORY_DECIMALS = {"car": 0, "t": 6, "s": 4, "v": 4, "gx": 6, "gy": 6, "gz": 6, "x": 4,
+                    "y": 4, "z": 4}
+
+
+def histories_csv(histories: list[SeatHistory]) -> bytes:
+    """Every seat's history as CSV (columns :data:`HISTORY_COLUMNS`) at fixed decimals,
+    written by a vectorized formatter (:func:`checker.csvformat.fixed_csv`)."""
+    import numpy as np
+
+    from .csvformat import fixed_csv
+
+    def joined(get) -> np.ndarray:
+        return np.concatenate([np.asarray(get(h)) for h in histories])
+
+    values = {
+        "seat": np.repeat(np.array([h.seat.encode("utf-8") for h in histories], dtype=bytes),
+                          [len(h.t) for h in histories]),
+        "car": joined(lambda h: np.full(len(h.t), h.car, dtype=float)),
+        "t": joined(lambda h: h.t), "s": joined(lambda h: h.s), "v": joined(lambda h: h.v),
+        **{name: joined(lambda h, i=i: h.g[:, i]) for i, name in enumerate(("gx", "gy", "gz"))},
+        **{name: joined(lambda h, i=i: h.position[:, i]) for i, name in enumerate("xyz")},
+    }
+    return fixed_csv(HISTORY_COLUMNS, [(values[name], HISTORY_DECIMALS.get(name))
+                                       for name in HISTORY_COLUMNS])
 
 
 def load_inputs(track: str | Path, train: str | Path | None = None, *, ideal: bool = False,
@@ -149,13 +187,13 @@ class CheckRun:
 
 def run_check(centerline: Centerline, train: Train, operation: Operation, limits,
               options: RideOptions = RideOptions(), case: str = "nominal",
-              keep_signals: bool = True) -> CheckRun:
+              keep_signals: bool = True, geometry: TrackGeometry | None = None) -> CheckRun:
     """Simulate and evaluate every seat: the one entry for `check`, sweeps and the API.
-    Sweeps pass ``keep_signals=False`` to skip what only documents need (exposure curves,
-    filtered signals)."""
+    Sweeps pass ``keep_signals=False`` to skip what only documents need (filtered signals)
+    and the layout's ``geometry`` built once."""
     from .rules import evaluate
 
-    result = run_ride(centerline, train, operation, options)
+    result = run_ride(centerline, train, operation, options, geometry)
     evaluation = evaluate(result.histories, limits, case, keep_signals)
     evaluation.warnings[:0] = list(result.warnings)
     stall = None

@@ -1,13 +1,22 @@
 """Rule engine: exposure curves, exceedance events and the verdict.
 
-Duration rules compare the exposure curve of a filtered signal with the limit curve. The
-exposure curve E(tau) is, for every duration tau, the highest level the signal stays at or
-above continuously for at least tau. For each sample i, let W_i be the longest window around
-it in which every sample is >= x_i (bounded by the nearest smaller samples, as in the
-largest-rectangle-under-a-histogram problem); then E(k dt) = max{x_i : |W_i| >= k}. The
-windows come from sparse-table range minima and binary lifting, fully vectorized:
-O(N log N) array work with no Python loop over samples (an O(N) monotonic stack gives the
-same windows; the vectorized form is much faster in numpy).
+Duration rules compare how long a filtered signal stays above a level with the limit curve.
+For each sample i, let W_i be the longest window around it in which every sample is >= x_i
+(bounded by the nearest smaller samples, as in the largest-rectangle-under-a-histogram
+problem). A sample above the limit allowed for |W_i| is an exceedance. Only samples above a
+rule's lowest allowed level (its floor) can exceed it, so the windows are computed for those
+samples alone (sparse-table range minima with binary lifting, vectorized), bounded by one
+barrier sample after each run: on a ride that is mostly below the floors this is a few passes
+over memory.
+
+The exposure curve E(tau), the highest level the signal stays at or above for at least tau,
+is drawn by the reports, not needed for the verdict: it is computed only for the seats a
+report draws and only at the durations it plots, each in O(N) as the largest sliding-window
+minimum (:func:`exposure_curve` with ``durations_s``).
+
+Combined envelopes test every sample first against the largest quadrant-wise ellipse around
+the rest point that fits inside the polygon (one multiply-add per sample); only the samples
+outside it go through the exact point-in-polygon test.
 """
 
 from __future__ import annotations
@@ -22,6 +31,8 @@ from .limits import AXES, REST, CombinedEnvelope, DurationLimit, LimitSet, conta
 from .limits import outside_fraction as _outside_fraction
 
 AXIS_INDEX = {axis: i for i, axis in enumerate(AXES)}
+EXPOSURE_POINTS = 160  # durations drawn per exposure curve (log-spaced)
+BLOCK = 1 << 15  # samples per block of the rule scan: its temporaries stay in cache
 
 
 MARGIN_UNITS = {"duration": "g", "onset": "g/s", "combined": "%", "stall": "m/s"}
@@ -106,7 +117,6 @@ class SeatResult:
     case: str
     worst: dict  # axis -> (min, max) of the filtered signal [g0]
     findings: list[Finding] = field(default_factory=list)
-    exposures: dict = field(default_factory=dict)  # rule name -> Exposure (signed levels)
     filtered: np.ndarray | None = None
     t: np.ndarray | None = None
 
@@ -131,13 +141,16 @@ class Evaluation:
         return "fail" if any(s.findings for s in self.seats) else "pass"
 
 
-def sustained_windows(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+def sustained_windows(x: np.ndarray,
+                      widest: int | None = None) -> tuple[np.ndarray, np.ndarray]:
     """For each sample, the first and last index of the longest window around it in which
-    every sample is >= it."""
+    every sample is >= it. ``widest``: a bound on any window's width when known (fewer
+    sparse-table levels), default the length."""
     x = np.asarray(x, dtype=float)
     n = len(x)
+    bound = n if widest is None else min(n, max(int(widest), 1))
     table = [x]
-    while (1 << len(table)) <= n:
+    while (1 << len(table)) <= bound:
         prev, half = table[-1], 1 << (len(table) - 1)
         table.append(np.minimum(prev[:-half], prev[half:]))
 
@@ -158,14 +171,78 @@ def sustained_windows(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     return left, right
 
 
-def exposure_curve(x: np.ndarray, dt: float) -> Exposure:
-    """Highest level sustained for at least k samples, k = 1..N; duration k * dt [s]."""
-    left, right = sustained_windows(x)
-    width = right - left + 1
-    best = np.full(len(x) + 1, -np.inf)
-    np.maximum.at(best, width, x)
-    levels = np.maximum.accumulate(best[::-1])[::-1][1:]
-    return Exposure(dt * np.arange(1, len(x) + 1), levels)
+def exposure_durations(count_samples: int, dt: float,
+                       points: int = EXPOSURE_POINTS) -> np.ndarray:
+    """Durations [s] at which a figure draws an exposure curve: up to ``points`` window
+    lengths spaced evenly in log from one sample to the whole signal."""
+    if count_samples < 1:
+        return np.zeros(0)
+    k = np.unique(np.rint(np.geomspace(1, count_samples, min(count_samples, points))))
+    return k * dt
+
+
+def exposure_curve(x: np.ndarray, dt: float, durations_s: np.ndarray | None = None) -> Exposure:
+    """Highest level [g0] sustained for at least each duration [s].
+
+    Without ``durations_s``: the whole curve, for k = 1..N samples (duration k * dt), from
+    the sustained windows of every sample. With ``durations_s``: the curve at those
+    durations only (rounded to whole samples, at least one), each in O(N) as the largest
+    sliding-window minimum, E(k) = max_i min(x[i:i + k]); a duration longer than the signal
+    gets -inf.
+
+    References
+    ----------
+    van Herk, "A fast algorithm for local minimum and maximum filters on rectangular and
+    octagonal kernels", Pattern Recognition Letters 13, 1992; Gil and Werman, "Computing 2-D
+    min, median, and max filters", IEEE PAMI 15, 1993 (through
+    ``scipy.ndimage.minimum_filter1d``).
+    """
+    x = np.asarray(x, dtype=float)
+    n = len(x)
+    if durations_s is None:
+        left, right = sustained_windows(x)
+        width = right - left + 1
+        best = np.full(n + 1, -np.inf)
+        np.maximum.at(best, width, x)
+        levels = np.maximum.accumulate(best[::-1])[::-1][1:]
+        return Exposure(dt * np.arange(1, n + 1), levels)
+    from scipy.ndimage import minimum_filter1d  # only figures need it: keep start-up lean
+
+    durations = np.asarray(durations_s, dtype=float)
+    samples = np.maximum(1, np.rint(durations / dt)).astype(np.intp)
+    levels = np.full(len(samples), -np.inf)
+    width, minima = 1, x  # minima[i] = min(x[i:i + width])
+    for j in np.argsort(samples, kind="stable"):
+        k = int(samples[j])
+        if k > n:
+            continue
+        if k > 2 * width:  # a long jump: one van Herk/Gil-Werman pass
+            minima = minimum_filter1d(x, k, mode="constant", cval=-np.inf,
+                                      origin=-(k // 2))[: n - k + 1]  # starts at i
+            width = k
+        elif k > width:  # two overlapping windows of the previous width cover one of k
+            minima = np.minimum(minima[: n - k + 1], minima[k - width: n - width + 1])
+            width = k
+        levels[j] = minima.max()
+    return Exposure(durations, levels)
+
+
+def seat_exposures(result: SeatResult, limits: LimitSet,
+                   durations_s: np.ndarray | None = None) -> dict[str, Exposure]:
+    """Exposure curves (signed levels [g0]) of a seat's filtered signal for every duration
+    rule, at ``durations_s`` [s] (default: the durations a figure draws). Needs a result
+    evaluated with ``keep_signals``; an empty dict otherwise."""
+    if result.filtered is None or result.t is None or len(result.t) < 2:
+        return {}
+    dt = 1.0 / sample_rate(result.t)
+    if durations_s is None:
+        durations_s = exposure_durations(len(result.t), dt)
+    out = {}
+    for rule in limits.duration:
+        x = rule.sign * result.filtered[:, AXIS_INDEX[rule.axis]]
+        curve = exposure_curve(x, dt, durations_s)
+        out[rule.name] = Exposure(curve.durations_s, rule.sign * curve.levels_g)
+    return out
 
 
 def _runs(mask: np.ndarray) -> list[tuple[int, int]]:
@@ -176,20 +253,15 @@ def _runs(mask: np.ndarray) -> list[tuple[int, int]]:
 
 def _merge(left: np.ndarray, right: np.ndarray) -> list[tuple[int, int, np.ndarray]]:
     """Merge overlapping or touching windows; return groups with the member indices."""
+    if len(left) == 0:
+        return []
     order = np.argsort(left, kind="stable")
-    groups = []
-    start, end, members = None, None, []
-    for i in order:
-        if start is None or left[i] > end + 1:
-            if start is not None:
-                groups.append((start, end, np.asarray(members)))
-            start, end, members = int(left[i]), int(right[i]), [i]
-        else:
-            end = max(end, int(right[i]))
-            members.append(i)
-    if start is not None:
-        groups.append((start, end, np.asarray(members)))
-    return groups
+    lo, hi = left[order], right[order]
+    reach = np.maximum.accumulate(hi)
+    new = np.concatenate([[True], lo[1:] > reach[:-1] + 1])
+    starts = np.flatnonzero(new)
+    ends = np.append(starts[1:], len(order))
+    return [(int(lo[a]), int(reach[b - 1]), order[a:b]) for a, b in zip(starts, ends)]
 
 
 class _Context:
@@ -219,37 +291,55 @@ class _Context:
         return out
 
 
-def windows_above(x: np.ndarray, floor: float) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Sustained windows of the samples above ``floor`` only: (sample index, first, last).
+def _kept_in_block(x: np.ndarray, floor: float, sign: float,
+                   before: bool) -> tuple[np.ndarray, np.ndarray]:
+    """Indices (in ``x``) of the samples of ``sign * x`` above ``floor`` and of the barrier
+    sample after each of their runs, with a flag that is True for the samples above.
+    ``before``: whether the sample just before ``x`` is above (then x[0] is a barrier)."""
+    above = x > floor if sign > 0 else x < -floor
+    keep = above.copy()
+    keep[1:] |= above[:-1]
+    if before and len(keep):
+        keep[0] = True
+    idx = np.flatnonzero(keep)
+    return idx, above[idx]
+
+
+def _windows_of_kept(keep: np.ndarray, real: np.ndarray,
+                     values: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Sustained windows of the kept samples above the floor, barriers as -inf (no window
+    crosses a barrier, so the longest run between barriers bounds the widths)."""
+    r = np.flatnonzero(real)
+    widest = max(b - a + 1 for a, b in _index_runs(r)) if r.size else 1
+    left, right = sustained_windows(np.where(real, values, -np.inf), widest)
+    return keep[r], keep[left[r]], keep[right[r]]
+
+
+def windows_above(x: np.ndarray, floor: float,
+                  sign: float = 1.0) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Sustained windows of the samples of ``sign * x`` above ``floor`` only: (sample index,
+    first, last).
 
     Samples at or below the floor can never exceed a limit that is above it, so they only
-    bound the windows; leaving them out makes the check fast on long, mostly quiet rides.
+    bound the windows (one barrier sample after each run is enough); leaving them out makes
+    the check a few passes over memory on long, mostly quiet rides.
     """
-    above = x > floor
-    keep = above | np.concatenate([[False], above[:-1]])  # one barrier after each run
-    idx = np.flatnonzero(keep)
-    if idx.size == 0:
+    x = np.asarray(x, dtype=float)
+    keep, real = _kept_in_block(x, floor, sign, False)
+    if not real.any():
         empty = np.zeros(0, dtype=np.intp)
         return empty, empty, empty
-    values = np.where(above[idx], x[idx], -np.inf)
-    left, right = sustained_windows(values)
-    real = above[idx]
-    return idx[real], idx[left[real]], idx[right[real]]
+    return _windows_of_kept(keep, real, sign * x[keep])
 
 
 def _duration_findings(x: np.ndarray, dt: float, rule: DurationLimit, ctx: _Context,
-                       full_curve: bool = True) -> tuple[list[Finding], Exposure | None]:
-    signed = rule.sign * x
-    exposure = None
-    if full_curve:
-        curve = exposure_curve(signed, dt)
-        exposure = Exposure(curve.durations_s, rule.sign * curve.levels_g)
-    floor = float(np.min(rule.sign * rule.levels_g))
-    samples, left, right = windows_above(signed, floor)
+                       windows: tuple[np.ndarray, np.ndarray, np.ndarray]) -> list[Finding]:
+    """Findings of one duration rule from the windows of the samples above its floor."""
+    samples, left, right = windows
     if samples.size == 0:
-        return [], exposure
+        return []
     width = right - left + 1
-    level = signed[samples]
+    level = rule.sign * x[samples]
     allowed = rule.sign * rule.allowed(width * dt)
     bad = np.flatnonzero(level > allowed + 1e-12)
     findings = []
@@ -257,7 +347,7 @@ def _duration_findings(x: np.ndarray, dt: float, rule: DurationLimit, ctx: _Cont
         idx = bad[members]
         excess = level[idx] - allowed[idx]
         g = idx[int(np.argmax(excess))]  # the governing window
-        peak_i = start + int(np.argmax(signed[start:end + 1]))
+        peak_i = start + int(np.argmax(rule.sign * x[start:end + 1]))
         findings.append(Finding(
             rule=f"duration {rule.name}", kind="duration", axis=rule.axis, seat=ctx.seat.seat,
             case=ctx.case, t_start=float(ctx.t[start]), t_end=float(ctx.t[end]) + dt,
@@ -267,50 +357,149 @@ def _duration_findings(x: np.ndarray, dt: float, rule: DurationLimit, ctx: _Cont
             detail=f"sustained {rule.sign * level[g]:.2f} g for {width[g] * dt:.3f} s where "
                    f"{rule.sign * allowed[g]:.2f} g is allowed for that long",
             **ctx.locate(start, peak_i, end)))
-    return findings, exposure
+    return findings
 
 
-def _combined_findings(g: np.ndarray, env: CombinedEnvelope, ctx: _Context) -> list[Finding]:
-    pair = g[:, [AXIS_INDEX[env.axes[0]], AXIS_INDEX[env.axes[1]]]]
-    inside = contains(env.vertices, pair)
-    findings = []
+@dataclass(frozen=True)
+class InscribedEllipse:
+    """An axis-aligned ellipse inside a polygon: a point p [g0] is inside the ellipse when
+    sum(((p - center) / scale)^2) < radius^2. ``radius`` is 0 when no centre was found inside
+    the polygon (then every point goes to the exact test)."""
+
+    center: np.ndarray  # (2,) [g0]
+    scale: np.ndarray  # (2,) [g0]
+    radius: float
+
+    def holds(self, a: np.ndarray, b: np.ndarray) -> np.ndarray:
+        """True for the points (a, b) [g0] strictly inside the ellipse."""
+        d = a - self.center[0]
+        d *= 1.0 / self.scale[0]
+        e = b - self.center[1]
+        e *= 1.0 / self.scale[1]
+        d *= d
+        e *= e
+        d += e
+        return d < self.radius**2 * (1.0 - 1e-9)
+
+
+def _distance_to_edges(v: np.ndarray) -> float:
+    """Smallest distance from the origin to the edges of the closed polygon ``v``."""
+    e = np.roll(v, -1, axis=0) - v
+    length_sq = np.einsum("ij,ij->i", e, e)
+    u = np.clip(-np.einsum("ij,ij->i", v, e) / np.where(length_sq > 0, length_sq, 1.0),
+                0.0, 1.0)
+    return float(np.min(np.hypot(*(v + u[:, None] * e).T)))
+
+
+def _point_inside(v: np.ndarray, p: np.ndarray) -> bool:
+    """Even-odd rule for one point strictly inside the closed polygon ``v`` (a point on an
+    edge counts as outside: the ellipse then gets radius 0)."""
+    w = np.roll(v, -1, axis=0)
+    e = w - v
+    rel = p - v
+    length_sq = np.einsum("ij,ij->i", e, e)
+    u = np.clip(np.einsum("ij,ij->i", rel, e) / np.where(length_sq > 0, length_sq, 1.0), 0, 1)
+    if np.min(np.hypot(*(rel - u[:, None] * e).T)) == 0.0:
+        return False
+    crosses = (v[:, 1] > p[1]) != (w[:, 1] > p[1])
+    with np.errstate(divide="ignore", invalid="ignore"):
+        x_at = v[:, 0] + (p[1] - v[:, 1]) * e[:, 0] / e[:, 1]
+    return bool(np.count_nonzero(crosses & (x_at > p[0])) % 2)
+
+
+def inscribed_ellipse(vertices: np.ndarray, rest: np.ndarray) -> InscribedEllipse:
+    """A large axis-aligned ellipse inside the closed polygon ``vertices`` [g0].
+
+    Its semi-axes are proportional to the polygon's half-extents; its centre is the middle of
+    the bounding box or, if that is not inside, the rest point ``rest``. In coordinates
+    scaled by the half-extents the largest circle about an inside centre that stays inside has
+    the radius of the centre's distance to the nearest edge; the scaling is linear, so the
+    ellipse it maps to lies inside the polygon.
+    """
+    v = np.asarray(vertices, dtype=float)
+    lo, hi = v.min(axis=0), v.max(axis=0)
+    scale = np.where(hi > lo, 0.5 * (hi - lo), 1.0)
+    best = InscribedEllipse(np.asarray(rest, dtype=float), scale, 0.0)
+    for center in (0.5 * (lo + hi), np.asarray(rest, dtype=float)):
+        if _point_inside(v, center):
+            radius = _distance_to_edges((v - center) / scale)
+            if radius > best.radius:
+                best = InscribedEllipse(center, scale, radius)
+    return best
+
+
+def _combined_findings(a: np.ndarray, b: np.ndarray, env: CombinedEnvelope,
+                       ctx: _Context, dt: float, check: np.ndarray) -> list[Finding]:
+    """Findings of one envelope; ``check``: the samples outside its inscribed ellipse."""
     center = np.array([REST[env.axes[0]], REST[env.axes[1]]])
-    dt = float(np.median(np.diff(ctx.t))) if len(ctx.t) > 1 else 0.0
-    for start, end in _runs(~inside):
-        frac = _outside_fraction(env.vertices, center, pair[start:end + 1])
+    if check.size == 0:
+        return []
+    outside = check[~contains(env.vertices, np.column_stack([a[check], b[check]]))]
+    if outside.size == 0:
+        return []
+    findings = []
+    for first, last in _index_runs(outside):
+        start, end = int(outside[first]), int(outside[last])
+        frac = np.concatenate([  # in chunks: the temporaries are (chunk, vertices)
+            _outside_fraction(env.vertices, center,
+                              np.column_stack([a[i:min(i + 4096, end + 1)],
+                                               b[i:min(i + 4096, end + 1)]]))
+            for i in range(start, end + 1, 4096)])
         w = start + int(np.argmax(frac))
-        reach = float(np.hypot(*(pair[w] - center)))
+        reach = float(np.hypot(a[w] - center[0], b[w] - center[1]))
         findings.append(Finding(
             rule=f"combined {env.name}", kind="combined", axis=f"{env.axes[0]}+{env.axes[1]}",
             seat=ctx.seat.seat, case=ctx.case, t_start=float(ctx.t[start]),
             t_end=float(ctx.t[end]) + dt, duration_s=float(ctx.t[end] - ctx.t[start] + dt),
             peak_g=reach, limit_g=reach / (1 + float(frac.max())),
             margin=-100.0 * float(frac.max()), t_worst=float(ctx.t[w]),
-            detail=f"({env.axes[0]}, {env.axes[1]}) = ({pair[w, 0]:.2f}, {pair[w, 1]:.2f}) g, "
+            detail=f"({env.axes[0]}, {env.axes[1]}) = ({a[w]:.2f}, {b[w]:.2f}) g, "
                    f"{100 * frac.max():.1f} % outside the envelope",
             **ctx.locate(start, w, end)))
     return findings
 
 
-def _onset_findings(x: np.ndarray, axis: str, limit: float, ctx: _Context) -> list[Finding]:
-    rate = onset_rate(x, ctx.t)
+def _onset_findings(idx: np.ndarray, rate: np.ndarray, axis: str, limit: float,
+                    ctx: _Context, dt: float) -> list[Finding]:
+    """Findings of one onset rule from the samples whose rate [g0/s] exceeds the limit."""
     findings = []
-    dt = float(np.median(np.diff(ctx.t)))
-    for start, end in _runs(np.abs(rate) > limit):
+    for start, end in _index_runs(idx):
         w = start + int(np.argmax(np.abs(rate[start:end + 1])))
+        i, j, k = int(idx[start]), int(idx[end]), int(idx[w])
         findings.append(Finding(
             rule=f"onset {axis}", kind="onset", axis=axis, seat=ctx.seat.seat, case=ctx.case,
-            t_start=float(ctx.t[start]), t_end=float(ctx.t[end]) + dt,
-            duration_s=float(ctx.t[end] - ctx.t[start] + dt), peak_g=float(rate[w]),
-            limit_g=float(limit), margin=float(limit - abs(rate[w])), t_worst=float(ctx.t[w]),
+            t_start=float(ctx.t[i]), t_end=float(ctx.t[j]) + dt,
+            duration_s=float(ctx.t[j] - ctx.t[i] + dt), peak_g=float(rate[w]),
+            limit_g=float(limit), margin=float(limit - abs(rate[w])), t_worst=float(ctx.t[k]),
             detail=f"{axis} changes at {rate[w]:.1f} g/s; limit {limit:g} g/s",
-            **ctx.locate(start, w, end)))
+            **ctx.locate(i, k, j)))
     return findings
 
 
+def _index_runs(idx: np.ndarray) -> list[tuple[int, int]]:
+    """Positions in ``idx`` (sorted sample indices) of the first and last of each run of
+    consecutive samples."""
+    if len(idx) == 0:
+        return []
+    cut = np.flatnonzero(np.diff(idx) != 1)
+    starts = np.concatenate([[0], cut + 1])
+    ends = np.append(cut, len(idx) - 1)
+    return [(int(a), int(b)) for a, b in zip(starts, ends)]
+
+
+def _time_step(t: np.ndarray) -> tuple[float, bool]:
+    """The sample step [s] (median step) and whether every step equals it to 1e-9."""
+    dt = np.diff(t)
+    lo, hi = float(dt.min()), float(dt.max())
+    rounding = 8 * np.finfo(float).eps * max(abs(float(t[0])), abs(float(t[-1])))
+    if hi - lo <= 1e-9 * abs(hi) + rounding:
+        return (float(t[-1]) - float(t[0])) / (len(t) - 1), True
+    return float(np.median(dt)), False
+
+
 def sample_rate(t: np.ndarray) -> float:
-    dt = np.diff(np.asarray(t, dtype=float))
-    return 1.0 / float(np.median(dt))
+    """Sample rate [Hz]: one over the median step."""
+    return 1.0 / _time_step(np.asarray(t, dtype=float))[0]
 
 
 def check_filter_rate(limits: LimitSet, rate_hz: float) -> list[str]:
@@ -329,38 +518,97 @@ def check_filter_rate(limits: LimitSet, rate_hz: float) -> list[str]:
     return []
 
 
+class _Scan:
+    """What the rules need from one pass over a filtered signal, gathered block by block:
+    per duration rule the samples above its floor (and the barriers after their runs), per
+    envelope the samples outside its inscribed ellipse, per onset rule the samples over the
+    limit with their rates, and each axis's extremes."""
+
+    def __init__(self, filtered: np.ndarray, t: np.ndarray, dt: float, uniform: bool,
+                 limits: LimitSet):
+        n = len(filtered)
+        self.floors = [float(np.min(r.sign * r.levels_g)) for r in limits.duration]
+        self.ellipses = [inscribed_ellipse(env.vertices, np.array([REST[a] for a in env.axes]))
+                         for env in limits.combined]
+        kept: list[list] = [[] for _ in limits.duration]
+        flags: list[list] = [[] for _ in limits.duration]
+        outside: list[list] = [[] for _ in limits.combined]
+        over: list[list] = [[] for _ in limits.onset]
+        rates: list[list] = [[] for _ in limits.onset]
+        low, high = np.full(3, np.inf), np.full(3, -np.inf)
+        for lo in range(0, n, BLOCK):
+            hi = min(n, lo + BLOCK)
+            first = max(lo - 1, 0)  # one sample either side for differences and barriers
+            cols = filtered[first:min(n, hi + 1)].T.copy()
+            core = slice(lo - first, lo - first + hi - lo)
+            part = cols[:, core]
+            np.minimum(low, part.min(axis=1), out=low)
+            np.maximum(high, part.max(axis=1), out=high)
+            for j, rule in enumerate(limits.duration):
+                x = cols[AXIS_INDEX[rule.axis]]
+                before = lo > 0 and bool(rule.sign * x[0] > self.floors[j])
+                idx, real = _kept_in_block(x[core], self.floors[j], rule.sign, before)
+                kept[j].append(idx + lo)
+                flags[j].append(real)
+            for j, env in enumerate(limits.combined):
+                ia, ib = AXIS_INDEX[env.axes[0]], AXIS_INDEX[env.axes[1]]
+                out = np.flatnonzero(~self.ellipses[j].holds(cols[ia, core], cols[ib, core]))
+                outside[j].append(out + lo)
+            for j, onset in enumerate(limits.onset):
+                x = cols[AXIS_INDEX[onset.axis]]
+                # uniform stamps: the scalar step (equal to the stamps' differences to
+                # rounding, and several times faster than differencing the stamps)
+                rate = onset_rate(x, dt if uniform else t[first:first + len(x)])[core]
+                idx = np.flatnonzero(np.abs(rate) > onset.limit_g_per_s)
+                over[j].append(idx + lo)
+                rates[j].append(rate[idx])
+        join = _join
+        self.kept = [(join(k, np.intp), join(f, bool)) for k, f in zip(kept, flags)]
+        self.outside = [join(o, np.intp) for o in outside]
+        self.over = [(join(o, np.intp), join(r, float)) for o, r in zip(over, rates)]
+        self.low, self.high = low, high
+
+
+def _join(parts: list, dtype) -> np.ndarray:
+    return np.concatenate(parts) if parts else np.zeros(0, dtype=dtype)
+
+
 def evaluate_seat(seat, limits: LimitSet, case: str = "nominal",
                   keep_signals: bool = True) -> SeatResult:
     """All rules for one rider signal (an object with ``seat``, ``t`` [s], ``g`` (n, 3) [g0]
-    and optionally ``s`` [m] and ``position`` (n, 3) [m])."""
+    and optionally ``s`` [m] and ``position`` (n, 3) [m]). With ``keep_signals`` the result
+    keeps the filtered signal and the times (for figures and :func:`seat_exposures`).
+
+    The filtered signal is scanned once in cache-sized blocks (:class:`_Scan`); the findings
+    are then made from the few samples each rule singled out.
+    """
     t = np.asarray(seat.t, dtype=float)
-    rate = sample_rate(t)
-    filtered = lowpass(seat.g, rate, limits.filter)
-    ctx = _Context(seat, case, group_delay_s(limits.filter, rate))
-    dt = 1.0 / rate
+    dt, uniform = _time_step(t)
+    filtered = lowpass(seat.g, 1.0 / dt, limits.filter)
+    scan = _Scan(filtered, t, dt, uniform, limits)
+    ctx = _Context(seat, case, group_delay_s(limits.filter, 1.0 / dt))
     findings: list[Finding] = []
-    exposures = {}
-    for rule in limits.duration:
-        found, exposure = _duration_findings(filtered[:, AXIS_INDEX[rule.axis]], dt, rule, ctx,
-                                             keep_signals)
-        findings += found
-        if exposure is not None:
-            exposures[rule.name] = exposure
-    for env in limits.combined:
-        findings += _combined_findings(filtered, env, ctx)
-    for onset in limits.onset:
-        findings += _onset_findings(filtered[:, AXIS_INDEX[onset.axis]], onset.axis,
-                                    onset.limit_g_per_s, ctx)
-    worst = {axis: (float(filtered[:, i].min()), float(filtered[:, i].max()))
-             for i, axis in enumerate(AXES)}
-    return SeatResult(seat.seat, case, worst, findings, exposures,
+    for rule, (keep, real) in zip(limits.duration, scan.kept):
+        x = filtered[:, AXIS_INDEX[rule.axis]]
+        windows = (_windows_of_kept(keep, real, rule.sign * x[keep]) if real.any()
+                   else (keep[:0],) * 3)
+        findings += _duration_findings(x, dt, rule, ctx, windows)
+    for env, check in zip(limits.combined, scan.outside):
+        findings += _combined_findings(filtered[:, AXIS_INDEX[env.axes[0]]],
+                                       filtered[:, AXIS_INDEX[env.axes[1]]], env, ctx, dt,
+                                       check)
+    for onset, (idx, rate) in zip(limits.onset, scan.over):
+        findings += _onset_findings(idx, rate, onset.axis, onset.limit_g_per_s, ctx, dt)
+    worst = {axis: (float(scan.low[i]), float(scan.high[i])) for i, axis in enumerate(AXES)}
+    return SeatResult(seat.seat, case, worst, findings,
                       filtered if keep_signals else None, t if keep_signals else None)
 
 
 def evaluate(seats, limits: LimitSet, case: str = "nominal",
              keep_signals: bool = True) -> Evaluation:
     """Every rule of ``limits`` for every rider signal in ``seats``. Without
-    ``keep_signals`` the filtered signals and exposure curves are not kept (for sweeps)."""
+    ``keep_signals`` the filtered signals are not kept (for sweeps); exposure curves are
+    made on request by :func:`seat_exposures`."""
     seats = list(seats)
     warnings = check_filter_rate(limits, sample_rate(seats[0].t)) if seats else []
     return Evaluation(limits, [evaluate_seat(s, limits, case, keep_signals) for s in seats],

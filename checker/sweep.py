@@ -2,25 +2,29 @@
 
 :func:`run_cases` evaluates every case through the same orchestration entry as a single check
 (:func:`checker.ride.run_check`), in a process pool by default; results are the same whichever
-executor runs them.
+executor runs them. Work is not repeated: the geometry is built once per layout, the train's
+motion once per distinct (train, operation, options) after the cases are applied, every seat
+is evaluated once, and what the documents draw (the filtered and raw signals of the seats that
+can govern) is kept from that one pass.
 """
 
 from __future__ import annotations
 
 import os
+import pickle
 import sys
 from collections.abc import Callable
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
 from .errors import InputError
-from .limits import LimitSet
+from .limits import AXES, REST, LimitSet
 from .loadcases import LoadCase, apply_case
 from .operation import Operation
 from .parentwatch import watch_parent
-from .ride import RideOptions, run_check
-from .rules import Evaluation, Finding
+from .ride import RideOptions, RideResult, layout_geometry, run_check
+from .rules import Evaluation, Finding, evaluate
 from .terminal import shorten
 from .track import Centerline
 from .train import Train
@@ -35,6 +39,9 @@ class CaseOutcome:
     top_speed_m_s: float
     duration_s: float
     track_length_m: float = 0.0
+    motion: object | None = None  # checker.dynamics.RideMotion of this case
+    # seat -> (SeatResult with filtered signal, raw history): the seats that can govern
+    kept: dict = field(default_factory=dict)
 
 
 @dataclass
@@ -43,6 +50,7 @@ class Sweep:
 
     outcomes: list[CaseOutcome]
     limits: LimitSet
+    geometry: object | None = None  # checker.geometry.TrackGeometry, built once per layout
 
     @property
     def findings(self) -> list[Finding]:
@@ -71,18 +79,54 @@ class Sweep:
         return seats, cases, cells
 
 
-def _run_one(job) -> CaseOutcome:
-    centerline, train, operation, limits, options, case = job
-    tr, ops, opt = apply_case(train, operation, options, case)
-    run = run_check(centerline, tr, ops, limits, opt, case.name, keep_signals=False)
-    ev = run.evaluation
-    peaks = {s.seat: dict(s.worst) for s in ev.seats}
-    for s in ev.seats:  # keep the record small: signals are recomputed where a report needs
-        s.filtered = None
-        s.t = None
-        s.exposures = {}
-    return CaseOutcome(case.name, ev, run.stall, peaks, float(run.ride.motion.v.max()),
-                       run.ride.motion.duration_s, run.ride.geometry.length)
+def _run_one(job) -> list[CaseOutcome]:
+    """One ride (one distinct train, operation and options) and the cases that share it."""
+    centerline, geometry, train, operation, limits, options, names, keep_all = job
+    run = run_check(centerline, train, operation, limits, options, names[0],
+                    keep_signals=True, geometry=geometry)
+    ride = run.ride
+    outcomes = []
+    for k, name in enumerate(names):
+        if k == 0:
+            ev = run.evaluation
+        else:  # same ride, same signals: only the case name differs
+            ev = evaluate(ride.histories, limits, name, keep_signals=True)
+            ev.warnings[:] = list(run.evaluation.warnings)
+        keep = ({s.seat for s in ev.seats} if keep_all and k == 0
+                else _candidates(ev, train.length_m))
+        history = {h.seat: h for h in ride.histories}
+        kept = {s.seat: (s, history[s.seat]) for s in ev.seats if s.seat in keep}
+        peaks = {s.seat: dict(s.worst) for s in ev.seats}
+        for s in ev.seats:  # the record travels between processes: signals of the rest go
+            if s.seat not in keep:
+                s.filtered = None
+                s.t = None
+        outcomes.append(CaseOutcome(name, ev, run.stall, peaks, float(ride.motion.v.max()),
+                                    ride.motion.duration_s, ride.geometry.length,
+                                    ride.motion, kept))
+    return outcomes
+
+
+def _candidates(ev: Evaluation, train_length_m: float) -> set[str]:
+    """Seats of one case that can govern across cases: the governor of each of its events
+    (an event across cases restricted to one case is a union of that case's events, and its
+    governor governs there too) and its most severe finding of each rule (ties broken as
+    :meth:`Sweep.governing` does); its most stressed seat when it has no finding."""
+    from .events import group_findings
+
+    best: dict[str, tuple] = {}
+    for f in ev.findings:
+        key = (-f.severity, f.seat, f.t_start)
+        if f.rule not in best or key < best[f.rule]:
+            best[f.rule] = key
+    if best:
+        governors = {e.governing.seat for e in group_findings(ev.findings, train_length_m)}
+        return governors | {key[1] for key in best.values()}
+    if not ev.seats:
+        return set()
+    stressed = max(ev.seats, key=lambda s: max(abs(s.worst[a][k] - REST[a])
+                                               for a in AXES for k in (0, 1)))
+    return {stressed.seat}
 
 
 def run_cases(centerline: Centerline, train: Train, operation: Operation, limits: LimitSet,
@@ -103,26 +147,48 @@ def run_layouts(layouts: list[tuple[Centerline, Train, Operation]], limits: Limi
                 scheduler: str | None = None,
                 progress: Callable[[int, int], None] | None = None,
                 scheduler_timeout_s: float = 30.0) -> list[Sweep]:
-    """Every case of every layout in one pool (layouts and cases run in parallel)."""
-    jobs = [(line, train, ops, limits, options, case)
-            for line, train, ops in layouts for case in cases]
-    outcomes = _execute(jobs, workers, scheduler, progress, scheduler_timeout_s)
-    n = len(cases)
-    return [Sweep(outcomes[i * n:(i + 1) * n], limits) for i in range(len(layouts))]
+    """Every case of every layout in one pool (layouts and rides run in parallel). Each
+    layout's geometry is built once; cases whose train, operation and options come out the
+    same share one ride."""
+    jobs, places, geometries = [], [], []
+    for i, (line, train, ops) in enumerate(layouts):
+        geometry = layout_geometry(line, options)
+        geometries.append(geometry)
+        groups: dict[bytes, list[str]] = {}
+        for case in cases:
+            key = pickle.dumps(apply_case(train, ops, options, case))
+            groups.setdefault(key, []).append(case.name)
+        by_name = {c.name: c for c in cases}
+        for names in groups.values():
+            tr, op, opt = apply_case(train, ops, options, by_name[names[0]])
+            keep_all = bool(cases) and names[0] == cases[0].name
+            jobs.append((line, geometry, tr, op, limits, opt, names, keep_all))
+            places.append(i)
+    results = _execute(jobs, workers, scheduler, progress, scheduler_timeout_s,
+                       sum(len(job[6]) for job in jobs))
+    order = {c.name: k for k, c in enumerate(cases)}
+    sweeps = []
+    for i in range(len(layouts)):
+        outcomes = [o for place, found in zip(places, results) if place == i for o in found]
+        sweeps.append(Sweep(sorted(outcomes, key=lambda o: order[o.case]), limits,
+                            geometries[i]))
+    return sweeps
 
 
 def _execute(jobs: list, workers: int | None, scheduler: str | None,
              progress: Callable[[int, int], None] | None,
-             scheduler_timeout_s: float = 30.0) -> list[CaseOutcome]:
+             scheduler_timeout_s: float = 30.0,
+             cases_total: int | None = None) -> list[list[CaseOutcome]]:
     total = len(jobs)
     outcomes: list = [None] * total
     done = 0
+    shown_total = cases_total if cases_total is not None else total
 
-    def tick():
+    def tick(found=None):
         nonlocal done
-        done += 1
+        done += len(found) if isinstance(found, list) else 1
         if progress:
-            progress(done, total)
+            progress(done, shown_total)
 
     if scheduler:
         try:
@@ -136,13 +202,13 @@ def _execute(jobs: list, workers: int | None, scheduler: str | None,
             index = {f.key: i for i, f in enumerate(futures)}
             for fut in as_completed(futures):
                 outcomes[index[fut.key]] = fut.result()
-                tick()
+                tick(outcomes[index[fut.key]])
         return outcomes
     workers = workers or os.cpu_count() or 1
     if workers <= 1 or total <= 1:
         for i, job in enumerate(jobs):
             outcomes[i] = _run_one(job)
-            tick()
+            tick(outcomes[i])
         return outcomes
     import multiprocessing
     from concurrent.futures import ProcessPoolExecutor
@@ -154,7 +220,7 @@ def _execute(jobs: list, workers: int | None, scheduler: str | None,
         futures = {pool.submit(_run_one, job): i for i, job in enumerate(jobs)}
         for fut in first_done(futures):
             outcomes[futures[fut]] = fut.result()
-            tick()
+            tick(outcomes[futures[fut]])
     return outcomes
 
 
@@ -194,34 +260,50 @@ def peak_summary(sweep: Sweep) -> dict:
 
 def sweep_check_run(sweep: Sweep, centerline: Centerline, train: Train, operation: Operation,
                     limits: LimitSet, options: RideOptions, cases: list[LoadCase]):
-    """A CheckRun of the whole sweep for documents: every seat x case result, with signals
-    recomputed for the governing (seat, case) pairs so that their figures can be drawn."""
+    """A CheckRun of the whole sweep for documents: every seat x case result, with the
+    signals kept by the sweep for the seat and case that govern each event (all seats of the
+    first case when everything passes), so that their figures can be drawn without running
+    a case again."""
     from .events import group_findings
     from .ride import CheckRun
 
     by_name = {c.name: c for c in cases}
+    outcome_of = {o.case: o for o in sweep.outcomes}
     wanted: dict[str, set[str]] = {}
     for event in group_findings(sweep.findings, train.length_m):  # every event's governor
         wanted.setdefault(event.governing.case, set()).add(event.governing.seat)
-    if not wanted and sweep.outcomes:  # all pass: the first case's most stressed seat
-        wanted[sweep.outcomes[0].case] = set()
-    full = {}
-    signals = {}
+    if not wanted and sweep.outcomes:  # all pass: the first case's seats
+        wanted[sweep.outcomes[0].case] = set(sweep.outcomes[0].kept)
+    full, signals = {}, {}
     ride = None
+    geometry = sweep.geometry
+    if geometry is None and wanted:
+        geometry = layout_geometry(centerline, options)
     for name, seats in wanted.items():
-        tr, ops, opt = apply_case(train, operation, options, by_name[name])
-        run = run_check(centerline, tr, ops, limits, opt, name)
-        ride = ride or run.ride
-        for s in run.evaluation.seats:
-            if s.seat in seats or not seats:
-                full[(s.seat, name)] = s
-                signals[(s.seat, name)] = run.signals[(s.seat, name)]
+        outcome = outcome_of[name]
+        if ride is None and outcome.motion is not None:
+            tr, ops, opt = apply_case(train, operation, options, by_name[name])
+            ride = RideResult(geometry, outcome.motion, [], tr, ops, opt)
+        for seat in seats:
+            if seat in outcome.kept:
+                result, history = outcome.kept[seat]
+                full[(seat, name)] = result
+                signals[(seat, name)] = history
     seats_all = []
     warnings: list[str] = []
     for o in sweep.outcomes:
         warnings += [f"case {o.case}: {w}" for w in o.evaluation.warnings]
         for s in o.evaluation.seats:
-            seats_all.append(full.get((s.seat, o.case), s))
+            seats_all.append(full.get((s.seat, o.case), _lean(s)))
     evaluation = Evaluation(limits, seats_all, warnings)
     stall = "; ".join(f"case {o.case}: {o.stall}" for o in sweep.outcomes if o.stall) or None
     return CheckRun(evaluation, ride, signals, [], stall)
+
+
+def _lean(result):
+    """A seat result without its signals (only the drawn seats keep theirs)."""
+    if result.filtered is None:
+        return result
+    from dataclasses import replace
+
+    return replace(result, filtered=None, t=None)

@@ -26,6 +26,11 @@ def read_text(path: Path) -> str:
 
     The file must be a regular file no larger than the input cap (:mod:`checker.paths`).
     """
+    return read_checked_bytes(path).decode("utf-8")
+
+
+def read_checked_bytes(path: Path) -> bytes:
+    """The bytes of a file that is UTF-8 text (checked as :func:`read_text` does)."""
     path = Path(path)
     raw = read_input_bytes(path)
     if raw.startswith((b"\xff\xfe", b"\xfe\xff")) or b"\x00" in raw:
@@ -36,8 +41,11 @@ def read_text(path: Path) -> str:
         example = " (e.g. 'CSV UTF-8' without signature)" if path.suffix.lower() == ".csv" else ""
         raise InputError(path, "starts with a byte-order mark (BOM)",
                          f"save it as UTF-8 without BOM{example}", row=1)
+    if raw.isascii():  # the common case: valid UTF-8 without decoding
+        return raw
     try:
-        return raw.decode("utf-8")
+        raw.decode("utf-8")
     except UnicodeDecodeError as exc:
         line = raw[: exc.start].count(b"\n") + 1
         raise InputError(path, "is not valid UTF-8 text", "save it as UTF-8", row=line) from None
+    return raw

@@ -9,6 +9,7 @@ import numpy as np
 from .. import __version__
 from ..compare import MATCH_DISTANCE_M, MATCH_FRACTION, Comparison
 from ..documents import CAUTION, margin_text
+from ..rules import seat_exposures
 from . import figures
 from .document import PAGE_SIZES, _env, _fmt
 from .pdf import ASSET_SCHEME, TemplatesOnlyFetcher, render_pdf
@@ -42,8 +43,10 @@ def comparison_pdf(comparison: Comparison, focus: dict, meta: dict) -> bytes:
         f"Seat {focus['seat']}, case {focus['case']}: new (colour, raw grey), old (dashed)",
         overlay=(old_res.t, old_res.filtered, "old")))
     curves = []
+    old_exp = seat_exposures(old_res, meta["limits"])
+    new_exp = seat_exposures(new_res, meta["limits"])
     for rule in meta["limits"].duration:
-        a, b = old_res.exposures.get(rule.name), new_res.exposures.get(rule.name)
+        a, b = old_exp.get(rule.name), new_exp.get(rule.name)
         if a is None or b is None:
             continue
         curves.append({"name": rule.name, "axis": rule.axis, "durations": b.durations_s,

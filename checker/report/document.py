@@ -17,7 +17,7 @@ from ..conditioning import onset_rate
 from ..documents import CAUTION, MARGIN_CONVENTION, STATION_NOTE, margin_text, with_unit
 from ..events import Event, event_of_finding, explain_events, group_findings
 from ..limits import AXES, REST, contains
-from ..rules import Evaluation
+from ..rules import Evaluation, seat_exposures
 from . import figures
 from .pdf import ASSET_SCHEME, TEMPLATES
 
@@ -85,8 +85,9 @@ def _seat_section(result, signal, limits, worst: bool) -> dict:
                                        f"Seat {result.seat}, case {result.case}: filtered "
                                        "(colour) and raw (grey); shaded: findings")
     curves = []
+    exposures = seat_exposures(result, limits)  # only for the seats drawn, at plotted durations
     for rule in limits.duration:
-        exp = result.exposures.get(rule.name)
+        exp = exposures.get(rule.name)
         if exp is None:
             continue
         curves.append({"name": rule.name, "axis": rule.axis, "durations": exp.durations_s,

@@ -202,15 +202,13 @@ def exposure_curves(curves: list[dict], title: str) -> str:
         neutral = NEUTRAL[axis]
         for n, c in enumerate(c for c in curves if c["axis"] == axis):
             colour = DIRECTION_COLORS[n % 2]
-            d, lv = c["durations"], c["levels"]
-            keep = np.unique(np.geomspace(1, len(d), min(len(d), 160)).astype(int) - 1)
+            d, lv = c["durations"], c["levels"]  # already at the plotted durations
             side = np.sign(np.nanmedian(c["limit_levels"]) - neutral) or 1.0
-            shown = _own_side(lv[keep], neutral, side)
-            ax.plot(d[keep], shown, color=colour, lw=1.2, label=f"{c['name']}")
+            ax.plot(d, _own_side(lv, neutral, side), color=colour, lw=1.2,
+                    label=f"{c['name']}")
             if c.get("overlay_levels") is not None:
                 od, ol = c["overlay_durations"], c["overlay_levels"]
-                k2 = np.unique(np.geomspace(1, len(od), min(len(od), 160)).astype(int) - 1)
-                ax.plot(od[k2], _own_side(ol[k2], neutral, side), color=colour, lw=0.9,
+                ax.plot(od, _own_side(ol, neutral, side), color=colour, lw=0.9,
                         ls=":", label=f"{c.get('overlay_label')}: {c['name']}")
             lim_d = np.asarray(c["limit_durations"], dtype=float)
             ax.plot(np.maximum(lim_d, d[0]), c["limit_levels"], color=LIMIT_COLOR, lw=1.0,
