@@ -4,8 +4,9 @@ Columns ``t`` [s], ``gx``, ``gy``, ``gz`` (in g0 by default, or m/s^2 with ``uni
 optional ``seat`` (text; rows of one seat in time order); or any logger layout described by
 an instrument file (:mod:`checker.instrument`: column names, units, mounting, seats).
 
-Time stamps must run forward. A gap longer than the instrument's ``max_gap_s`` (else GAP_STEPS median steps) is never
-bridged: the record is split there and each part is checked on its own. Within a part the
+Time stamps must run forward. A gap longer than the instrument's ``max_gap_s`` (else
+GAP_STEPS median steps) is never bridged: the record is split there and each part is
+checked on its own. Within a part the
 step must be regular (within STEP_TOLERANCE of the median); otherwise the rows are named and
 the record refused, unless a re-sampling rate is given: then each part is re-sampled onto a
 uniform grid by linear interpolation, after a zero-phase Butterworth anti-alias low-pass at
