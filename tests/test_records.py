@@ -207,3 +207,23 @@ def test_correlate_command_writes_json_and_pdf(tmp_path, capsys):
     assert abs(c["offset_s"]) < 0.005 and c["method"].startswith("cross-correlation")
     assert out_pdf.read_bytes()[:4] == b"%PDF"
     assert "car1-r1L" in capsys.readouterr().out
+
+
+def test_check_history_reads_a_logger_file_and_refuses_a_bad_instrument(tmp_path, capsys):
+    rng = np.random.default_rng(9)
+    t = np.arange(0.0, 6.0, 0.01) + rng.uniform(-0.002, 0.002, 600)
+    t[0] = 0.0
+    path = logger_file(tmp_path, t, rider_signal(t))
+    inst = write(tmp_path / "i.toml", INSTRUMENT)
+    out_json = tmp_path / "f.json"
+    assert main(["check-history", str(path), "--instrument", str(inst)]) == 2
+    assert "--resample" in capsys.readouterr().err
+    code = main(["check-history", str(path), "--instrument", str(inst), "--resample", "100",
+                 "--json", str(out_json)])
+    assert code in (0, 1)
+    assert "jitter" in capsys.readouterr().err
+    bad = write(tmp_path / "bad.toml", INSTRUMENT.replace('x = "-y"', 'x = "-w"'))
+    assert main(["check-history", str(path), "--instrument", str(bad), "--resample",
+                 "100"]) == 2
+    err = capsys.readouterr().err
+    assert "mounting.x" in err and len(err.strip().splitlines()) == 1
