@@ -69,8 +69,17 @@ def machine_memory_bytes() -> int | None:
         return None
 
 
+_parallel = {"runs": 1}  # rides running at once in this machine (a sweep's local workers)
+
+
+def share_memory(runs: int) -> None:
+    """Set how many rides run at once; each gets that share of the cap (worker initializer)."""
+    _parallel["runs"] = max(1, int(runs))
+
+
 def memory_cap_bytes() -> int | None:
-    """``CHECKER_MAX_MEMORY_MB``, else a fraction of the machine's memory (None: unknown)."""
+    """The memory one ride may take: ``CHECKER_MAX_MEMORY_MB``, else a fraction of the
+    machine's memory, shared by the rides running at once (None: unknown)."""
     text = os.environ.get(MEMORY_ENV, "").strip()
     if text:
         try:
@@ -80,9 +89,9 @@ def memory_cap_bytes() -> int | None:
         if not 0 < value < 1e9:
             raise InputError(MEMORY_ENV, f"environment variable value {text[:20]!r} is not "
                              "a size in megabytes", "set it to a number such as 4000 or unset it")
-        return int(value * 1e6)
+        return int(value * 1e6 / _parallel["runs"])
     total = machine_memory_bytes()
-    return int(total * DEFAULT_MEMORY_FRACTION) if total else None
+    return int(total * DEFAULT_MEMORY_FRACTION / _parallel["runs"]) if total else None
 
 
 def ride_memory_bytes(seats: int, cars: int, duration_s: float, rate_hz: float) -> float:
@@ -99,6 +108,8 @@ def check_memory(seats: int, cars: int, duration_s: float, rate_hz: float,
     if cap is not None and need > cap:
         raise InputError(source, f"this ride needs about {need / 1e6:,.0f} MB of memory "
                          f"({seats} seats x {duration_s:.0f} s x {rate_hz:g} Hz), more than "
-                         f"the cap of {cap / 1e6:,.0f} MB",
-                         f"lower --rate or the number of seats, or raise the cap with the "
-                         f"environment variable {MEMORY_ENV}")
+                         f"the cap of {cap / 1e6:,.0f} MB"
+                         + (f" (the share of one of {_parallel['runs']} parallel workers)"
+                            if _parallel["runs"] > 1 else ""),
+                         "lower --rate, the number of seats or --workers, or raise the cap "
+                         f"with the environment variable {MEMORY_ENV}")

@@ -191,6 +191,10 @@ def sweep_tables(sweep) -> str:
     lines = ["governing seat and case per rule:"]
     governing = sweep.governing()
     for f in governing:
+        if f.kind == "stall":
+            lines.append(f"  {f.rule:<26} {f.seat:<12} {f.case:<20} the train stalls at "
+                         f"{f.s_worst_m:.1f} m (lead car)")
+            continue
         lines.append(f"  {f.rule:<26} {f.seat:<12} {f.case:<20} peak "
                      f"{with_unit(f.peak_g, f.peak_unit):>11}  limit "
                      f"{with_unit(f.limit_g, f.peak_unit):>11}"

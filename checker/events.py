@@ -138,7 +138,8 @@ def _chain(indices: list[int], span, gap: float) -> list[list[int]]:
 
 def _event(findings: Sequence[Finding], members: list[int]) -> Event:
     group = [findings[i] for i in members]
-    worst = max(group, key=lambda f: (f.severity, -f.t_start))
+    rank = {"on its side": 1, "inverted": 2}  # a stall: the worst attitude governs
+    worst = max(group, key=lambda f: (f.severity, rank.get(f.attitude, 0), -f.t_start))
     spans = [r for r in (_station_range(f) for f in group) if r is not None]
     return Event(
         id="", rule=worst.rule, kind=worst.kind, axis=worst.axis,

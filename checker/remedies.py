@@ -24,7 +24,9 @@ Closed forms (rider in steady circular motion of path radius R at speed v, g0 = 
   v^2 / R, so a radius (1 + f) times the present one brings a point f outside back to the
   boundary.
 - Stall: the energy to reach the top ahead: v >= sqrt(2 g0 dz) at the stall point before
-  losses (conservation of mechanical energy).
+  losses (conservation of mechanical energy); where the riders are inverted, the top must
+  also be passed with v^2 / r >= g0 so that they stay in their seats (common practice: a car
+  without upstop wheels stays on the track at the top of a loop only while v^2 / r >= g0).
 """
 
 from __future__ import annotations
@@ -104,7 +106,7 @@ def remedy_for(event, geometry: TrackGeometry | None, place: str = "",
         return None
     s = f.s_worst_m
     if f.kind == "stall":
-        return _stall_remedy(geometry, s)
+        return _stall_remedy(geometry, s, f.attitude or "upright")
     if v <= 0.0:
         return None
     if f.kind == "duration" and f.axis == "gz":
@@ -174,15 +176,21 @@ def _tangential(geometry, s, v, limit, place, seat_height_m) -> Remedy:
                   f"({FIRST_ESTIMATE})")
 
 
-def _stall_remedy(geometry, s) -> Remedy:
+def _stall_remedy(geometry, s, attitude: str = "upright") -> Remedy:
     z = geometry.position[:, 2]
-    i = int(np.searchsorted(geometry.s, s))
+    i = min(int(np.searchsorted(geometry.s, s)), len(z) - 1)
     ahead = z[i:]
     falls = np.flatnonzero(np.diff(ahead) < 0)
-    top = float(ahead[falls[0]] if falls.size else ahead.max()) if ahead.size else float(z[-1])
-    dz = max(top - float(z[min(i, len(z) - 1)]), 0.0)
-    speed = math.sqrt(2.0 * G0 * dz)
-    return Remedy("speed at the stall point", speed, "m/s", "v >= sqrt(2 g0 dz)",
-                  f"the top ahead is {dz:.1f} m higher: the train needs at least {speed:.1f} "
-                  f"m/s here before losses (more entry speed, a lift or a launch) "
-                  f"({FIRST_ESTIMATE})")
+    top = i + (int(falls[0]) if falls.size else int(np.argmax(ahead)))
+    dz = max(float(z[top] - z[i]), 0.0)
+    need_top = 0.0
+    if attitude != "upright":  # riders held in their seats over the top: v^2 / r >= g0
+        radius = 1.0 / max(float(np.linalg.norm(geometry.curvature_vector[top])), 1e-9)
+        need_top = G0 * radius if geometry.up[top, 2] < 0 else 0.0
+    speed = math.sqrt(need_top + 2.0 * G0 * dz)
+    why = (f"to reach the top ahead ({dz:.1f} m higher) with v^2 / r >= g0 there"
+           if need_top else f"to reach the top ahead ({dz:.1f} m higher)")
+    return Remedy("speed at the stall point", speed, "m/s",
+                  "v >= sqrt(v_top^2 + 2 g0 dz), v_top^2 >= g0 r when inverted",
+                  f"the train needs at least {speed:.1f} m/s here {why}, before losses "
+                  f"(more entry speed, a lift or a launch) ({FIRST_ESTIMATE})")

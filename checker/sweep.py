@@ -18,6 +18,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from .bounds import share_memory
 from .errors import InputError
 from .limits import AXES, REST, LimitSet
 from .loadcases import LoadCase, apply_case
@@ -216,12 +217,19 @@ def _execute(jobs: list, workers: int | None, scheduler: str | None,
 
     context = multiprocessing.get_context("fork" if sys.platform != "win32" else "spawn")
     with ProcessPoolExecutor(min(workers, total), mp_context=context,
-                             initializer=watch_parent, initargs=(os.getpid(),)) as pool:
+                             initializer=_start_worker,
+                             initargs=(os.getpid(), min(workers, total))) as pool:
         futures = {pool.submit(_run_one, job): i for i, job in enumerate(jobs)}
         for fut in first_done(futures):
             outcomes[futures[fut]] = fut.result()
             tick(outcomes[futures[fut]])
     return outcomes
+
+
+def _start_worker(parent_pid: int, parallel: int) -> None:
+    """Pool initializer: exit with the parent; take a share of the memory cap."""
+    watch_parent(parent_pid)
+    share_memory(parallel)
 
 
 def _dask_client(client_class, scheduler: str, timeout_s: float):

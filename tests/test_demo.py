@@ -90,10 +90,10 @@ def check_events_and_pages(doc: dict, pdf, loop_start: float, loop_end: float) -
     governing = {e["governing_seat"] for e in events.values()}
     assert governing <= {h.split(",")[0][5:] for h, _ in seat_pages}
     assert len(seat_pages) < len(doc["seats"])  # not a page per seat
-    appendix = " ".join(p for p in pages if "Appendix A" in p or "# Event Rule" in p)
-    rows = [line for line in appendix.splitlines() if line.split(" ")[0].isdigit()
-            and " E" in line]
-    assert len(rows) >= len(doc["findings"])
+    appendix = "\n".join(p for p, h in zip(pages, heads) if h.startswith("Appendix A"))
+    rows = [line.split() for line in appendix.splitlines()]
+    numbered = [int(r[0]) for r in rows if len(r) > 2 and r[0].isdigit() and r[1] in events]
+    assert numbered == list(range(1, len(doc["findings"]) + 1))  # every finding, once
 
 
 def test_teardrop_loop_has_lower_peak_gz_than_circular():

@@ -15,6 +15,7 @@ from shapes import G0, straight, vertical_loop
 
 from checker.cli import main
 from checker.documents import BUNDLED_LIMITS
+from checker.events import events_of_run
 from checker.limits import load_limits
 from checker.operation import Operation
 from checker.ride import run_check
@@ -89,6 +90,12 @@ def test_loop_entered_too_slowly_stalls_with_riders_hanging(height, attitude):
     assert stalls[0].attitude == attitude
     assert f"stalls {attitude}" in stalls[0].detail
     assert "riders would hang there" in stalls[0].detail
+    (event,) = [e for e in events_of_run(run.evaluation, run.ride) if e.kind == "stall"]
+    if attitude == "inverted":
+        # energy to the top (2R) plus v_top^2 >= g0 R there (the car stays on the track only
+        # while v^2 / r >= g0 at the top: common practice)
+        need = np.sqrt(G0 * radius + 2 * G0 * (2 * radius - height))
+        assert event.remedy.value == pytest.approx(need, rel=0.03)
 
 
 def test_no_speed_at_the_start_says_what_to_give():
