@@ -21,6 +21,7 @@ from .errors import InputError
 RATE_HZ = (10.0, 5000.0)  # output sample rate [Hz]
 START_SPEED_M_S = (0.0, 150.0)  # faster than any train runs (common practice, rough)
 SMOOTHING_M = (0.0, 10.0)  # RMS tolerance of the smoothing spline [m]
+STEP_M = (0.005, 5.0)  # station grid step [m]
 WORKERS = (1, 512)
 SCHEDULER_TIMEOUT_S = (1.0, 3600.0)
 MIN_TRACK_M = 1.0  # shorter than this is a unit mistake, not a ride

@@ -18,6 +18,7 @@ from .bounds import (
     SCHEDULER_TIMEOUT_S,
     SMOOTHING_M,
     START_SPEED_M_S,
+    STEP_M,
     WORKERS,
     name_option,
     number_option,
@@ -47,9 +48,12 @@ def _add_ride_settings(p: argparse.ArgumentParser) -> None:
                    help="output sample rate [Hz] (default 200)")
     p.add_argument("--units", choices=("m", "ft"), default="m",
                    help="length unit of the track file (default m)")
-    p.add_argument("--smoothing", type=number_option(*SMOOTHING_M, " m"), default=0.0,
+    p.add_argument("--smoothing", type=number_option(*SMOOTHING_M, " m"), default=None,
                    metavar="METRES",
-                   help="RMS tolerance for smoothing noisy CAD samples (default 0: interpolate)")
+                   help="RMS tolerance for fitting noisy CAD samples; 0 fits through every "
+                        "sample (default: half the grid a rounded file's coordinates sit on)")
+    p.add_argument("--step", type=number_option(*STEP_M, " m"), default=0.2, metavar="METRES",
+                   help="station grid step of the simulation [m] (default 0.2)")
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -99,6 +103,7 @@ def build_parser() -> argparse.ArgumentParser:
     hist.add_argument("history", help="CSV with t, gx, gy, gz (optional seat)")
     hist.add_argument("--units", choices=("g", "m/s2"), default="g",
                       help="unit of gx, gy, gz in the file (default g)")
+    _add_record_options(hist)
     _add_check_options(hist)
     cmp_ = sub.add_parser("compare", help="compare two revisions of a layout: what got "
                           "better and what got worse")
@@ -114,6 +119,21 @@ def build_parser() -> argparse.ArgumentParser:
     cmp_.add_argument("--page-size", choices=("a4", "letter"), default="a4")
     cmp_.add_argument("--project", default="(not given)")
     _add_case_options(cmp_)
+    cor = sub.add_parser("correlate", help="line a recorded ride up with the simulation of "
+                         "the same layout; per-axis RMS and largest differences, time offset")
+    cor.add_argument("record", help="recorded history CSV (plain format or --instrument)")
+    _add_ride_options(cor)
+    cor.add_argument("--record-units", choices=("g", "m/s2"), default="g",
+                     help="unit of gx, gy, gz in a plain-format record (default g)")
+    _add_record_options(cor)
+    cor.add_argument("--seat", help="simulated seat to compare every recorded seat with "
+                     "(default: the seat of the same name, e.g. car1-r1L)")
+    cor.add_argument("--limits", help="limits TOML whose filter is applied to both signals "
+                     "(default: the bundled set's filter)")
+    cor.add_argument("--json", metavar="CORRELATION.json", help="write the result as JSON")
+    cor.add_argument("--pdf", metavar="CORRELATION.pdf", help="write the PDF with figures")
+    cor.add_argument("--page-size", choices=("a4", "letter"), default="a4")
+    cor.add_argument("--project", type=name_option(), default="(not given)")
     demo = sub.add_parser("demo", help="check both revisions of the bundled demo layout and "
                           "write their PDF and JSON reports")
     demo.add_argument("--out", default="demo-output", metavar="FOLDER",
@@ -125,6 +145,14 @@ def build_parser() -> argparse.ArgumentParser:
         command.add_argument("--debug", action="store_true", default=argparse.SUPPRESS,
                              help="show the traceback of an internal error")
     return parser
+
+
+def _add_record_options(p: argparse.ArgumentParser) -> None:
+    p.add_argument("--instrument", metavar="INSTRUMENT.toml",
+                   help="logger layout: time and acceleration columns, units, mounting, seats")
+    p.add_argument("--resample", type=number_option(*RATE_HZ, " Hz"), default=None,
+                   metavar="HZ", help="re-sample irregular time stamps onto a uniform grid "
+                   "at HZ (default: refuse them, naming the rows)")
 
 
 def _add_check_options(p: argparse.ArgumentParser) -> None:
@@ -263,7 +291,8 @@ def _cmd_check(args: argparse.Namespace) -> int:
     line, train, ops = load_inputs(args.track, args.train, ideal=args.ideal,
                                    operation=args.operation, start_speed_m_s=args.start_speed,
                                    units=args.units)
-    options = RideOptions(rate_hz=args.rate, smoothing_m=args.smoothing)
+    options = RideOptions(rate_hz=args.rate, smoothing_m=args.smoothing,
+                          step_m=args.step)
     extra_inputs: list = []
     case_names: list[str] = []
     if args.cases:
@@ -337,7 +366,8 @@ def _run_sweep(args, line, train, ops, limits, options):
 def _cmd_check_history(args: argparse.Namespace) -> int:
     from pathlib import Path
 
-    from .history import load_history
+    from .history import load_record
+    from .instrument import load_instrument
     from .plausibility import history_warnings
     from .ride import CheckRun
     from .rules import evaluate
@@ -345,12 +375,17 @@ def _cmd_check_history(args: argparse.Namespace) -> int:
     _check_outputs(args, args.history)
     limits = _limits(args)
     _check_outputs(args, *(f for f, _ in limits.files))
-    signals = load_history(args.history, args.units)
+    instrument = load_instrument(args.instrument) if args.instrument else None
+    record = load_record(args.history, args.units, instrument, args.resample)
+    signals = record.signals
     evaluation = evaluate(signals, limits, args.case)
-    evaluation.warnings[:0] = history_warnings(signals)
+    evaluation.warnings[:0] = list(record.notes) + history_warnings(signals)
     run = CheckRun(evaluation, None, {(s.seat, args.case): s for s in signals},
-                   _inputs(args.history) + list(limits.files))
-    params = [("history units", args.units), ("filter", limits.filter.describe())]
+                   _inputs(args.history, args.instrument) + list(limits.files))
+    params = [("history units", args.units if instrument is None else "from the instrument"),
+              ("filter", limits.filter.describe())]
+    if record.method:
+        params.append(("record conditioning", record.method))
     return _finish(args, run, Path(args.history).stem, params)
 
 
@@ -363,7 +398,7 @@ def _cmd_simulate(args: argparse.Namespace) -> int:
     line, train, ops = load_inputs(args.track, args.train, ideal=args.ideal,
                                    operation=args.operation, start_speed_m_s=args.start_speed,
                                    units=args.units)
-    result = run_ride(line, train, ops, RideOptions(rate_hz=args.rate,
+    result = run_ride(line, train, ops, RideOptions(rate_hz=args.rate, step_m=args.step,
                                                     smoothing_m=args.smoothing))
     for warning in result.warnings:
         print(f"warning: {warning}", file=sys.stderr)
@@ -403,7 +438,7 @@ def _cmd_advise_bank(args: argparse.Namespace) -> int:
     line, train, ops = load_inputs(args.track, args.train, ideal=args.ideal,
                                    operation=args.operation, start_speed_m_s=args.start_speed,
                                    units=args.units)
-    advice = advise_bank(line, train, ops, RideOptions(rate_hz=args.rate,
+    advice = advise_bank(line, train, ops, RideOptions(rate_hz=args.rate, step_m=args.step,
                                                        smoothing_m=args.smoothing),
                          roll_rate_limit_deg_s=args.roll_rate, tolerance_g=args.tolerance,
                          smoothing_s=args.roll_smoothing, ideal=args.ideal or args.train is None)
@@ -470,7 +505,8 @@ def _cmd_compare(args: argparse.Namespace) -> int:
     new_line, _, new_ops = load_inputs(args.new, args.train, ideal=args.ideal,
                                        operation=new_ops_file,
                                        start_speed_m_s=args.start_speed, units=args.units)
-    options = RideOptions(rate_hz=args.rate, smoothing_m=args.smoothing)
+    options = RideOptions(rate_hz=args.rate, smoothing_m=args.smoothing,
+                          step_m=args.step)
     cases_file = None
     if args.cases:
         cases_file = STANDARD_CASES if args.cases == "standard" else args.cases
@@ -598,7 +634,71 @@ def _cmd_demo(args: argparse.Namespace) -> int:
     return EXIT_OK
 
 
-COMMANDS = {"simulate": _cmd_simulate, "check": _cmd_check,
+def _cmd_correlate(args: argparse.Namespace) -> int:
+    from pathlib import Path
+
+    from .correlate import correlate_record
+    from .documents import CAUTION, to_json
+    from .history import load_record
+    from .instrument import load_instrument
+    from .outputs import atomic_write_bytes, atomic_write_text
+    from .paths import check_run_paths
+    from .ride import RideOptions, load_inputs, run_ride
+
+    check_run_paths([args.record, args.track, args.train, args.operation, args.limits,
+                     args.instrument], [("--pdf", args.pdf), ("--json", args.json)])
+    limits = _limits(args)
+    instrument = load_instrument(args.instrument) if args.instrument else None
+    record = load_record(args.record, args.record_units, instrument, args.resample)
+    line, train, ops = load_inputs(args.track, args.train, ideal=args.ideal,
+                                   operation=args.operation, start_speed_m_s=args.start_speed,
+                                   units=args.units)
+    result = run_ride(line, train, ops, RideOptions(rate_hz=args.rate, step_m=args.step,
+                                                    smoothing_m=args.smoothing))
+    notes = list(record.notes) + list(result.warnings)
+    for note in notes:
+        print(f"warning: {note}", file=sys.stderr)
+    try:
+        found = correlate_record(record.signals, result.histories, limits.filter, args.seat)
+    except KeyError as exc:
+        names = ", ".join(h.seat for h in result.histories[:8])
+        raise InputError(args.record, f"no simulated seat named {exc.args[0]!r}",
+                         f"give --seat NAME (simulated seats: {names}, ...)") from None
+    except ValueError as exc:
+        raise InputError(args.record, str(exc), "check that the record is of this layout "
+                         "and operation") from None
+    print(f"{'recorded seat':<20}{'aligned by':<34}{'offset [s]':>11}"
+          + "".join(f"{a + ' rms':>10}{a + ' max':>10}" for a in ("gx", "gy", "gz")))
+    for c in found:
+        print(f"{c.recorded_seat:<20}{c.method:<34}{c.offset_s:>11.3f}"
+              + "".join(f"{a.rms_g:>10.3f}{a.peak_g:>10.3f}" for a in c.axes))
+    print("differences are recorded minus simulated, both filtered: "
+          + limits.filter.describe())
+    print("caution: " + CAUTION)
+    inputs = _inputs(args.record, args.instrument, args.track, args.train, args.operation) \
+        + list(limits.files)
+    command = _command_line()
+    if args.json:
+        doc = {"kind": "correlation", "caution": CAUTION, "command": command,
+               "filter": limits.filter.describe(), "record_conditioning": record.method,
+               "inputs": [{"file": f, "sha256": h} for f, h in inputs],
+               "review_items": notes, "correlations": [c.to_dict() for c in found]}
+        atomic_write_text(args.json, to_json(doc))
+        print(f"wrote {args.json}")
+    if args.pdf:
+        from .report.correlation import correlation_pdf
+
+        pdf = correlation_pdf(found, {
+            "project": args.project, "record_name": Path(args.record).name,
+            "track_name": Path(args.track).name, "filter": limits.filter.describe(),
+            "record_method": record.method, "notes": notes, "inputs": inputs,
+            "command": command, "page_size": args.page_size})
+        atomic_write_bytes(args.pdf, pdf)
+        print(f"wrote {args.pdf}")
+    return EXIT_OK
+
+
+COMMANDS = {"simulate": _cmd_simulate, "check": _cmd_check, "correlate": _cmd_correlate,
             "check-history": _cmd_check_history, "demo": _cmd_demo,
             "compare": _cmd_compare, "advise-bank": _cmd_advise_bank}
 

@@ -127,6 +127,10 @@ def read_numeric_csv(
         # rows end at '\n' only; a lone '\r' is blank space inside its row (the parser
         # would end a row there)
         raw = re.sub(rb"\r(?!\n)", b" ", raw)
+    quick = _read_plain(raw, required, known, text)
+    if quick is not None:
+        columns, line_numbers, strings = quick
+        return NumericTable(path, columns, line_numbers, strings)
     lines = _scan_lines(raw)
     if len(lines.data) == 0:
         raise InputError(path, f"is empty: no header row found for the {what}",
@@ -165,6 +169,65 @@ def read_numeric_csv(
                if name not in text_set}
     strings = {name: _stripped(frame[name]) for name in header if name in text_set}
     return NumericTable(path, columns, rows + 1, strings)
+
+
+def _read_plain(raw: bytes, required: list[str], known: list[str], text: Iterable[str]):
+    """The usual file read in one parse: comment lines only before the header, then one
+    valid row per line, ASCII, no blank line. None when the file is anything else or holds
+    any problem (the full reader then finds and names it)."""
+    start = 0
+    while True:  # leading comment lines
+        end = raw.find(b"\n", start)
+        line = raw[start:len(raw) if end < 0 else end]
+        if line.startswith(b"#"):
+            if end < 0:
+                return None
+            start = end + 1
+            continue
+        break
+    if end < 0:
+        return None
+    header = [f.strip() for f in line.decode("utf-8", errors="replace").split(",")]
+    if not line or line[:1].isspace() or any(h not in known for h in header) \
+            or len(set(header)) != len(header) or any(r not in header for r in required):
+        return None
+    body = end + 1  # offset of the first data line (slices of raw would copy it)
+    if body >= len(raw) or raw[body:body + 1].isspace():
+        return None
+    # no comment, carriage return, odd blank space, non-ASCII byte or blank line below the
+    # header (C-speed scans of the bytes, no copies)
+    if not raw.isascii() or any(raw.find(c, body) >= 0 for c in (
+            b"#", b"\r", b"\x0b", b"\x0c", b"\x1c", b"\x1d", b"\x1e", b"\x1f", b"\n\n", b"\n ",
+            b"\n\t")):
+        return None
+    count = raw.count(b"\n", body) + (0 if raw.endswith(b"\n") else 1)
+    if raw.count(b",", body) != (len(header) - 1) * count:  # a row with a value too many
+        return None
+    text_set = {name for name in text if name in header}
+    try:
+        frame = pd.read_csv(io.BytesIO(raw), header=None, names=header, na_filter=False,
+                            skiprows=raw[:body].count(b"\n"),
+                            quoting=csv.QUOTE_NONE, engine="c", skip_blank_lines=False,
+                            index_col=False, dtype={name: "category" for name in text_set})
+    except (ValueError, pd.errors.ParserError):
+        return None
+    if len(frame) != count:
+        return None
+    columns = {}
+    for name in header:
+        if name in text_set:
+            if frame[name].isna().any():
+                return None
+            continue
+        if frame[name].dtype.kind not in "fiu":
+            return None
+        values = frame[name].to_numpy(dtype=float)
+        if not np.all(np.isfinite(values)):  # a missing value reads as NaN: full reader
+            return None
+        columns[name] = values
+    first_data_line = raw[:body].count(b"\n") + 1
+    strings = {name: _stripped(frame[name]) for name in header if name in text_set}
+    return columns, first_data_line + np.arange(count), strings
 
 
 def _check_header(path: Path, header: list[str], header_line: int, required: list[str],

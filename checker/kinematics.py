@@ -89,7 +89,9 @@ def rider_histories(geometry: TrackGeometry, motion: RideMotion, seats: tuple[Se
     by car: the arrays stay in cache)."""
     times = sample_times(motion, rate_hz)
     lead = np.clip(lead_station_at(motion, times), motion.s[0], motion.s[-1])
-    v = np.interp(lead, motion.s, motion.v)
+    # speed from the energy variable e = v^2/2, which the integrator carries and which is
+    # smooth in s (v grows like sqrt(s) from rest, so v itself interpolates badly there)
+    v = np.sqrt(np.interp(lead, motion.s, 0.5 * motion.v**2) * 2.0)
     a_t = np.interp(lead, motion.s, motion.a_t)
     cars = np.arange(motion.car_count)
     s_car = lead[None, :] - cars[:, None] * motion.car_spacing_m  # (cars, n)

@@ -22,6 +22,31 @@ SPIKE_FLOOR = 0.05  # [1/m] ignore spikes on gentle curves
 ROLL_RATE_DEG_S = 400.0  # faster than a train is rolled in practice (rough)
 
 
+NOISE_RMS_PER_M = 0.01  # curvature a 2 mm fit removes, RMS over samples: noisy input [1/m]
+
+
+def fitting_warnings(geometry: TrackGeometry, line, automatic: bool) -> list[str]:
+    """What the curve fit did about rounded coordinates, and curvature noise left in them."""
+    out = []
+    sm = geometry.smoothing
+    if automatic and sm is not None:
+        out.append(f"track coordinates sit on a {line.resolution_text} grid (rounded export): "
+                   f"the curve is fitted within {sm.tolerance_m * 1000:.3g} mm RMS of the samples"
+                   f" (not through them); curvature removed rms {sm.rms_curvature_removed:.4f}"
+                   f" 1/m, max {sm.max_curvature_removed:.4f} 1/m at station "
+                   f"{sm.station_of_max_removed_m:.1f} m (--smoothing 0 fits through every "
+                   "sample)")
+    noise = geometry.noise
+    if noise is not None and noise.rms_curvature_removed > NOISE_RMS_PER_M:
+        out.append(f"curvature noise: a fit within {noise.tolerance_m * 1000:g} mm of the "
+                   f"samples removes {noise.rms_curvature_removed:.3f} 1/m RMS of curvature "
+                   f"(max {noise.max_curvature_removed:.3f} 1/m at station "
+                   f"{noise.station_of_max_removed_m:.1f} m), more than "
+                   f"{NOISE_RMS_PER_M:g} 1/m: noisy samples; try --smoothing "
+                   f"{noise.tolerance_m:g}")
+    return out
+
+
 def track_warnings(geometry: TrackGeometry, points: np.ndarray) -> list[str]:
     """Unit, sampling and curvature-spike checks on a centerline."""
     out = []

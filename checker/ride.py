@@ -18,8 +18,14 @@ from .errors import InputError
 from .geometry import TrackGeometry, build_geometry
 from .kinematics import SeatHistory, rider_histories
 from .operation import Operation, load_operation
-from .plausibility import crossing_warnings, motion_warnings, track_warnings, train_clearance_m
-from .track import Centerline, load_centerline
+from .plausibility import (
+    crossing_warnings,
+    fitting_warnings,
+    motion_warnings,
+    track_warnings,
+    train_clearance_m,
+)
+from .track import Centerline, load_centerline, smoothing_for
 from .train import Train, ideal_rider, load_train
 
 if TYPE_CHECKING:
@@ -33,7 +39,7 @@ class RideOptions:
     """Numerical options of a run."""
 
     rate_hz: float = 200.0
-    smoothing_m: float = 0.0
+    smoothing_m: float | None = None  # None: half the grid a rounded track file sits on
     step_m: float = 0.2
     head_wind_m_s: float = 0.0
 
@@ -59,7 +65,8 @@ def layout_geometry(centerline: Centerline, options: RideOptions = RideOptions()
                          "lengths are read in metres (or feet with --units ft): check the "
                          "file's units")
     return build_geometry(centerline.points, centerline.roll_deg, centerline.up,
-                          smoothing_m=options.smoothing_m, step_m=options.step_m)
+                          smoothing_m=smoothing_for(centerline, options.smoothing_m),
+                          step_m=options.step_m)
 
 
 def run_ride(centerline: Centerline, train: Train, operation: Operation,
@@ -77,7 +84,8 @@ def run_ride(centerline: Centerline, train: Train, operation: Operation,
     check_memory(len(train.seats) * train.car_count, train.car_count, motion.duration_s,
                  options.rate_hz, centerline.source)
     histories = rider_histories(geometry, motion, train.seats, options.rate_hz)
-    warnings = (track_warnings(geometry, centerline.points)
+    warnings = (fitting_warnings(geometry, centerline, options.smoothing_m is None)
+                + track_warnings(geometry, centerline.points)
                 + crossing_warnings(geometry, train_clearance_m(train))
                 + motion_warnings(geometry, motion, operation))
     return RideResult(geometry, motion, histories, train, operation, options, tuple(warnings))
@@ -137,7 +145,8 @@ def load_inputs(track: str | Path, train: str | Path | None = None, *, ideal: bo
 
 def simulate(track: str | Path, train: str | Path | None = None, *, ideal: bool = False,
              operation: str | Path | None = None, start_speed_m_s: float | None = None,
-             rate_hz: float = 200.0, units: str = "m", smoothing_m: float = 0.0) -> pd.DataFrame:
+             rate_hz: float = 200.0, units: str = "m",
+             smoothing_m: float | None = None) -> pd.DataFrame:
     """Simulate a ride and return every seat's unfiltered history as a DataFrame.
 
     Parameters
@@ -148,7 +157,8 @@ def simulate(track: str | Path, train: str | Path | None = None, *, ideal: bool 
     start_speed_m_s : overrides the operation's start speed [m/s].
     rate_hz : output sample rate [Hz].
     units : ``"m"`` or ``"ft"`` for the track's lengths.
-    smoothing_m : RMS tolerance [m] for smoothing noisy samples (0 = interpolate).
+    smoothing_m : RMS tolerance [m] for smoothing noisy samples (0 = interpolate; None =
+        half the grid a rounded track file's coordinates sit on, 0 for unrounded files).
 
     Returns
     -------
@@ -200,6 +210,14 @@ def run_check(centerline: Centerline, train: Train, operation: Operation, limits
     return CheckRun(evaluation, result, signals, [], stall)
 
 
+def _smoothing_text(result: RideResult) -> str:
+    used = result.geometry.smoothing.tolerance_m if result.geometry.smoothing else 0.0
+    if result.options.smoothing_m is None:
+        return (f"{used:g} m (automatic: half the coordinate grid)" if used
+                else "0 m (automatic: coordinates not rounded)")
+    return f"{used:g} m (given)"
+
+
 def ride_parameters(result: RideResult) -> list[tuple[str, str]]:
     """Every parameter of a simulated run, as (name, value with unit) for the record."""
     tr, ops, opt = result.train, result.operation, result.options
@@ -216,7 +234,7 @@ def ride_parameters(result: RideResult) -> list[tuple[str, str]]:
         ("start speed", f"{ops.start_speed_m_s:g} m/s"),
         ("output sample rate", f"{opt.rate_hz:g} Hz"),
         ("station grid step", f"{opt.step_m:g} m"),
-        ("smoothing tolerance", f"{opt.smoothing_m:g} m"),
+        ("smoothing tolerance", _smoothing_text(result)),
     ]
     for seat in tr.seats:
         rows.append((f"seat {seat.name} offset (forward, left, up)",

@@ -19,6 +19,10 @@ FOOT_M = 0.3048  # international foot [m], exact by definition (1959 agreement)
 KINK_LIMIT_DEG = 45.0  # turn between successive chords that no track makes between samples
 MIN_CHORD_M = 1e-6
 MAX_COORDINATE_M = 1e6  # no layout reaches 1000 km from its origin
+MAX_DECIMALS = 6  # coordinates with more decimals than this count as unrounded
+# A grid coarser than this (or than a tenth of the median sample spacing) is taken as values
+# typed on purpose (whole metres, decimetres), not as an export's rounding.
+ROUNDING_CAP_M = 0.0101
 
 
 @dataclass(frozen=True)
@@ -34,6 +38,8 @@ class Centerline:
     up: np.ndarray | None = None
     source: str = "<memory>"
     lines: np.ndarray | None = None  # file line of each sample, for messages
+    resolution_m: float | None = None  # grid the file's coordinates sit on [m], if any
+    resolution_text: str = ""  # that grid in the file's own unit, e.g. "0.001 m"
 
     @property
     def count(self) -> int:
@@ -46,6 +52,38 @@ def chord_turn_deg(points: np.ndarray) -> np.ndarray:
     a, b = chords[:-1], chords[1:]
     cos = np.einsum("ij,ij->i", a, b) / (np.linalg.norm(a, axis=1) * np.linalg.norm(b, axis=1))
     return np.degrees(np.arccos(np.clip(cos, -1.0, 1.0)))
+
+
+def coordinate_resolution(values: np.ndarray) -> float | None:
+    """The decimal grid 10^-d (in the values' own unit) that every value sits on, or None.
+
+    A CAD export that writes d decimals rounds every coordinate to a multiple of 10^-d; the
+    smallest such d is found by testing d = 0, 1, ..., MAX_DECIMALS with a tolerance for
+    binary floating point. None means the values carry more than MAX_DECIMALS decimals (no
+    rounding worth fitting around).
+    """
+    v = np.asarray(values, dtype=float).ravel()
+    v = v[np.isfinite(v)]
+    if v.size == 0:
+        return None
+    for decimals in range(MAX_DECIMALS + 1):
+        scaled = v * 10.0**decimals
+        off = np.abs(scaled - np.round(scaled))
+        if np.all(off <= 1e-6 + 1e-12 * np.abs(scaled)):
+            return 10.0**-decimals
+    return None
+
+
+def smoothing_for(line: Centerline, requested_m: float | None) -> float:
+    """The smoothing tolerance [m] of a run: the one asked for, else half the coordinate grid.
+
+    Rounding to a grid q leaves each coordinate off by up to q/2 (uniform, RMS q/sqrt(12)),
+    so a point is off by sqrt(3) q / sqrt(12) = q/2 RMS when all three coordinates vary: a
+    fit within q/2 keeps what the file states and drops what the rounding added.
+    """
+    if requested_m is not None:
+        return float(requested_m)
+    return 0.5 * line.resolution_m if line.resolution_m else 0.0
 
 
 def validate_centerline(line: Centerline) -> Centerline:
@@ -113,5 +151,11 @@ def load_centerline(path: str | Path, units: str = "m") -> Centerline:
                          f"add column '{missing}'", column=missing)
     roll = table.columns["roll_deg"].copy() if table.has("roll_deg") else None
     up = np.column_stack([table.columns[c] for c in up_names]) if up_names else None
-    line = Centerline(points, roll, up, str(path), table.lines)
+    grid = coordinate_resolution(np.column_stack([table.columns[c] for c in "xyz"]))
+    spacing = float(np.median(np.linalg.norm(np.diff(points, axis=0), axis=1))) \
+        if len(points) > 1 else 0.0
+    resolution = (grid * scale if grid is not None
+                  and 1e-6 <= grid * scale <= min(ROUNDING_CAP_M, 0.1 * spacing) else None)
+    text = f"{grid:g} {units}" if resolution is not None else ""
+    line = Centerline(points, roll, up, str(path), table.lines, resolution, text)
     return validate_centerline(line)

@@ -1,0 +1,42 @@
+"""The correlation PDF: a recorded ride against its simulation (jinja2 + weasyprint)."""
+
+from __future__ import annotations
+
+import datetime as _dt
+
+from .. import __version__
+from ..documents import CAUTION
+from . import figures
+from .document import PAGE_SIZES, _env, _fmt
+from .pdf import ASSET_SCHEME, TemplatesOnlyFetcher, render_pdf
+
+
+def correlation_pdf(correlations, meta: dict) -> bytes:
+    """correlations: list of checker.correlate.Correlation. meta: project, record_name,
+    track_name, filter, record_method, notes, inputs [(file, sha256)], command, page_size."""
+    env = _env()
+    assets: dict[str, str] = {}
+    rows, figs = [], []
+    for c in correlations:
+        for a in c.axes:
+            rows.append({"recorded": c.recorded_seat, "simulated": c.simulated_seat,
+                         "method": c.method, "offset": _fmt(c.offset_s, 3),
+                         "peak": _fmt(c.peak_correlation, 3), "axis": a.axis,
+                         "rms": _fmt(a.rms_g, 3), "largest": _fmt(a.peak_g, 3),
+                         "t_peak": _fmt(a.t_peak_s, 2)})
+        name = f"figure{len(assets) + 1}.svg"
+        assets[name] = figures.time_histories(
+            c.t, c.simulated, None, [],
+            f"{c.recorded_seat}: simulated (colour) and recorded (dashed), filtered, aligned",
+            overlay=(c.t, c.recorded, "recorded"))
+        figs.append({"seat": c.recorded_seat, "url": f"{ASSET_SCHEME}:{name}"})
+    css = env.get_template("report.css").render(
+        page_size=PAGE_SIZES[meta.get("page_size", "a4")],
+        footer_left="checker self-check - not a certification or an approval")
+    html = env.get_template("correlate.html.j2").render(
+        css=css, project=meta.get("project", "(not given)"), record_name=meta["record_name"],
+        track_name=meta["track_name"], date=_dt.date.today().isoformat(), version=__version__,
+        filter=meta["filter"], caution=CAUTION, record_method=meta.get("record_method", ""),
+        rows=rows, figures=figs, notes=meta.get("notes", []),
+        inputs=[{"file": f, "sha256": h} for f, h in meta["inputs"]], command=meta["command"])
+    return render_pdf(html, TemplatesOnlyFetcher(assets=assets))
