@@ -14,7 +14,7 @@ from pathlib import Path
 from checker.documents import BUNDLED_LIMITS
 from checker.limits import load_limits
 from checker.report import ReportMeta, TemplatesOnlyFetcher, build_html, render_pdf
-from checker.ride import CheckRun, load_inputs, run_ride
+from checker.ride import load_inputs, run_ride
 from checker.rules import evaluate
 
 SAMPLES = Path(__file__).resolve().parents[1] / "sample_tracks"
@@ -32,8 +32,8 @@ def main() -> None:
         t1 = time.perf_counter()
         evaluation = evaluate(ride.histories, limits)
         t2 = time.perf_counter()
-        run = CheckRun(evaluation, ride, {(h.seat, "nominal"): h for h in ride.histories}, [])
-        html, assets = build_html(evaluation, run.signals, ride, ReportMeta())
+        signals = {(h.seat, "nominal"): h for h in ride.histories}
+        html, assets = build_html(evaluation, signals, ride, ReportMeta())
         t3 = time.perf_counter()
         pdf = render_pdf(html, TemplatesOnlyFetcher(assets=assets))
         t4 = time.perf_counter()

@@ -1,51 +1,57 @@
-"""Command line: argument parsing, exit codes and error printing. No numerics here.
+"""Command line: parse -> call the application layer -> print -> exit code. No numerics here.
 
-Exit codes: 0 every rule holds (or the command ran), 1 at least one finding (or a stall),
-2 bad input or usage, 130 interrupted.
+Each command is one function ``_cmd_<name>(args, app, call)`` that calls one operation of
+:mod:`checker.application` and prints its result; options shared by several commands are
+added by one ``_add_*`` function each. The numerical rooms (numpy, pandas, scipy, matplotlib,
+weasyprint) load in one place, :func:`main`, after the arguments parse, so ``--help`` and
+usage errors answer at once.
+
+Exit codes: 0 every rule holds (or the command ran), 1 at least one finding (or a stall, or a
+regression for ``compare``), 2 bad input or usage, 130 interrupted.
 """
 
 from __future__ import annotations
 
 import argparse
+import shlex
 import signal
 import sys
-from collections.abc import Sequence
-from concurrent.futures.process import BrokenProcessPool
+from collections.abc import Callable, Sequence
+from concurrent.futures import BrokenExecutor
 
 from . import __version__
-from .errors import InputError, TrainStalled
+from .caution import CAUTION
+from .errors import InputError
 
 EXIT_OK, EXIT_FINDINGS, EXIT_INPUT, EXIT_INTERRUPTED = 0, 1, 2, 130
 
 
-def _positive(text: str) -> float:
-    try:
-        value = float(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"'{text}' is not a number") from None
-    if not value > 0:
-        raise argparse.ArgumentTypeError(f"must be greater than zero, got {text}")
-    return value
+# ---------------------------------------------------------------------------------------------
+# Parsing
 
 
-def _nonnegative(text: str) -> float:
-    try:
-        value = float(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"'{text}' is not a number") from None
-    if not value >= 0:
-        raise argparse.ArgumentTypeError(f"must be zero or more, got {text}")
-    return value
+def _number(minimum: float, inclusive: bool) -> Callable[[str], float]:
+    """An argparse type: a number above ``minimum`` (or equal to it when ``inclusive``)."""
+    bound = "zero or more" if inclusive else "greater than zero"
+
+    def parse(text: str) -> float:
+        try:
+            value = float(text)
+        except ValueError:
+            raise argparse.ArgumentTypeError(f"'{text}' is not a number") from None
+        if not (value >= minimum if inclusive else value > minimum):
+            raise argparse.ArgumentTypeError(f"must be {bound}, got {text}")
+        return value
+
+    return parse
 
 
-def _add_ride_options(p: argparse.ArgumentParser) -> None:
-    p.add_argument("track", help="centerline CSV (x, y, z [m]; optional roll_deg or up_*)")
-    p.add_argument("--operation", help="operation TOML (start speed, lift, launch, brakes)")
-    _add_ride_settings(p)
+_positive = _number(0.0, inclusive=False)
+_nonnegative = _number(0.0, inclusive=True)
 
 
 def _add_ride_settings(p: argparse.ArgumentParser) -> None:
-    """Train and numerical options shared by every command that simulates."""
+    """Train and numerical options of every command that simulates."""
     group = p.add_mutually_exclusive_group()
     group.add_argument("--train", help="train TOML (cars, seats, masses, resistances)")
     group.add_argument("--ideal", action="store_true",
@@ -60,58 +66,22 @@ def _add_ride_settings(p: argparse.ArgumentParser) -> None:
                    help="RMS tolerance for smoothing noisy CAD samples (default 0: interpolate)")
 
 
-def build_parser() -> argparse.ArgumentParser:
-    parser = argparse.ArgumentParser(
-        prog="checker",
-        description="Acceleration-envelope self-check for roller coaster layouts. A self-check, "
-                    "not a certification: the governing code, the authority having "
-                    "jurisdiction and licensed engineering review decide.")
-    parser.add_argument("--version", action="version", version=f"checker {__version__}")
-    sub = parser.add_subparsers(dest="command", metavar="COMMAND")
-    sim = sub.add_parser("simulate", help="simulate a ride; write every seat's history (CSV)")
-    _add_ride_options(sim)
-    sim.add_argument("-o", "--output", required=True, metavar="HISTORY.csv",
-                     help="where to write the history")
-    chk = sub.add_parser("check", help="simulate and check every seat against a limit set")
-    _add_ride_options(chk)
-    _add_check_options(chk)
-    _add_case_options(chk)
-    hist = sub.add_parser("check-history",
-                          help="check a recorded or exported history against a limit set")
-    hist.add_argument("history", help="CSV with t, gx, gy, gz (optional seat)")
-    hist.add_argument("--units", choices=("g", "m/s2"), default="g",
-                      help="unit of gx, gy, gz in the file (default g)")
-    _add_check_options(hist)
-    cmp_ = sub.add_parser("compare", help="compare two revisions of a layout: what got "
-                          "better and what got worse")
-    cmp_.add_argument("old", help="the old revision's centerline CSV")
-    cmp_.add_argument("new", help="the new revision's centerline CSV")
-    _add_ride_settings(cmp_)
-    cmp_.add_argument("--operation", help="operation TOML for both layouts")
-    cmp_.add_argument("--old-operation", help="operation TOML for the old layout only")
-    cmp_.add_argument("--new-operation", help="operation TOML for the new layout only")
-    cmp_.add_argument("--limits", help="limits TOML (default: the bundled ILLUSTRATIVE set)")
-    cmp_.add_argument("--json", metavar="CHANGES.json", help="write the comparison as JSON")
-    cmp_.add_argument("--pdf", metavar="COMPARISON.pdf", help="write the comparison PDF")
-    cmp_.add_argument("--page-size", choices=("a4", "letter"), default="a4")
-    cmp_.add_argument("--project", default="(not given)")
-    _add_case_options(cmp_)
-    demo = sub.add_parser("demo", help="check both revisions of the bundled demo layout and "
-                          "write their PDF and JSON reports")
-    demo.add_argument("--out", default="demo-output", metavar="FOLDER",
-                      help="folder for the reports (default ./demo-output)")
-    demo.add_argument("--page-size", choices=("a4", "letter"), default="a4")
-    return parser
-
-
-def _add_check_options(p: argparse.ArgumentParser) -> None:
+def _add_limits(p: argparse.ArgumentParser) -> None:
     p.add_argument("--limits", help="limits TOML (default: the bundled ILLUSTRATIVE set)")
-    p.add_argument("--json", metavar="FINDINGS.json", help="write the findings as JSON")
-    p.add_argument("--pdf", metavar="REPORT.pdf",
-                   help="write the PDF report (and a JSON sidecar beside it)")
+
+
+def _add_documents(p: argparse.ArgumentParser, json_name: str, pdf_name: str) -> None:
+    """--json, --pdf, --page-size and --project."""
+    p.add_argument("--json", metavar=json_name, help="write the JSON record")
+    p.add_argument("--pdf", metavar=pdf_name,
+                   help="write the PDF (and a JSON sidecar beside it, unless --json names one)")
     p.add_argument("--page-size", choices=("a4", "letter"), default="a4",
                    help="paper size of the PDF (default a4)")
-    p.add_argument("--project", default="(not given)", help="project name for the report")
+    p.add_argument("--project", default="(not given)", help="project name for the documents")
+
+
+def _add_labels(p: argparse.ArgumentParser) -> None:
+    """Layout labels and the single load case's name, for a check."""
     p.add_argument("--layout-name", default=None, help="layout name (default: file name)")
     p.add_argument("--revision", default="(not given)", help="layout revision for the report")
     p.add_argument("--case", default="nominal", help="name of the load case (default nominal)")
@@ -127,102 +97,63 @@ def _add_case_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--quiet", action="store_true", help="no progress bar")
 
 
-def _limits(args: argparse.Namespace):
-    from .documents import BUNDLED_LIMITS
-    from .limits import load_limits
+def build_parser() -> argparse.ArgumentParser:
+    """The argument parser of every command (adding a command: one ``add_parser`` block here,
+    one ``_cmd_`` function and one entry in :data:`COMMANDS`)."""
+    parser = argparse.ArgumentParser(
+        prog="checker",
+        description=f"Acceleration-envelope self-check for roller coaster layouts. {CAUTION}")
+    parser.add_argument("--version", action="version", version=f"checker {__version__}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND")
 
-    if args.limits is None:
-        print(f"limits: none given, using the bundled ILLUSTRATIVE set {BUNDLED_LIMITS.name} "
-              "(invented example values, not from any standard)")
-        return load_limits(BUNDLED_LIMITS)
-    return load_limits(args.limits)
+    sim = sub.add_parser("simulate", help="simulate a ride; write every seat's history (CSV)")
+    sim.add_argument("track", help="centerline CSV (x, y, z [m]; optional roll_deg or up_*)")
+    sim.add_argument("--operation", help="operation TOML (start speed, lift, launch, brakes)")
+    _add_ride_settings(sim)
+    sim.add_argument("-o", "--output", required=True, metavar="HISTORY.csv",
+                     help="where to write the history")
 
+    chk = sub.add_parser("check", help="simulate and check every seat against a limit set")
+    chk.add_argument("track", help="centerline CSV (x, y, z [m]; optional roll_deg or up_*)")
+    chk.add_argument("--operation", help="operation TOML (start speed, lift, launch, brakes)")
+    _add_ride_settings(chk)
+    _add_limits(chk)
+    _add_documents(chk, "FINDINGS.json", "REPORT.pdf")
+    _add_labels(chk)
+    _add_case_options(chk)
 
-def _command_line() -> str:
-    import shlex
+    hist = sub.add_parser("check-history",
+                          help="check a recorded or exported history against a limit set")
+    hist.add_argument("history", help="CSV with t, gx, gy, gz (optional seat)")
+    hist.add_argument("--units", choices=("g", "m/s2"), default="g",
+                      help="unit of gx, gy, gz in the file (default g)")
+    _add_limits(hist)
+    _add_documents(hist, "FINDINGS.json", "REPORT.pdf")
+    _add_labels(hist)
 
-    return "checker " + " ".join(shlex.quote(a) for a in sys.argv[1:])
+    cmp_ = sub.add_parser("compare", help="compare two revisions of a layout: what got "
+                          "better and what got worse")
+    cmp_.add_argument("old", help="the old revision's centerline CSV")
+    cmp_.add_argument("new", help="the new revision's centerline CSV")
+    _add_ride_settings(cmp_)
+    cmp_.add_argument("--operation", help="operation TOML for both layouts")
+    cmp_.add_argument("--old-operation", help="operation TOML for the old layout only")
+    cmp_.add_argument("--new-operation", help="operation TOML for the new layout only")
+    _add_limits(cmp_)
+    _add_documents(cmp_, "CHANGES.json", "COMPARISON.pdf")
+    _add_case_options(cmp_)
 
-
-def _finish(args, run, source: str, parameters: list) -> int:
-    """Print the summary; write JSON and PDF as asked. Returns the exit code."""
-    from .documents import CAUTION, evaluation_document, summary_table, to_json
-    from .outputs import atomic_write_text
-
-    evaluation = run.evaluation
-    for warning in evaluation.warnings:
-        print(f"warning: {warning}", file=sys.stderr)
-    print(summary_table(evaluation))
-    if run.sweep is not None:
-        from .documents import sweep_document, sweep_tables
-
-        print(sweep_tables(run.sweep))
-        extra_sweep = sweep_document(run.sweep)
-    else:
-        extra_sweep = {}
-    if evaluation.limits.illustrative:
-        print("note: the limit set is ILLUSTRATIVE; the verdict says nothing about compliance")
-    print("caution: " + CAUTION)
-    command = _command_line()
-    extra = {"stall": run.stall, **extra_sweep}
-    if args.pdf:
-        from .report import ReportMeta, write_report
-
-        meta = ReportMeta(project=args.project, layout=args.layout_name or source,
-                          revision=args.revision, page_size=args.page_size, command=command,
-                          inputs=run.inputs, parameters=parameters, stall=run.stall,
-                          sweep=run.sweep)
-        pdf, sidecar = write_report(run, args.pdf, meta, args.json, extra)
-        print(f"wrote {pdf} and {sidecar}")
-    elif args.json:
-        doc = evaluation_document(evaluation, run.inputs, command, extra)
-        atomic_write_text(args.json, to_json(doc))
-        print(f"wrote {args.json}")
-    return EXIT_FINDINGS if evaluation.verdict == "fail" or run.stall else EXIT_OK
-
-
-def _inputs(*paths) -> list[tuple[str, str]]:
-    from .limits import sha256_of
-
-    return [(str(p), sha256_of(p)) for p in paths if p is not None]
+    demo = sub.add_parser("demo", help="check both revisions of the bundled demo layout and "
+                          "write their PDF and JSON reports")
+    demo.add_argument("--out", default="demo-output", metavar="FOLDER",
+                      help="folder for the reports (default ./demo-output)")
+    demo.add_argument("--page-size", choices=("a4", "letter"), default="a4",
+                      help="paper size of the PDFs (default a4)")
+    return parser
 
 
-def _check_outputs(args) -> None:
-    from .outputs import check_writable
-
-    for path in (args.json, args.pdf):
-        if path:
-            check_writable(path)
-
-
-def _cmd_check(args: argparse.Namespace) -> int:
-    from pathlib import Path
-
-    from .ride import RideOptions, load_inputs, ride_parameters, run_check
-
-    _check_outputs(args)
-    limits = _limits(args)
-    line, train, ops = load_inputs(args.track, args.train, ideal=args.ideal,
-                                   operation=args.operation, start_speed_m_s=args.start_speed,
-                                   units=args.units)
-    options = RideOptions(rate_hz=args.rate, smoothing_m=args.smoothing)
-    extra_inputs: list = []
-    case_names: list[str] = []
-    if args.cases:
-        run, cases_file, case_names = _run_sweep(args, line, train, ops, limits, options)
-        extra_inputs = [cases_file]
-    else:
-        run = run_check(line, train, ops, limits, options, args.case)
-    if run.stall:
-        print(f"checker: {run.stall}", file=sys.stderr)
-    run.inputs = (_inputs(args.track, args.train, args.operation, *extra_inputs)
-                  + list(limits.files))
-    params = ride_parameters(run.ride) + [("track length unit", args.units),
-                                          ("filter", limits.filter.describe())]
-    if args.cases:
-        params.append(("load cases", f"{args.cases} ({len(case_names)} cases: "
-                       + ", ".join(case_names) + ")"))
-    return _finish(args, run, Path(args.track).stem, params)
+# ---------------------------------------------------------------------------------------------
+# Printing helpers
 
 
 class Progress:
@@ -244,223 +175,120 @@ class Progress:
         sys.stderr.flush()
 
 
-def _check_cases_fit(cases, cases_file, train, ops, options) -> None:
-    """Fail early, naming the cases file, on a case that does not fit the train."""
-    from .loadcases import apply_case
-
-    for i, case in enumerate(cases):
-        try:
-            apply_case(train, ops, options, case)
-        except InputError as exc:
-            raise InputError(cases_file, exc.problem, exc.hint,
-                             key=f"case[{i + 1}].occupancy") from None
+def _note_limits(args: argparse.Namespace, app) -> None:
+    if args.limits is None:
+        print(f"limits: none given, using the bundled ILLUSTRATIVE set "
+              f"{app.BUNDLED_LIMITS.name} (invented example values, not from any standard)")
 
 
-def _run_sweep(args, line, train, ops, limits, options):
-    from .loadcases import STANDARD_CASES, load_cases
-    from .sweep import run_cases, sweep_check_run
-
-    cases_file = STANDARD_CASES if args.cases == "standard" else args.cases
-    cases = load_cases(cases_file)
-    _check_cases_fit(cases, cases_file, train, ops, options)
-    sweep = run_cases(line, train, ops, limits, options, cases, workers=args.workers,
-                      scheduler=args.scheduler, progress=Progress("cases", args.quiet))
-    run = sweep_check_run(sweep, line, train, ops, limits, options, cases)
-    run.sweep = sweep
-    return run, cases_file, [c.name for c in cases]
+def _check_outputs(app, *paths: str | None) -> None:
+    """Fail before any work when an output cannot be written."""
+    for path in paths:
+        if path:
+            app.check_writable(path)
 
 
-def _cmd_check_history(args: argparse.Namespace) -> int:
-    from pathlib import Path
-
-    from .history import load_history
-    from .ride import CheckRun
-    from .rules import evaluate
-
-    _check_outputs(args)
-    limits = _limits(args)
-    signals = load_history(args.history, args.units)
-    evaluation = evaluate(signals, limits, args.case)
-    run = CheckRun(evaluation, None, {(s.seat, args.case): s for s in signals},
-                   _inputs(args.history) + list(limits.files))
-    params = [("history units", args.units), ("filter", limits.filter.describe())]
-    return _finish(args, run, Path(args.history).stem, params)
+def _write_documents(args: argparse.Namespace, result) -> None:
+    """--pdf writes the PDF with its JSON sidecar (at --json when given); --json alone the
+    JSON."""
+    if args.pdf:
+        pdf, sidecar = result.write_pdf(args.pdf, args.json)
+        print(f"wrote {pdf} and {sidecar}")
+    elif args.json:
+        print(f"wrote {result.write_json(args.json)}")
 
 
-def _cmd_simulate(args: argparse.Namespace) -> int:
-    from .outputs import atomic_write_text, check_writable
-    from .ride import RideOptions, histories_frame, load_inputs, run_ride
-
-    check_writable(args.output)
-    line, train, ops = load_inputs(args.track, args.train, ideal=args.ideal,
-                                   operation=args.operation, start_speed_m_s=args.start_speed,
-                                   units=args.units)
-    result = run_ride(line, train, ops, RideOptions(rate_hz=args.rate,
-                                                    smoothing_m=args.smoothing))
+def _print_check(args: argparse.Namespace, result) -> int:
     for warning in result.warnings:
         print(f"warning: {warning}", file=sys.stderr)
-    frame = histories_frame(result.histories)
-    atomic_write_text(args.output, frame.to_csv(index=False, float_format="%.6g"))
-    print(f"wrote {args.output}: {len(result.histories)} seats, {len(frame)} rows, "
-          f"ride time {result.motion.duration_s:.1f} s, {result.motion.end_reason}")
-    if result.geometry.smoothing is not None:
-        sm = result.geometry.smoothing
-        print(f"smoothing {sm.tolerance_m:g} m: samples moved up to {sm.max_deviation_m:.3f} m; "
-              f"curvature removed rms {sm.rms_curvature_removed:.4f} 1/m, max "
-              f"{sm.max_curvature_removed:.4f} 1/m at station {sm.station_of_max_removed_m:.1f} m")
-    if result.motion.stall is not None:
-        print(f"checker: {result.motion.stall}; the history ends there", file=sys.stderr)
+    print(result.summary())
+    _write_documents(args, result)
+    return EXIT_FINDINGS if result.verdict == "fail" else EXIT_OK
+
+
+# ---------------------------------------------------------------------------------------------
+# Commands: each parse -> call -> print -> exit code
+
+
+def _cmd_simulate(args: argparse.Namespace, app, call: str) -> int:
+    _check_outputs(app, args.output)
+    result = app.simulate_ride(args.track, train=args.train, ideal=args.ideal,
+                               operation=args.operation, start_speed_m_s=args.start_speed,
+                               rate_hz=args.rate, units=args.units,
+                               smoothing_m=args.smoothing, call=call)
+    for warning in result.ride.warnings:
+        print(f"warning: {warning}", file=sys.stderr)
+    result.write_csv(args.output)
+    print(result.summary(args.output))
+    if result.stall is not None:
+        print(f"checker: {result.stall}; the history ends there", file=sys.stderr)
         return EXIT_FINDINGS
     return EXIT_OK
 
 
-def _cmd_compare(args: argparse.Namespace) -> int:
-    from pathlib import Path
-
-    from .compare import compare_sweeps
-    from .documents import CAUTION, comparison_document, to_json
-    from .loadcases import STANDARD_CASES, LoadCase, apply_case, load_cases
-    from .outputs import atomic_write_bytes, atomic_write_text
-    from .ride import RideOptions, load_inputs, run_check
-    from .sweep import run_layouts
-
-    _check_outputs(args)
-    limits = _limits(args)
-    old_ops_file = args.old_operation or args.operation
-    new_ops_file = args.new_operation or args.operation
-    old_line, train, old_ops = load_inputs(args.old, args.train, ideal=args.ideal,
-                                           operation=old_ops_file,
-                                           start_speed_m_s=args.start_speed, units=args.units)
-    new_line, _, new_ops = load_inputs(args.new, args.train, ideal=args.ideal,
-                                       operation=new_ops_file,
-                                       start_speed_m_s=args.start_speed, units=args.units)
-    options = RideOptions(rate_hz=args.rate, smoothing_m=args.smoothing)
-    cases_file = None
-    if args.cases:
-        cases_file = STANDARD_CASES if args.cases == "standard" else args.cases
-        cases = load_cases(cases_file)
-    else:
-        cases = [LoadCase("nominal")]
-    if cases_file is not None:
-        _check_cases_fit(cases, cases_file, train, old_ops, options)
-    old, new = run_layouts([(old_line, train, old_ops), (new_line, train, new_ops)], limits,
-                           options, cases, workers=args.workers, scheduler=args.scheduler,
-                           progress=Progress("layouts x cases", args.quiet))
-    comparison = compare_sweeps(old, new, old.outcomes[0].track_length_m,
-                                new.outcomes[0].track_length_m)
-    old_stalls = {o.case for o in old.outcomes if o.stall}
-    new_stalls = [f"new revision, case {o.case}: {o.stall}" for o in new.outcomes
-                  if o.stall and o.case not in old_stalls]
-    regressed = comparison.regressed or bool(new_stalls)
-    old_name, new_name = Path(args.old).stem, Path(args.new).stem
-    print(f"old {old_name}: {comparison.old_verdict.upper()} ({len(old.findings)} findings); "
-          f"new {new_name}: {comparison.new_verdict.upper()} ({len(new.findings)} findings)")
-    print("findings: " + ", ".join(f"{comparison.count(k)} {k}" for k in
-                                   ("new", "worse", "gone", "better", "same")))
-    for c in comparison.changes:
-        if c.status == "same":
-            continue
-        f = c.new or c.old
-        where = f"{f.s_worst_m:.1f} m" if f.s_worst_m is not None else f"{f.t_worst:.2f} s"
-        print(f"  {c.status:<6} {c.rule:<26} {c.seat:<12} {c.case:<14} at {where:<9} "
-              f"margin {c.old.margin if c.old else float('nan'):7.2f} -> "
-              f"{c.new.margin if c.new else float('nan'):7.2f}  {c.matched_by}")
-    print(f"{'seat':<14}" + "".join(f"{a + ' ' + k:>16}" for a in ("gx", "gy", "gz")
-                                    for k in ("min", "max")))
-    by_seat: dict = {}
-    for p in comparison.peaks:
-        by_seat.setdefault(p["seat"], []).append(f"{p['old']:6.2f}>{p['new']:6.2f}")
-    for seat, cells in by_seat.items():
-        print(f"{seat:<14}" + "".join(f"{c:>16}" for c in cells))
-    for s in new_stalls:
-        print(f"warning: {s}", file=sys.stderr)
-    print("regression: " + ("YES (a new or worse finding)" if regressed else "no"))
-    print("caution: " + CAUTION)
-    inputs = _inputs(args.old, args.new, args.train, old_ops_file,
-                     new_ops_file if new_ops_file != old_ops_file else None,
-                     cases_file) + list(limits.files)
-    command = _command_line()
-    if args.json:
-        doc = comparison_document(comparison, limits, args.old, args.new, len(old.findings),
-                                  len(new.findings), regressed, new_stalls,
-                                  [c.name for c in cases], inputs, command)
-        atomic_write_text(args.json, to_json(doc))
-        print(f"wrote {args.json}")
-    if args.pdf:
-        from .report.comparison import comparison_pdf
-
-        governing = (new.governing() or old.governing())
-        focus_case = governing[0].case if governing else cases[0].name
-        focus_seat = governing[0].seat if governing else None
-        by_name = {c.name: c for c in cases}
-        focus = {"case": focus_case}
-        for label, line, ops in (("old", old_line, old_ops), ("new", new_line, new_ops)):
-            tr, op, opt = apply_case(train, ops, options, by_name[focus_case])
-            run = run_check(line, tr, op, limits, opt, focus_case)
-            seat = focus_seat or run.evaluation.seats[0].seat
-            result = next(s for s in run.evaluation.seats if s.seat == seat)
-            focus[label] = (result, run.signals[(seat, focus_case)], run.ride)
-            focus["seat"] = seat
-        pdf = comparison_pdf(comparison, focus, {
-            "project": args.project, "old_name": old_name, "new_name": new_name,
-            "limits": limits, "cases": ", ".join(c.name for c in cases), "inputs": inputs,
-            "command": command, "page_size": args.page_size, "stalls": new_stalls})
-        atomic_write_bytes(args.pdf, pdf)
-        print(f"wrote {args.pdf}")
-    return EXIT_FINDINGS if regressed else EXIT_OK
+def _cmd_check(args: argparse.Namespace, app, call: str) -> int:
+    _check_outputs(app, args.json, args.pdf)
+    _note_limits(args, app)
+    result = app.check_layout(
+        args.track, train=args.train, ideal=args.ideal, operation=args.operation,
+        start_speed_m_s=args.start_speed, limits=args.limits, cases=args.cases,
+        case=args.case, rate_hz=args.rate, units=args.units, smoothing_m=args.smoothing,
+        project=args.project, layout=args.layout_name, revision=args.revision,
+        page_size=args.page_size, workers=args.workers, scheduler=args.scheduler,
+        progress=Progress("cases", args.quiet), call=call)
+    if result.stall:
+        print(f"checker: {result.stall}", file=sys.stderr)
+    return _print_check(args, result)
 
 
-def _cmd_demo(args: argparse.Namespace) -> int:
+def _cmd_check_history(args: argparse.Namespace, app, call: str) -> int:
+    _check_outputs(app, args.json, args.pdf)
+    _note_limits(args, app)
+    result = app.check_history(args.history, units=args.units, limits=args.limits,
+                               case=args.case, project=args.project,
+                               layout=args.layout_name, revision=args.revision,
+                               page_size=args.page_size, call=call)
+    return _print_check(args, result)
+
+
+def _cmd_compare(args: argparse.Namespace, app, call: str) -> int:
+    _check_outputs(app, args.json, args.pdf)
+    _note_limits(args, app)
+    result = app.compare_layouts(
+        args.old, args.new, train=args.train, ideal=args.ideal, operation=args.operation,
+        old_operation=args.old_operation, new_operation=args.new_operation,
+        start_speed_m_s=args.start_speed, limits=args.limits, cases=args.cases,
+        rate_hz=args.rate, units=args.units, smoothing_m=args.smoothing,
+        project=args.project, page_size=args.page_size, workers=args.workers,
+        scheduler=args.scheduler, progress=Progress("layouts x cases", args.quiet),
+        plot_signals=bool(args.pdf), call=call)
+    for stall in result.new_stalls:
+        print(f"warning: {stall}", file=sys.stderr)
+    print(result.summary())
+    _write_documents(args, result)
+    return EXIT_FINDINGS if result.regressed else EXIT_OK
+
+
+def _cmd_demo(args: argparse.Namespace, app, call: str) -> int:
     import time
-    from pathlib import Path
-
-    from .documents import BUNDLED_LIMITS
-    from .limits import load_limits
-    from .report import ReportMeta, write_report
-    from .resources import demo_folder
-    from .ride import RideOptions, load_inputs, ride_parameters, run_check
 
     started = time.perf_counter()
-    here = demo_folder()
-    out = Path(args.out)
-    try:
-        out.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        raise InputError(out, f"cannot create the output folder ({exc.strerror})",
-                         "choose another --out folder") from None
-    limits = load_limits(BUNDLED_LIMITS)
-    train_file = here / "thistle_comet_train.toml"
     print("demo: Marrowvale Pleasure Gardens (a fictional park), 'Thistle Comet' (a fictional "
           "layout), against the bundled ILLUSTRATIVE limits")
-    for rev, what in (("A", "circular loop"), ("B", "teardrop loop")):
-        track = here / f"thistle_comet_rev{rev}.csv"
-        ops_file = here / f"thistle_comet_rev{rev}.operation.toml"
-        line, train, ops = load_inputs(track, train_file, operation=ops_file)
-        run = run_check(line, train, ops, limits, RideOptions())
-        run.inputs = _inputs(track, train_file, ops_file) + list(limits.files)
-        command = (f"checker check {track} --train {train_file} --operation {ops_file} "
-                   f"--project 'Marrowvale Pleasure Gardens (fictional)' --layout-name "
-                   f"'Thistle Comet' --revision {rev} --pdf {out / f'thistle_comet_rev{rev}.pdf'}")
-        meta = ReportMeta(project="Marrowvale Pleasure Gardens (fictional demo park)",
-                          layout="Thistle Comet (fictional demo layout)",
-                          revision=f"{rev} ({what})", page_size=args.page_size,
-                          command=command, inputs=run.inputs, stall=run.stall,
-                          parameters=ride_parameters(run.ride) + [
-                              ("filter", limits.filter.describe())])
-        pdf, sidecar = write_report(run, out / f"thistle_comet_rev{rev}.pdf", meta, None,
-                                    {"stall": run.stall})
-        ev = run.evaluation
-        print(f"  revision {rev} ({what}): {ev.verdict.upper()} with {len(ev.findings)} "
-              f"findings -> {pdf}, {sidecar}")
+    demo = app.run_demo(page_size=args.page_size)
+    written = demo.write_reports(args.out)
+    for (rev, what, check), (pdf, sidecar) in zip(demo.revisions, written):
+        print(f"  revision {rev} ({what}): {check.verdict.upper()} with "
+              f"{len(check.findings)} findings -> {pdf}, {sidecar}")
     print(f"done in {time.perf_counter() - started:.1f} s. The failing revision A is expected: "
           "its circular loop exceeds the illustrative +Gz and onset limits at the bottom.")
-    print("caution: a self-check, not a certification; the limits are illustrative.")
+    print("caution: " + CAUTION + " The demo's limits are illustrative.")
     return EXIT_OK
 
 
 COMMANDS = {"simulate": _cmd_simulate, "check": _cmd_check,
-            "check-history": _cmd_check_history, "demo": _cmd_demo,
-            "compare": _cmd_compare}
+            "check-history": _cmd_check_history, "compare": _cmd_compare,
+            "demo": _cmd_demo}
 
 
 def _on_terminate(signum, frame):  # SIGTERM behaves like Ctrl-C: unwind, no partial output
@@ -468,6 +296,8 @@ def _on_terminate(signum, frame):  # SIGTERM behaves like Ctrl-C: unwind, no par
 
 
 def main(argv: Sequence[str] | None = None) -> int:
+    """Run one command; returns its exit code."""
+    argv = list(sys.argv[1:] if argv is None else argv)
     parser = build_parser()
     args = parser.parse_args(argv)
     if args.command is None:
@@ -475,20 +305,19 @@ def main(argv: Sequence[str] | None = None) -> int:
         return EXIT_INPUT
     signal.signal(signal.SIGTERM, _on_terminate)
     try:
-        return COMMANDS[args.command](args)
+        from . import application  # the one place the numerical rooms load
+
+        return COMMANDS[args.command](args, application, shlex.join(["checker", *argv]))
     except InputError as exc:
         print(f"checker: error: {exc.message()}", file=sys.stderr)
         return EXIT_INPUT
-    except TrainStalled as exc:
-        print(f"checker: {exc}", file=sys.stderr)
-        return EXIT_FINDINGS
     except BrokenPipeError:  # output piped into a closed reader (e.g. head)
         sys.stderr.close()
         return EXIT_OK
     except KeyboardInterrupt:
         print("checker: interrupted; no output was written or changed", file=sys.stderr)
         return EXIT_INTERRUPTED
-    except BrokenProcessPool:  # a worker was stopped (e.g. Ctrl-C reached the whole group)
+    except BrokenExecutor:  # a worker was stopped (e.g. Ctrl-C reached the whole group)
         print("checker: a worker process was stopped (interrupted?); no output was written "
               "or changed", file=sys.stderr)
         return EXIT_INTERRUPTED

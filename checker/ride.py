@@ -7,7 +7,6 @@ from __future__ import annotations
 
 from dataclasses import dataclass, replace
 from pathlib import Path
-from typing import TYPE_CHECKING
 
 import pandas as pd
 
@@ -15,13 +14,12 @@ from .dynamics import RideMotion, simulate_motion
 from .errors import InputError
 from .geometry import TrackGeometry, build_geometry
 from .kinematics import SeatHistory, rider_histories
+from .limits import LimitSet
 from .operation import Operation, load_operation
 from .plausibility import motion_warnings, track_warnings
+from .rules import Evaluation, evaluate
 from .track import Centerline, load_centerline
 from .train import Train, ideal_rider, load_train
-
-if TYPE_CHECKING:
-    from .rules import Evaluation
 
 HISTORY_COLUMNS = ["seat", "car", "t", "s", "v", "gx", "gy", "gz", "x", "y", "z"]
 
@@ -115,34 +113,55 @@ def simulate(track: str | Path, train: str | Path | None = None, *, ideal: bool 
     return histories_frame(result.histories)
 
 
-@dataclass
+@dataclass(frozen=True, eq=False)
 class CheckRun:
-    """A ride (or a recorded history) checked against a limit set."""
+    """One ride checked against a limit set: the evaluation, the ride and the raw signals.
+
+    Attributes
+    ----------
+    evaluation : the rules' outcome (its warnings include the ride's plausibility warnings,
+        its stalls the ride's stall).
+    ride : the simulated ride.
+    signals : {(seat, case): :class:`checker.kinematics.SeatHistory`} raw signals [g0].
+    """
 
     evaluation: Evaluation
-    ride: RideResult | None
-    signals: dict  # (seat, case) -> signal with raw g (and s, position when simulated)
-    inputs: list[tuple[str, str]]
-    stall: str | None = None
-    sweep: object | None = None  # checker.sweep.Sweep when load cases were run
+    ride: RideResult
+    signals: dict
+
+    @property
+    def stall(self) -> str | None:
+        """Where the train stopped short of the end, or None."""
+        return "; ".join(self.evaluation.stalls) or None
 
 
-def run_check(centerline: Centerline, train: Train, operation: Operation, limits,
+def run_check(centerline: Centerline, train: Train, operation: Operation, limits: LimitSet,
               options: RideOptions = RideOptions(), case: str = "nominal",
               keep_signals: bool = True) -> CheckRun:
-    """Simulate and evaluate every seat: the one entry for `check`, sweeps and the API.
-    Sweeps pass ``keep_signals=False`` to skip what only documents need (exposure curves,
-    filtered signals)."""
-    from .rules import evaluate
+    """Simulate and evaluate every seat: the one entry for checks and sweeps.
 
+    Parameters
+    ----------
+    centerline, train, operation : the validated inputs of the ride.
+    limits : the limit set to check against.
+    options : numerical options (sample rate [Hz], smoothing [m], station step [m]).
+    case : name of the load case, carried into every finding.
+    keep_signals : False skips what only documents need (filtered signals, exposure
+        curves); sweeps pass False.
+
+    Returns
+    -------
+    CheckRun
+        A stall is not an error: it is carried in ``evaluation.stalls`` and fails the
+        verdict.
+    """
     result = run_ride(centerline, train, operation, options)
     evaluation = evaluate(result.histories, limits, case, keep_signals)
-    evaluation.warnings[:0] = list(result.warnings)
-    stall = str(result.motion.stall) if result.motion.stall is not None else None
-    if stall:
-        evaluation.warnings.append(stall)
+    stalls = (str(result.motion.stall),) if result.motion.stall is not None else ()
+    evaluation = replace(evaluation, warnings=result.warnings + evaluation.warnings + stalls,
+                         stalls=stalls)
     signals = {(h.seat, case): h for h in result.histories}
-    return CheckRun(evaluation, result, signals, [], stall)
+    return CheckRun(evaluation, result, signals)
 
 
 def ride_parameters(result: RideResult) -> list[tuple[str, str]]:

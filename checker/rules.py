@@ -12,7 +12,7 @@ same windows; the vectorized form is much faster in numpy).
 
 from __future__ import annotations
 
-from dataclasses import asdict, dataclass, field
+from dataclasses import asdict, dataclass, field, replace
 
 import numpy as np
 
@@ -64,35 +64,81 @@ class Exposure:
     levels_g: np.ndarray
 
 
-@dataclass
+@dataclass(frozen=True, eq=False)
 class SeatResult:
+    """Every rule's outcome for one seat in one load case.
+
+    Attributes
+    ----------
+    seat, case : names of the rider position and of the load case.
+    worst : {axis: (min, max)} of the filtered signal [g0].
+    findings : the exceedance events, in the order the rules produced them.
+    exposures : {duration rule name: :class:`Exposure`} (signed levels), kept for documents.
+    filtered : (n, 3) filtered specific force [g0], or None when not kept (sweeps).
+    t : (n,) sample times [s], or None when not kept.
+    """
+
     seat: str
     case: str
     worst: dict  # axis -> (min, max) of the filtered signal [g0]
-    findings: list[Finding] = field(default_factory=list)
+    findings: tuple[Finding, ...] = ()
     exposures: dict = field(default_factory=dict)  # rule name -> Exposure (signed levels)
     filtered: np.ndarray | None = None
     t: np.ndarray | None = None
 
     @property
     def verdict(self) -> str:
-        return "fail" if self.findings else "pass"
+        """"fail" when any rule is exceeded at this seat in this case, else "pass"."""
+        return verdict_of(bool(self.findings))
+
+    def without_signals(self) -> SeatResult:
+        """The same result without the filtered signal, times and exposure curves (small
+        enough to travel between processes)."""
+        return replace(self, filtered=None, t=None, exposures={})
 
 
-@dataclass
+@dataclass(frozen=True, eq=False)
 class Evaluation:
+    """Every seat checked against one limit set, with what the run noticed on the way.
+
+    Attributes
+    ----------
+    limits : the limit set used.
+    seats : one :class:`SeatResult` per seat and load case.
+    warnings : plausibility and sampling warnings (the run went on).
+    stalls : where the train stopped short of the end, one line per ride; a stall fails the
+        check just as a finding does.
+    """
+
     limits: LimitSet
-    seats: list[SeatResult]
-    warnings: list[str] = field(default_factory=list)
+    seats: tuple[SeatResult, ...]
+    warnings: tuple[str, ...] = ()
+    stalls: tuple[str, ...] = ()
 
     @property
     def findings(self) -> list[Finding]:
+        """Every finding, the most severe first."""
         return sorted((f for s in self.seats for f in s.findings),
                       key=lambda f: (-f.severity, f.seat, f.t_start))
 
     @property
     def verdict(self) -> str:
-        return "fail" if any(s.findings for s in self.seats) else "pass"
+        """The one verdict of a check: "fail" on any finding or any stall, else "pass"."""
+        return verdict_of(any(s.findings for s in self.seats), bool(self.stalls))
+
+
+def verdict_of(*failures: bool) -> str:
+    """The verdict rule, in one place: "fail" when anything failed, else "pass".
+
+    Parameters
+    ----------
+    *failures : one flag per thing that can fail (findings, stalls, cases).
+
+    Returns
+    -------
+    ``"fail"`` or ``"pass"``.
+    """
+    return "fail" if any(failures) else "pass"
 
 
 def sustained_windows(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -310,7 +356,7 @@ def evaluate_seat(seat, limits: LimitSet, case: str = "nominal",
                                     onset.limit_g_per_s, ctx)
     worst = {axis: (float(filtered[:, i].min()), float(filtered[:, i].max()))
              for i, axis in enumerate(AXES)}
-    return SeatResult(seat.seat, case, worst, findings, exposures,
+    return SeatResult(seat.seat, case, worst, tuple(findings), exposures,
                       filtered if keep_signals else None, t if keep_signals else None)
 
 
@@ -320,5 +366,5 @@ def evaluate(seats, limits: LimitSet, case: str = "nominal",
     ``keep_signals`` the filtered signals and exposure curves are not kept (for sweeps)."""
     seats = list(seats)
     warnings = check_filter_rate(limits, sample_rate(seats[0].t)) if seats else []
-    return Evaluation(limits, [evaluate_seat(s, limits, case, keep_signals) for s in seats],
-                      warnings)
+    return Evaluation(limits, tuple(evaluate_seat(s, limits, case, keep_signals)
+                                    for s in seats), tuple(warnings))

@@ -10,7 +10,7 @@ from __future__ import annotations
 import os
 import sys
 from collections.abc import Callable
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -18,14 +18,17 @@ from .errors import InputError
 from .limits import LimitSet
 from .loadcases import LoadCase, apply_case
 from .operation import Operation
-from .ride import RideOptions, run_check
-from .rules import Evaluation, Finding
+from .ride import CheckRun, RideOptions, run_check
+from .rules import Evaluation, Finding, verdict_of
 from .track import Centerline
 from .train import Train
 
 
-@dataclass
+@dataclass(frozen=True, eq=False)
 class CaseOutcome:
+    """One load case of a sweep: its evaluation (without signals), stall, peaks [g0],
+    top speed [m/s], ride time [s] and track length [m]."""
+
     case: str
     evaluation: Evaluation  # without signals (small enough to travel between processes)
     stall: str | None
@@ -34,12 +37,17 @@ class CaseOutcome:
     duration_s: float
     track_length_m: float = 0.0
 
+    @property
+    def verdict(self) -> str:
+        """The case's verdict (its evaluation counts the stall)."""
+        return self.evaluation.verdict
 
-@dataclass
+
+@dataclass(frozen=True, eq=False)
 class Sweep:
     """Every case of one layout."""
 
-    outcomes: list[CaseOutcome]
+    outcomes: tuple[CaseOutcome, ...]
     limits: LimitSet
 
     @property
@@ -49,8 +57,7 @@ class Sweep:
 
     @property
     def verdict(self) -> str:
-        bad = any(o.evaluation.verdict == "fail" or o.stall for o in self.outcomes)
-        return "fail" if bad else "pass"
+        return verdict_of(*(o.verdict == "fail" for o in self.outcomes))
 
     def governing(self) -> list[Finding]:
         """For each rule, the most severe finding (its seat and case govern)."""
@@ -74,10 +81,8 @@ def _run_one(job) -> CaseOutcome:
     run = run_check(centerline, tr, ops, limits, opt, case.name, keep_signals=False)
     ev = run.evaluation
     peaks = {s.seat: dict(s.worst) for s in ev.seats}
-    for s in ev.seats:  # keep the record small: signals are recomputed where a report needs
-        s.filtered = None
-        s.t = None
-        s.exposures = {}
+    # keep the record small: signals are recomputed where a report needs them
+    ev = replace(ev, seats=tuple(s.without_signals() for s in ev.seats))
     return CaseOutcome(case.name, ev, run.stall, peaks, float(run.ride.motion.v.max()),
                        run.ride.motion.duration_s, run.ride.geometry.length)
 
@@ -101,7 +106,7 @@ def run_layouts(layouts: list[tuple[Centerline, Train, Operation]], limits: Limi
             for line, train, ops in layouts for case in cases]
     outcomes = _execute(jobs, workers, scheduler, progress)
     n = len(cases)
-    return [Sweep(outcomes[i * n:(i + 1) * n], limits) for i in range(len(layouts))]
+    return [Sweep(tuple(outcomes[i * n:(i + 1) * n]), limits) for i in range(len(layouts))]
 
 
 def _execute(jobs: list, workers: int | None, scheduler: str | None,
@@ -169,7 +174,6 @@ def sweep_check_run(sweep: Sweep, centerline: Centerline, train: Train, operatio
                     limits: LimitSet, options: RideOptions, cases: list[LoadCase]):
     """A CheckRun of the whole sweep for documents: every seat x case result, with signals
     recomputed for the governing (seat, case) pairs so that their figures can be drawn."""
-    from .ride import CheckRun
 
     by_name = {c.name: c for c in cases}
     wanted: dict[str, set[str]] = {}
@@ -194,6 +198,6 @@ def sweep_check_run(sweep: Sweep, centerline: Centerline, train: Train, operatio
         warnings += [f"case {o.case}: {w}" for w in o.evaluation.warnings]
         for s in o.evaluation.seats:
             seats_all.append(full.get((s.seat, o.case), s))
-    evaluation = Evaluation(limits, seats_all, warnings)
-    stall = "; ".join(f"case {o.case}: {o.stall}" for o in sweep.outcomes if o.stall) or None
-    return CheckRun(evaluation, ride, signals, [], stall)
+    stalls = tuple(f"case {o.case}: {s}" for o in sweep.outcomes for s in o.evaluation.stalls)
+    evaluation = Evaluation(limits, tuple(seats_all), tuple(warnings), stalls)
+    return CheckRun(evaluation, ride, signals)

@@ -1,53 +1,37 @@
-"""Documents made from findings: the PDF report and its JSON sidecar."""
+"""Documents made from results: the check report PDF and the comparison PDF.
+
+This room loads matplotlib, jinja2 and weasyprint; the application layer reaches it only when
+a PDF is written.
+"""
 
 from __future__ import annotations
 
-from pathlib import Path
-
-from ..documents import evaluation_document, to_json
-from ..outputs import atomic_write_bytes, atomic_write_text, check_writable
-from .document import ReportMeta, build_html
+from .comparison import comparison_report_pdf
+from .document import METHOD, ReportMeta, build_html
 from .pdf import TemplatesOnlyFetcher, render_pdf
 
-METHOD = [
-    "Geometry: the centerline samples are joined by a degree-5 B-spline (scipy), "
-    "parameterized by chord length and re-sampled by arc length on a uniform station grid. "
-    "Tangent and curvature come from the spline's derivatives. The rider frame follows ISO "
-    "8855 (x forward, y left, z up through the spine); roll 0 is world up projected normal "
-    "to the tangent, its sign kept continuous, and carried across near-vertical tangents by "
-    "a rotation-minimizing frame (double reflection) with a smooth bridge.",
-    "Dynamics: all cars share one speed. The specific kinetic energy v^2/2 is integrated "
-    "against the lead car's station (Heun's method) with gravity at each car's own station, "
-    "rolling resistance proportional to each car's wheel load (including v^2 times "
-    "curvature), aerodynamic drag 0.5 rho CdA v^2 on the air speed, and the powered "
-    "sections (lift, launch, brakes) as clamps of the speed.",
-    "Rider signals: each seat is a fixed offset from its car's reference point; its "
-    "acceleration is the second time derivative of that point's path, including the frame's "
-    "rotation (rigid-body kinematics). The reported value is specific force a - g in rider "
-    "axes, in units of g0 = 9.80665 m/s^2: a rider at rest in a level seat reads Gz = +1.",
-    "Rules: signals are filtered as the limit set states. Duration limits compare the "
-    "exposure curve (for every duration, the highest level sustained at least that long) "
-    "with the limit curve; combined-axis limits test each filtered sample against the "
-    "envelope; onset limits compare the rate of change of the filtered signal.",
-]
 
+def check_report_pdf(result) -> bytes:
+    """The PDF bytes of a check's report.
 
-def write_report(run, pdf_path: str | Path, meta: ReportMeta, json_path: str | Path | None,
-                 json_extra: dict | None = None) -> tuple[Path, Path]:
-    """Render the PDF and its JSON sidecar; write both atomically, the PDF last.
+    Parameters
+    ----------
+    result : checker.application.LayoutCheck
+        A finished check (its evaluation, signals, ride, labels and provenance).
 
-    Everything is rendered in memory first, so a failure leaves earlier files untouched.
+    Returns
+    -------
+    bytes
+        The PDF, rendered in memory (nothing is written).
     """
-    pdf_path = check_writable(pdf_path)
-    json_path = check_writable(json_path or pdf_path.with_suffix(".json"))
-    if not meta.method:
-        meta.method = list(METHOD)
-    html, assets = build_html(run.evaluation, run.signals, run.ride, meta)
-    pdf = render_pdf(html, TemplatesOnlyFetcher(assets=assets))
-    doc = evaluation_document(run.evaluation, meta.inputs, meta.command, json_extra)
-    atomic_write_text(json_path, to_json(doc))
-    atomic_write_bytes(pdf_path, pdf)
-    return pdf_path, json_path
+    labels, record = result.labels, result.provenance
+    meta = ReportMeta(project=labels.project, layout=labels.layout, revision=labels.revision,
+                      page_size=labels.page_size, command=record.call,
+                      inputs=tuple((f.path, f.sha256) for f in record.inputs),
+                      parameters=record.parameters, stall=result.stall, sweep=result.sweep)
+    html, assets = build_html(result.evaluation, result.signals, result.ride, meta)
+    return render_pdf(html, TemplatesOnlyFetcher(assets=assets))
 
 
-__all__ = ["ReportMeta", "write_report", "build_html", "render_pdf", "TemplatesOnlyFetcher"]
+__all__ = ["METHOD", "ReportMeta", "build_html", "check_report_pdf", "comparison_report_pdf",
+           "render_pdf", "TemplatesOnlyFetcher"]
