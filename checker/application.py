@@ -23,7 +23,7 @@ from types import MappingProxyType
 
 from . import __version__
 from .caution import CAUTION
-from .compare import Comparison, compare_sweeps
+from .compare import ChangeState, Comparison, compare_sweeps
 from .documents import (
     BUNDLED_LIMITS,
     comparison_document,
@@ -49,7 +49,7 @@ from .ride import (
     run_check,
     run_ride,
 )
-from .rules import Evaluation, Finding, SeatResult, evaluate
+from .rules import Evaluation, Finding, SeatResult, Verdict, evaluate
 from .sweep import Sweep, run_cases, run_layouts, sweep_check_run
 
 Progress = Callable[[int, int], None]
@@ -211,9 +211,9 @@ class LayoutCheck:
     provenance: Provenance
 
     @property
-    def verdict(self) -> str:
-        """``"fail"`` when any rule is exceeded at any seat in any case, or the train stalls;
-        else ``"pass"``."""
+    def verdict(self) -> Verdict:
+        """FAIL when any rule is exceeded at any seat in any case, or the train stalls; else
+        PASS."""
         return self.evaluation.verdict
 
     @property
@@ -474,9 +474,9 @@ class LayoutComparison:
                  f"findings); new {self.new_name}: {c.new_verdict.upper()} "
                  f"({len(self.new.findings)} findings)",
                  "findings: " + ", ".join(f"{c.count(k)} {k}" for k in
-                                          ("new", "worse", "gone", "better", "same"))]
+                                          ChangeState)]
         for change in c.changes:
-            if change.status == "same":
+            if change.status is ChangeState.SAME:
                 continue
             f = change.new or change.old
             where = f"{f.s_worst_m:.1f} m" if f.s_worst_m is not None else f"{f.t_worst:.2f} s"

@@ -187,9 +187,6 @@ def ride_parameters(result: RideResult) -> list[tuple[str, str]]:
                      f"({seat.forward_m:g}, {seat.left_m:g}, {seat.up_m:g}) m"))
     for i, sec in enumerate(ops.sections):
         a, b = sec.resolved(result.geometry.length)
-        what = {"lift": f"speed {sec.speed_m_s:g} m/s",
-                "brake": f"to {sec.speed_m_s:g} m/s at <= {sec.max_decel_m_s2:g} m/s^2",
-                "launch": (f"exit {sec.exit_speed_m_s:g} m/s" if sec.exit_speed_m_s
-                           else f"force {sec.force_n:g} N")}[sec.kind]
-        rows.append((f"section {i + 1}: {sec.kind}", f"{a:.1f} m to {b:.1f} m, {what}"))
+        rows.append((f"section {i + 1}: {sec.kind}",
+                     f"{a:.1f} m to {b:.1f} m, {sec.describe()}"))
     return rows

@@ -13,6 +13,7 @@ same windows; the vectorized form is much faster in numpy).
 from __future__ import annotations
 
 from dataclasses import asdict, dataclass, field, replace
+from enum import Enum
 
 import numpy as np
 
@@ -24,12 +25,40 @@ from .limits import outside_fraction as _outside_fraction
 AXIS_INDEX = {axis: i for i, axis in enumerate(AXES)}
 
 
+class TextEnum(str, Enum):
+    """A str-valued enum that prints, formats, hashes, compares and goes into JSON as its
+    value (so documents keep the same strings)."""
+
+    __hash__ = str.__hash__
+
+    def __str__(self) -> str:
+        return str(self.value)
+
+    def __format__(self, spec: str) -> str:
+        return format(str(self.value), spec)
+
+
+class Verdict(TextEnum):
+    """The outcome of a check."""
+
+    PASS = "pass"
+    FAIL = "fail"
+
+
+class FindingKind(TextEnum):
+    """Which kind of rule a finding breaks."""
+
+    DURATION = "duration"  # a level held longer than the limit curve allows
+    COMBINED = "combined"  # a filtered sample outside a combined-axis envelope
+    ONSET = "onset"  # the rate of change above the onset limit
+
+
 @dataclass(frozen=True)
 class Finding:
     """One exceedance event. Times [s], stations [m], levels [g0], onset [g0/s]."""
 
     rule: str
-    kind: str  # "duration", "combined" or "onset"
+    kind: FindingKind
     axis: str
     seat: str
     case: str
@@ -87,8 +116,8 @@ class SeatResult:
     t: np.ndarray | None = None
 
     @property
-    def verdict(self) -> str:
-        """"fail" when any rule is exceeded at this seat in this case, else "pass"."""
+    def verdict(self) -> Verdict:
+        """FAIL when any rule is exceeded at this seat in this case, else "pass"."""
         return verdict_of(bool(self.findings))
 
     def without_signals(self) -> SeatResult:
@@ -122,12 +151,12 @@ class Evaluation:
                       key=lambda f: (-f.severity, f.seat, f.t_start))
 
     @property
-    def verdict(self) -> str:
-        """The one verdict of a check: "fail" on any finding or any stall, else "pass"."""
+    def verdict(self) -> Verdict:
+        """The one verdict of a check: FAIL on any finding or any stall, else PASS."""
         return verdict_of(any(s.findings for s in self.seats), bool(self.stalls))
 
 
-def verdict_of(*failures: bool) -> str:
+def verdict_of(*failures: bool) -> Verdict:
     """The verdict rule, in one place: "fail" when anything failed, else "pass".
 
     Parameters
@@ -136,9 +165,10 @@ def verdict_of(*failures: bool) -> str:
 
     Returns
     -------
-    ``"fail"`` or ``"pass"``.
+    Verdict
+        FAIL when anything failed, else PASS.
     """
-    return "fail" if any(failures) else "pass"
+    return Verdict.FAIL if any(failures) else Verdict.PASS
 
 
 def sustained_windows(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -262,7 +292,8 @@ def _duration_findings(x: np.ndarray, dt: float, rule: DurationLimit, ctx: _Cont
         g = idx[int(np.argmax(excess))]  # the governing window
         peak_i = start + int(np.argmax(signed[start:end + 1]))
         findings.append(Finding(
-            rule=f"duration {rule.name}", kind="duration", axis=rule.axis, seat=ctx.seat.seat,
+            rule=f"duration {rule.name}", kind=FindingKind.DURATION, axis=rule.axis,
+            seat=ctx.seat.seat,
             case=ctx.case, t_start=float(ctx.t[start]), t_end=float(ctx.t[end]) + dt,
             duration_s=float(width[g] * dt), peak_g=float(x[peak_i]),
             limit_g=float(rule.sign * allowed[g]), margin=float(allowed[g] - level[g]),
@@ -284,7 +315,8 @@ def _combined_findings(g: np.ndarray, env: CombinedEnvelope, ctx: _Context) -> l
         w = start + int(np.argmax(frac))
         reach = float(np.hypot(*(pair[w] - center)))
         findings.append(Finding(
-            rule=f"combined {env.name}", kind="combined", axis=f"{env.axes[0]}+{env.axes[1]}",
+            rule=f"combined {env.name}", kind=FindingKind.COMBINED,
+            axis=f"{env.axes[0]}+{env.axes[1]}",
             seat=ctx.seat.seat, case=ctx.case, t_start=float(ctx.t[start]),
             t_end=float(ctx.t[end]) + dt, duration_s=float(ctx.t[end] - ctx.t[start] + dt),
             peak_g=reach, limit_g=reach / (1 + float(frac.max())),
@@ -302,7 +334,8 @@ def _onset_findings(x: np.ndarray, axis: str, limit: float, ctx: _Context) -> li
     for start, end in _runs(np.abs(rate) > limit):
         w = start + int(np.argmax(np.abs(rate[start:end + 1])))
         findings.append(Finding(
-            rule=f"onset {axis}", kind="onset", axis=axis, seat=ctx.seat.seat, case=ctx.case,
+            rule=f"onset {axis}", kind=FindingKind.ONSET, axis=axis, seat=ctx.seat.seat,
+            case=ctx.case,
             t_start=float(ctx.t[start]), t_end=float(ctx.t[end]) + dt,
             duration_s=float(ctx.t[end] - ctx.t[start] + dt), peak_g=float(rate[w]),
             limit_g=float(limit), margin=float(limit - abs(rate[w])), t_worst=float(ctx.t[w]),

@@ -8,7 +8,7 @@ import numpy as np
 
 from .. import __version__
 from ..caution import CAUTION, CAUTION_SHORT
-from ..compare import MATCH_DISTANCE_M, MATCH_FRACTION, Comparison
+from ..compare import MATCH_DISTANCE_M, MATCH_FRACTION, ChangeState, Comparison
 from . import figures
 from .document import PAGE_SIZES, _env, _fmt
 from .pdf import ASSET_SCHEME, TemplatesOnlyFetcher, render_pdf
@@ -67,7 +67,7 @@ def comparison_pdf(comparison: Comparison, focus: dict, meta: dict) -> bytes:
         rows.setdefault(p["seat"], []).append(
             f"{p['old']:.2f} &rarr; {p['new']:.2f} ({p['change']:+.2f})")
     peaks = [{"seat": seat, "cells": cells} for seat, cells in rows.items()]
-    counts = {k: comparison.count(k) for k in ("new", "worse", "gone", "better", "same")}
+    counts = {k.value: comparison.count(k) for k in ChangeState}
     css = env.get_template("report.css").render(
         page_size=PAGE_SIZES[meta.get("page_size", "a4")],
         footer_left=f"checker: {CAUTION_SHORT}")
