@@ -31,6 +31,8 @@ from scipy.interpolate import (
 WORLD_UP = np.array([0.0, 0.0, 1.0])
 # Tangents within this angle of vertical carry the level reference across by a smooth,
 # twist-minimal bridge; SMOOTHING_LENGTH_M sets how gently the reference may turn [m].
+STATION_STEP_M = 0.2  # default station grid step [m] of every ride
+QUINTIC_MIN_SAMPLES = 6  # a degree-5 spline needs 6 samples; fewer get a cubic
 BLEND_START_DEG = 10.0
 SMOOTHING_LENGTH_M = 1.5
 
@@ -191,10 +193,11 @@ def level_reference(points: np.ndarray, tangent: np.ndarray, s: np.ndarray) -> n
 def _fit_centerline(points: np.ndarray, smoothing_m: float):
     chords = np.linalg.norm(np.diff(points, axis=0), axis=1)
     u = np.concatenate([[0.0], np.cumsum(chords)])
-    interp = make_interp_spline(u, points, k=5 if len(points) >= 6 else 3, axis=0)
+    degree = 5 if len(points) >= QUINTIC_MIN_SAMPLES else 3
+    interp = make_interp_spline(u, points, k=degree, axis=0)
     if smoothing_m <= 0:
         return interp, interp, u
-    spline, _ = make_splprep(list(points.T), u=u, k=5 if len(points) >= 6 else 3,
+    spline, _ = make_splprep(list(points.T), u=u, k=degree,
                              s=len(points) * smoothing_m**2)
     return spline, interp, u
 
@@ -216,7 +219,7 @@ def build_geometry(
     up: np.ndarray | None = None,
     *,
     smoothing_m: float = 0.0,
-    step_m: float = 0.1,
+    step_m: float = STATION_STEP_M,
 ) -> TrackGeometry:
     """Arc-length geometry and rider frame from centerline samples.
 

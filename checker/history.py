@@ -16,6 +16,7 @@ from .constants import G0
 from .csvtable import read_numeric_csv
 from .errors import InputError
 
+MIN_SAMPLES = 8  # fewer samples per seat cannot be filtered or checked meaningfully
 STEP_TOLERANCE = 0.01  # a step may differ from the median step by 1 %
 
 
@@ -48,8 +49,9 @@ def load_history(path: str | Path, units: str = "g") -> list[RecordedSignal]:
         idx = np.asarray(rows)
         t = table.columns["t"][idx]
         lines = table.lines[idx]
-        if len(t) < 8:
-            raise InputError(path, f"seat '{name}' has {len(t)} samples; at least 8 are needed",
+        if len(t) < MIN_SAMPLES:
+            raise InputError(path, f"seat '{name}' has {len(t)} samples; at least {MIN_SAMPLES} "
+                             "are needed",
                              "export the whole ride", row=int(lines[0]), column="t")
         dt = np.diff(t)
         back = np.flatnonzero(dt <= 0)

@@ -12,7 +12,7 @@ import pandas as pd
 
 from .dynamics import RideMotion, simulate_motion
 from .errors import InputError
-from .geometry import TrackGeometry, build_geometry
+from .geometry import STATION_STEP_M, TrackGeometry, build_geometry
 from .kinematics import SeatHistory, rider_histories
 from .limits import LimitSet
 from .operation import Operation, load_operation
@@ -30,7 +30,7 @@ class RideOptions:
 
     rate_hz: float = 200.0
     smoothing_m: float = 0.0
-    step_m: float = 0.2
+    step_m: float = STATION_STEP_M
     head_wind_m_s: float = 0.0
 
 
@@ -103,8 +103,12 @@ def simulate(track: str | Path, train: str | Path | None = None, *, ideal: bool 
     Returns
     -------
     DataFrame with columns seat, car, t [s], s [m], v [m/s], gx, gy, gz [g0], x, y, z [m].
-    Raises :class:`checker.errors.InputError` for bad input and
-    :class:`checker.errors.TrainStalled` when the train cannot crest a hill.
+    Where the train stalls the histories end there (no error is raised).
+
+    Raises
+    ------
+    InputError
+        For a bad or missing input file.
     """
     line, the_train, ops = load_inputs(track, train, ideal=ideal, operation=operation,
                                        start_speed_m_s=start_speed_m_s, units=units)

@@ -55,7 +55,7 @@ def test_loop_the_loop_6g_bottom_0g_top():
 
 def test_energy_conservation_frictionless():
     # Conservation of mechanical energy: v(s) = sqrt(v0^2 + 2 g0 (z0 - z(s))).
-    geometry = build_geometry(rolling_hills())
+    geometry = build_geometry(rolling_hills(), step_m=0.1)  # Heun: error ~ step^2
     v0 = 20.0
     motion = simulate_motion(geometry, ideal_rider(), Operation(start_speed_m_s=v0))
     (pos,) = geometry.sample(motion.s, "position")
