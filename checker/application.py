@@ -17,7 +17,7 @@ from __future__ import annotations
 import inspect
 import shlex
 from collections.abc import Callable, Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 from types import MappingProxyType
 
@@ -26,6 +26,7 @@ from .caution import CAUTION
 from .compare import ChangeState, Comparison, compare_sweeps
 from .documents import (
     BUNDLED_LIMITS,
+    change_text,
     comparison_document,
     evaluation_document,
     summary_table,
@@ -34,10 +35,13 @@ from .documents import (
     to_json,
 )
 from .errors import InputError
+from .events import events_of_run
 from .history import load_history
 from .limits import LimitSet, load_limits, sha256_of
 from .loadcases import STANDARD_CASES, LoadCase, apply_case, load_cases
-from .outputs import atomic_write_bytes, atomic_write_text, check_writable
+from .outputs import atomic_write_text, check_writable, commit
+from .paths import report_sidecar
+from .plausibility import filter_warnings, history_warnings
 from .resources import demo_folder
 from .ride import (
     CheckRun,
@@ -99,6 +103,7 @@ class Labels:
     layout: str = "(not given)"
     revision: str = "(not given)"
     page_size: str = "a4"
+    seat_pages: str = "governing"  # seat pages of figures: "all", "governing" or "none"
 
 
 def _record(*paths: str | Path | None) -> tuple[InputFile, ...]:
@@ -124,13 +129,14 @@ def _python_call(function: Callable, arguments: Mapping) -> str:
     return f"checker.{function.__name__}({', '.join(parts)})"
 
 
-def _write_pair(pdf_path: str | Path, pdf: Callable[[], bytes], json_path: str | Path,
+def _write_pair(pdf_path: str | Path, pdf: Callable[[], bytes], json_path: str | Path | None,
                 json_text: str) -> tuple[Path, Path]:
-    """Render first, then write the JSON and the PDF (each atomically, the PDF last)."""
-    pdf_path, json_path = check_writable(pdf_path), check_writable(json_path)
+    """Render in memory first, then write the PDF and its JSON sidecar together (both or
+    neither, :func:`checker.outputs.commit`)."""
+    pdf_path = check_writable(pdf_path)
+    json_path = check_writable(report_sidecar(pdf_path, json_path))
     pdf_bytes = pdf()
-    atomic_write_text(json_path, json_text)
-    atomic_write_bytes(pdf_path, pdf_bytes)
+    commit({json_path: json_text.encode("utf-8"), pdf_path: pdf_bytes})
     return pdf_path, json_path
 
 
@@ -164,22 +170,21 @@ def _check_cases_fit(cases: list[LoadCase], cases_file: Path, train, operation,
                              key=f"case[{i + 1}].occupancy") from None
 
 
-def group_events(evaluation: Evaluation) -> tuple:
-    """The events of a check: findings grouped by place and time.
-
-    The hook for :mod:`checker.events`; until that module exists a check has no events and
-    documents list the findings alone.
+def group_events(evaluation: Evaluation, ride: RideResult | None) -> tuple:
+    """The events of a check: findings grouped by place and time, explained
+    (:func:`checker.events.events_of_run`).
 
     Parameters
     ----------
     evaluation : the rules' outcome.
+    ride : the simulated ride (places and sections), or None for a recorded history.
 
     Returns
     -------
-    tuple
+    tuple of checker.events.Event
         The events, most severe first.
     """
-    return ()
+    return tuple(events_of_run(evaluation, ride))
 
 
 # ---------------------------------------------------------------------------------------------
@@ -238,7 +243,7 @@ class LayoutCheck:
 
     def summary(self) -> str:
         """The terminal summary: a line per seat, the load-case tables, notes and caution."""
-        lines = [summary_table(self.evaluation)]
+        lines = [summary_table(self.evaluation, list(self.events))]
         if self.sweep is not None:
             lines.append(sweep_tables(self.sweep))
         if self.limits.illustrative:
@@ -255,7 +260,7 @@ class LayoutCheck:
             extra.update(sweep_document(self.sweep))
         return evaluation_document(self.evaluation,
                                    [(f.path, f.sha256) for f in self.provenance.inputs],
-                                   self.provenance.call, extra)
+                                   self.provenance.call, extra, list(self.events))
 
     def write_json(self, path: str | Path) -> Path:
         """Write the JSON record atomically.
@@ -296,9 +301,7 @@ class LayoutCheck:
             When an output's folder does not exist or a path is a folder; nothing is
             written then.
         """
-        pdf_path = Path(path)
-        json_path = Path(json_path) if json_path else pdf_path.with_suffix(".json")
-        return _write_pair(pdf_path, lambda: _report().check_report_pdf(self), json_path,
+        return _write_pair(path, lambda: _report().check_report_pdf(self), json_path,
                            to_json(self.document()))
 
 
@@ -308,8 +311,9 @@ def check_layout(track: str | Path, *, train: str | Path | None = None, ideal: b
                  case: str = "nominal", rate_hz: float = 200.0, units: str = "m",
                  smoothing_m: float = 0.0, project: str = "(not given)",
                  layout: str | None = None, revision: str = "(not given)",
-                 page_size: str = "a4", workers: int | None = None,
-                 scheduler: str | None = None, progress: Progress | None = None,
+                 page_size: str = "a4", seat_pages: str = "governing",
+                 workers: int | None = None, scheduler: str | None = None,
+                 scheduler_timeout_s: float = 30.0, progress: Progress | None = None,
                  call: str | None = None) -> LayoutCheck:
     """Simulate a layout and check every seat against a limit set.
 
@@ -329,8 +333,12 @@ def check_layout(track: str | Path, *, train: str | Path | None = None, ideal: b
     smoothing_m : RMS tolerance for smoothing noisy CAD samples [m]; 0 interpolates.
     project, layout, revision, page_size : labels for the documents (``layout`` defaults to
         the track file's name; ``page_size`` is ``"a4"`` or ``"letter"``).
+    seat_pages : seat pages of figures in the PDF: ``"governing"`` (the governing seat of
+        each event and seats that differ), ``"all"`` (every seat with a finding) or
+        ``"none"``.
     workers : local worker processes for the load cases (default: all cores).
     scheduler : a Dask scheduler address (``tcp://host:port``) to run the cases on.
+    scheduler_timeout_s : how long to wait for the scheduler and its first worker [s].
     progress : called with (done, total) as load cases finish.
     call : the call to record as reproducing the result (the command line passes its own);
         default: this Python call.
@@ -356,7 +364,8 @@ def check_layout(track: str | Path, *, train: str | Path | None = None, ideal: b
     if cases_file is not None:
         _check_cases_fit(case_list, cases_file, the_train, ops, options)
         sweep = run_cases(line, the_train, ops, limit_set, options, case_list,
-                          workers=workers, scheduler=scheduler, progress=progress)
+                          workers=workers, scheduler=scheduler, progress=progress,
+                          scheduler_timeout_s=scheduler_timeout_s)
         run = sweep_check_run(sweep, line, the_train, ops, limit_set, options, case_list)
         parameters.append(("load cases", f"{cases} ({len(case_list)} cases: "
                            + ", ".join(c.name for c in case_list) + ")"))
@@ -364,22 +373,26 @@ def check_layout(track: str | Path, *, train: str | Path | None = None, ideal: b
         run = run_check(line, the_train, ops, limit_set, options, case)
     inputs = (_record(track, None if ideal else train, operation, cases_file)
               + _limit_files(limit_set))
-    return _layout_check(run.evaluation, run.signals, run.ride, sweep,
-                         Labels(project, layout or Path(track).stem, revision, page_size),
+    evaluation = replace(run.evaluation, warnings=tuple(filter_warnings(limit_set.filter))
+                         + run.evaluation.warnings)
+    return _layout_check(evaluation, run.signals, run.ride, sweep,
+                         Labels(project, layout or Path(track).stem, revision, page_size,
+                                seat_pages),
                          Provenance(inputs, tuple(ride_parameters(run.ride) + parameters),
                                     call))
 
 
 def _layout_check(evaluation: Evaluation, signals: Mapping, ride: RideResult | None,
                   sweep: Sweep | None, labels: Labels, provenance: Provenance) -> LayoutCheck:
-    return LayoutCheck(evaluation, group_events(evaluation), MappingProxyType(dict(signals)),
-                       ride, sweep, labels, provenance)
+    return LayoutCheck(evaluation, group_events(evaluation, ride),
+                       MappingProxyType(dict(signals)), ride, sweep, labels, provenance)
 
 
 def check_history(history: str | Path, *, units: str = "g", limits: str | Path | None = None,
                   case: str = "nominal", project: str = "(not given)",
                   layout: str | None = None, revision: str = "(not given)",
-                  page_size: str = "a4", call: str | None = None) -> LayoutCheck:
+                  page_size: str = "a4", seat_pages: str = "governing",
+                  call: str | None = None) -> LayoutCheck:
     """Check a recorded or exported acceleration history against a limit set.
 
     Parameters
@@ -388,8 +401,8 @@ def check_history(history: str | Path, *, units: str = "g", limits: str | Path |
     units : ``"g"`` (multiples of g0) or ``"m/s2"``, the unit of gx, gy, gz in the file.
     limits : limits TOML; None uses the bundled ILLUSTRATIVE set.
     case : name of the load case the record stands for.
-    project, layout, revision, page_size : labels for the documents (``layout`` defaults to
-        the history file's name).
+    project, layout, revision, page_size, seat_pages : as for :func:`check_layout`
+        (``layout`` defaults to the history file's name).
     call : the call to record as reproducing the result; default: this Python call.
 
     Returns
@@ -406,9 +419,12 @@ def check_history(history: str | Path, *, units: str = "g", limits: str | Path |
     limit_set = _limits(limits)
     signals = load_history(history, units)
     evaluation = evaluate(signals, limit_set, case)
+    evaluation = replace(evaluation, warnings=tuple(filter_warnings(limit_set.filter))
+                         + tuple(history_warnings(signals)) + evaluation.warnings)
     parameters = (("history units", units), ("filter", limit_set.filter.describe()))
     return _layout_check(evaluation, {(s.seat, case): s for s in signals}, None, None,
-                         Labels(project, layout or Path(history).stem, revision, page_size),
+                         Labels(project, layout or Path(history).stem, revision, page_size,
+                                seat_pages),
                          Provenance(_record(history) + _limit_files(limit_set), parameters,
                                     call))
 
@@ -478,13 +494,7 @@ class LayoutComparison:
         for change in c.changes:
             if change.status is ChangeState.SAME:
                 continue
-            f = change.new or change.old
-            where = f"{f.s_worst_m:.1f} m" if f.s_worst_m is not None else f"{f.t_worst:.2f} s"
-            old_margin = change.old.margin if change.old else float("nan")
-            new_margin = change.new.margin if change.new else float("nan")
-            lines.append(f"  {change.status:<6} {change.rule:<26} {change.seat:<12} "
-                         f"{change.case:<14} at {where:<9} margin {old_margin:7.2f} -> "
-                         f"{new_margin:7.2f}  {change.matched_by}")
+            lines.append("  " + change_text(change))
         lines.append(f"{'seat':<14}" + "".join(f"{a + ' ' + k:>16}" for a in ("gx", "gy", "gz")
                                                for k in ("min", "max")))
         by_seat: dict = {}
@@ -534,9 +544,7 @@ class LayoutComparison:
         if self.focus is None:
             raise ValueError("this comparison was made with plot_signals=False; it has no "
                              "signals to draw")
-        pdf_path = Path(path)
-        json_path = Path(json_path) if json_path else pdf_path.with_suffix(".json")
-        return _write_pair(pdf_path, lambda: _report().comparison_report_pdf(self), json_path,
+        return _write_pair(path, lambda: _report().comparison_report_pdf(self), json_path,
                            to_json(self.document()))
 
 
@@ -549,7 +557,8 @@ def compare_layouts(old: str | Path, new: str | Path, *, train: str | Path | Non
                     units: str = "m", smoothing_m: float = 0.0,
                     project: str = "(not given)", page_size: str = "a4",
                     workers: int | None = None, scheduler: str | None = None,
-                    progress: Progress | None = None, plot_signals: bool = True,
+                    scheduler_timeout_s: float = 30.0, progress: Progress | None = None,
+                    plot_signals: bool = True,
                     call: str | None = None) -> LayoutComparison:
     """Run two revisions of a layout with the same train, cases and limits, and compare them.
 
@@ -557,7 +566,8 @@ def compare_layouts(old: str | Path, new: str | Path, *, train: str | Path | Non
     ----------
     old, new : the two revisions' centerline CSV files.
     train, ideal, start_speed_m_s, limits, cases, rate_hz, units, smoothing_m, workers,
-    scheduler, progress : as for :func:`check_layout`, shared by both revisions.
+    scheduler, scheduler_timeout_s, progress : as for :func:`check_layout`, shared by both
+        revisions.
     operation : operation TOML for both revisions.
     old_operation, new_operation : operation TOML for one revision (overrides ``operation``).
     project, page_size : labels for the documents.
@@ -589,7 +599,8 @@ def compare_layouts(old: str | Path, new: str | Path, *, train: str | Path | Non
         _check_cases_fit(case_list, cases_file, the_train, old_ops, options)
     old_sweep, new_sweep = run_layouts(
         [(old_line, the_train, old_ops), (new_line, the_train, new_ops)], limit_set, options,
-        case_list, workers=workers, scheduler=scheduler, progress=progress)
+        case_list, workers=workers, scheduler=scheduler, progress=progress,
+        scheduler_timeout_s=scheduler_timeout_s)
     comparison = compare_sweeps(old_sweep, new_sweep, old_sweep.outcomes[0].track_length_m,
                                 new_sweep.outcomes[0].track_length_m)
     old_stalls = {o.case for o in old_sweep.outcomes if o.stall}
@@ -726,12 +737,13 @@ class DemoRun:
                 for rev, _, check in self.revisions]
 
 
-def run_demo(*, page_size: str = "a4") -> DemoRun:
+def run_demo(*, page_size: str = "a4", seat_pages: str = "governing") -> DemoRun:
     """Check both revisions of the bundled demo layout (a fictional park and layout).
 
     Parameters
     ----------
     page_size : ``"a4"`` or ``"letter"`` for the reports.
+    seat_pages : seat pages of figures, as for :func:`check_layout`.
 
     Returns
     -------
@@ -749,8 +761,9 @@ def run_demo(*, page_size: str = "a4") -> DemoRun:
         call = shlex.join(["checker", "check", str(track), "--train", str(train),
                            "--operation", str(ops), "--project", DEMO_PROJECT,
                            "--layout-name", DEMO_LAYOUT, "--revision", f"{rev} ({what})",
-                           "--page-size", page_size])
+                           "--page-size", page_size, "--seat-pages", seat_pages])
         revisions.append((rev, what, check_layout(
             track, train=train, operation=ops, project=DEMO_PROJECT, layout=DEMO_LAYOUT,
-            revision=f"{rev} ({what})", page_size=page_size, call=call)))
+            revision=f"{rev} ({what})", page_size=page_size, seat_pages=seat_pages,
+            call=call)))
     return DemoRun(tuple(revisions))

@@ -7,47 +7,40 @@ weasyprint) load in one place, :func:`main`, after the arguments parse, so ``--h
 usage errors answer at once.
 
 Exit codes: 0 every rule holds (or the command ran), 1 at least one finding (or a stall, or a
-regression for ``compare``), 2 bad input or usage, 130 interrupted.
+regression for ``compare``), 2 bad input or usage (or an output that cannot be written),
+3 internal error (a bug: one line, the traceback with ``--debug``), 130 interrupted.
 """
 
 from __future__ import annotations
 
 import argparse
 import shlex
-import signal
 import sys
-from collections.abc import Callable, Sequence
+from collections.abc import Sequence
 from concurrent.futures import BrokenExecutor
+from pathlib import Path
 
 from . import __version__
+from .bounds import (
+    RATE_HZ,
+    SCHEDULER_TIMEOUT_S,
+    SMOOTHING_M,
+    START_SPEED_M_S,
+    WORKERS,
+    name_option,
+    number_option,
+)
 from .caution import CAUTION
 from .errors import InputError
+from .outputs import interrupt_handling, was_interrupted, written
+from .paths import check_run_paths, report_sidecar
+from .terminal import terminal_streams, write_raw
 
-EXIT_OK, EXIT_FINDINGS, EXIT_INPUT, EXIT_INTERRUPTED = 0, 1, 2, 130
+EXIT_OK, EXIT_FINDINGS, EXIT_INPUT, EXIT_INTERNAL, EXIT_INTERRUPTED = 0, 1, 2, 3, 130
 
 
 # ---------------------------------------------------------------------------------------------
 # Parsing
-
-
-def _number(minimum: float, inclusive: bool) -> Callable[[str], float]:
-    """An argparse type: a number above ``minimum`` (or equal to it when ``inclusive``)."""
-    bound = "zero or more" if inclusive else "greater than zero"
-
-    def parse(text: str) -> float:
-        try:
-            value = float(text)
-        except ValueError:
-            raise argparse.ArgumentTypeError(f"'{text}' is not a number") from None
-        if not (value >= minimum if inclusive else value > minimum):
-            raise argparse.ArgumentTypeError(f"must be {bound}, got {text}")
-        return value
-
-    return parse
-
-
-_positive = _number(0.0, inclusive=False)
-_nonnegative = _number(0.0, inclusive=True)
 
 
 def _add_ride_settings(p: argparse.ArgumentParser) -> None:
@@ -56,13 +49,15 @@ def _add_ride_settings(p: argparse.ArgumentParser) -> None:
     group.add_argument("--train", help="train TOML (cars, seats, masses, resistances)")
     group.add_argument("--ideal", action="store_true",
                        help="one rider on the centerline, no rolling resistance, no drag")
-    p.add_argument("--start-speed", type=_nonnegative, metavar="M_PER_S",
+    p.add_argument("--start-speed", type=number_option(*START_SPEED_M_S, " m/s"),
+                   metavar="M_PER_S",
                    help="speed at the start [m/s]; overrides the operation file")
-    p.add_argument("--rate", type=_positive, default=200.0, metavar="HZ",
+    p.add_argument("--rate", type=number_option(*RATE_HZ, " Hz"), default=200.0, metavar="HZ",
                    help="output sample rate [Hz] (default 200)")
     p.add_argument("--units", choices=("m", "ft"), default="m",
                    help="length unit of the track file (default m)")
-    p.add_argument("--smoothing", type=_nonnegative, default=0.0, metavar="METRES",
+    p.add_argument("--smoothing", type=number_option(*SMOOTHING_M, " m"), default=0.0,
+                   metavar="METRES",
                    help="RMS tolerance for smoothing noisy CAD samples (default 0: interpolate)")
 
 
@@ -80,20 +75,34 @@ def _add_documents(p: argparse.ArgumentParser, json_name: str, pdf_name: str) ->
     p.add_argument("--project", default="(not given)", help="project name for the documents")
 
 
+def _add_seat_pages(p: argparse.ArgumentParser) -> None:
+    p.add_argument("--seat-pages", choices=("all", "governing", "none"), default="governing",
+                   help="seat pages of figures in the PDF: the governing seat of each event "
+                   "and seats whose findings differ (default), every seat with a finding, "
+                   "or none")
+
+
 def _add_labels(p: argparse.ArgumentParser) -> None:
     """Layout labels and the single load case's name, for a check."""
     p.add_argument("--layout-name", default=None, help="layout name (default: file name)")
     p.add_argument("--revision", default="(not given)", help="layout revision for the report")
-    p.add_argument("--case", default="nominal", help="name of the load case (default nominal)")
+    p.add_argument("--case", default="nominal", type=name_option(),
+                   help="name of the load case (default nominal)")
+    _add_seat_pages(p)
 
 
 def _add_case_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--cases", metavar="CASES.toml",
                    help="load cases to run for every seat ('standard' for the shipped set)")
-    p.add_argument("--workers", type=int, default=None, metavar="N",
+    p.add_argument("--workers", type=number_option(*WORKERS, integer=True), default=None,
+                   metavar="N",
                    help="local worker processes for the cases (default: all cores)")
     p.add_argument("--scheduler", metavar="ADDRESS",
                    help="run the cases on a Dask cluster, e.g. tcp://10.0.0.5:8786")
+    p.add_argument("--scheduler-timeout", type=number_option(*SCHEDULER_TIMEOUT_S, " s"),
+                   default=30.0, metavar="SECONDS",
+                   help="how long to wait for the Dask scheduler and its first worker "
+                        "(default 30)")
     p.add_argument("--quiet", action="store_true", help="no progress bar")
 
 
@@ -104,6 +113,8 @@ def build_parser() -> argparse.ArgumentParser:
         prog="checker",
         description=f"Acceleration-envelope self-check for roller coaster layouts. {CAUTION}")
     parser.add_argument("--version", action="version", version=f"checker {__version__}")
+    parser.add_argument("--debug", action="store_true",
+                        help="show the traceback of an internal error")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND")
 
     sim = sub.add_parser("simulate", help="simulate a ride; write every seat's history (CSV)")
@@ -149,6 +160,10 @@ def build_parser() -> argparse.ArgumentParser:
                       help="folder for the reports (default ./demo-output)")
     demo.add_argument("--page-size", choices=("a4", "letter"), default="a4",
                       help="paper size of the PDFs (default a4)")
+    _add_seat_pages(demo)
+    for command in sub.choices.values():  # --debug after the command too
+        command.add_argument("--debug", action="store_true", default=argparse.SUPPRESS,
+                             help="show the traceback of an internal error")
     return parser
 
 
@@ -168,8 +183,8 @@ class Progress:
             return
         width = 30
         filled = int(width * done / total)
-        sys.stderr.write(f"\r{self.label} [{'#' * filled}{'.' * (width - filled)}] "
-                         f"{done}/{total}")
+        write_raw(sys.stderr, f"\r{self.label} [{'#' * filled}{'.' * (width - filled)}] "
+                  f"{done}/{total}")
         if done == total:
             sys.stderr.write("\n")
         sys.stderr.flush()
@@ -181,16 +196,28 @@ def _note_limits(args: argparse.Namespace, app) -> None:
               f"{app.BUNDLED_LIMITS.name} (invented example values, not from any standard)")
 
 
-def _check_outputs(app, *paths: str | None) -> None:
-    """Fail before any work when an output cannot be written."""
-    for path in paths:
-        if path:
-            app.check_writable(path)
+def _outputs(args: argparse.Namespace) -> list[tuple[str, str | Path | None]]:
+    """(option, path) of every output of a check or comparison; --pdf brings its sidecar."""
+    sidecar = report_sidecar(args.pdf, args.json) if args.pdf else args.json
+    return [("--pdf", args.pdf), ("--json", sidecar)]
+
+
+def _check_outputs(args: argparse.Namespace, *inputs: str | Path | None) -> None:
+    """Before any work: no output may be an input or another output (checker.paths)."""
+    if getattr(args, "scheduler", None) and not getattr(args, "cases", None) and (
+            args.command == "check"):
+        raise InputError("--scheduler", "runs load cases on a cluster but no --cases was "
+                         "given", "add --cases standard (or a cases file), or drop --scheduler")
+    cases = getattr(args, "cases", None)
+    inputs += (getattr(args, "limits", None), cases if cases != "standard" else None)
+    check_run_paths(inputs, _outputs(args))
 
 
 def _write_documents(args: argparse.Namespace, result) -> None:
     """--pdf writes the PDF with its JSON sidecar (at --json when given); --json alone the
-    JSON."""
+    JSON. Every input the run read (the limits' tables too) is checked against the outputs
+    first."""
+    check_run_paths([f.path for f in result.provenance.inputs], _outputs(args))
     if args.pdf:
         pdf, sidecar = result.write_pdf(args.pdf, args.json)
         print(f"wrote {pdf} and {sidecar}")
@@ -211,7 +238,7 @@ def _print_check(args: argparse.Namespace, result) -> int:
 
 
 def _cmd_simulate(args: argparse.Namespace, app, call: str) -> int:
-    _check_outputs(app, args.output)
+    check_run_paths([args.track, args.train, args.operation], [("--output", args.output)])
     result = app.simulate_ride(args.track, train=args.train, ideal=args.ideal,
                                operation=args.operation, start_speed_m_s=args.start_speed,
                                rate_hz=args.rate, units=args.units,
@@ -227,14 +254,15 @@ def _cmd_simulate(args: argparse.Namespace, app, call: str) -> int:
 
 
 def _cmd_check(args: argparse.Namespace, app, call: str) -> int:
-    _check_outputs(app, args.json, args.pdf)
+    _check_outputs(args, args.track, args.train, args.operation)
     _note_limits(args, app)
     result = app.check_layout(
         args.track, train=args.train, ideal=args.ideal, operation=args.operation,
         start_speed_m_s=args.start_speed, limits=args.limits, cases=args.cases,
         case=args.case, rate_hz=args.rate, units=args.units, smoothing_m=args.smoothing,
         project=args.project, layout=args.layout_name, revision=args.revision,
-        page_size=args.page_size, workers=args.workers, scheduler=args.scheduler,
+        page_size=args.page_size, seat_pages=args.seat_pages, workers=args.workers,
+        scheduler=args.scheduler, scheduler_timeout_s=args.scheduler_timeout,
         progress=Progress("cases", args.quiet), call=call)
     if result.stall:
         print(f"checker: {result.stall}", file=sys.stderr)
@@ -242,17 +270,19 @@ def _cmd_check(args: argparse.Namespace, app, call: str) -> int:
 
 
 def _cmd_check_history(args: argparse.Namespace, app, call: str) -> int:
-    _check_outputs(app, args.json, args.pdf)
+    _check_outputs(args, args.history)
     _note_limits(args, app)
     result = app.check_history(args.history, units=args.units, limits=args.limits,
                                case=args.case, project=args.project,
                                layout=args.layout_name, revision=args.revision,
-                               page_size=args.page_size, call=call)
+                               page_size=args.page_size, seat_pages=args.seat_pages,
+                               call=call)
     return _print_check(args, result)
 
 
 def _cmd_compare(args: argparse.Namespace, app, call: str) -> int:
-    _check_outputs(app, args.json, args.pdf)
+    _check_outputs(args, args.old, args.new, args.train, args.operation, args.old_operation,
+                   args.new_operation)
     _note_limits(args, app)
     result = app.compare_layouts(
         args.old, args.new, train=args.train, ideal=args.ideal, operation=args.operation,
@@ -260,7 +290,8 @@ def _cmd_compare(args: argparse.Namespace, app, call: str) -> int:
         start_speed_m_s=args.start_speed, limits=args.limits, cases=args.cases,
         rate_hz=args.rate, units=args.units, smoothing_m=args.smoothing,
         project=args.project, page_size=args.page_size, workers=args.workers,
-        scheduler=args.scheduler, progress=Progress("layouts x cases", args.quiet),
+        scheduler=args.scheduler, scheduler_timeout_s=args.scheduler_timeout,
+        progress=Progress("layouts x cases", args.quiet),
         plot_signals=bool(args.pdf), call=call)
     for stall in result.new_stalls:
         print(f"warning: {stall}", file=sys.stderr)
@@ -275,9 +306,9 @@ def _cmd_demo(args: argparse.Namespace, app, call: str) -> int:
     started = time.perf_counter()
     print("demo: Marrowvale Pleasure Gardens (a fictional park), 'Thistle Comet' (a fictional "
           "layout), against the bundled ILLUSTRATIVE limits")
-    demo = app.run_demo(page_size=args.page_size)
-    written = demo.write_reports(args.out)
-    for (rev, what, check), (pdf, sidecar) in zip(demo.revisions, written):
+    demo = app.run_demo(page_size=args.page_size, seat_pages=args.seat_pages)
+    reports = demo.write_reports(args.out)
+    for (rev, what, check), (pdf, sidecar) in zip(demo.revisions, reports):
         print(f"  revision {rev} ({what}): {check.verdict.upper()} with "
               f"{len(check.findings)} findings -> {pdf}, {sidecar}")
     print(f"done in {time.perf_counter() - started:.1f} s. The failing revision A is expected: "
@@ -291,8 +322,12 @@ COMMANDS = {"simulate": _cmd_simulate, "check": _cmd_check,
             "demo": _cmd_demo}
 
 
-def _on_terminate(signum, frame):  # SIGTERM behaves like Ctrl-C: unwind, no partial output
-    raise KeyboardInterrupt
+def _interrupted_message() -> str:
+    """What an interruption left behind, said truthfully."""
+    if not written:
+        return "checker: interrupted; no output was written or changed"
+    return ("checker: interrupted after writing " + ", ".join(str(p) for p in written)
+            + " (each whole); nothing else was written or changed")
 
 
 def main(argv: Sequence[str] | None = None) -> int:
@@ -303,24 +338,44 @@ def main(argv: Sequence[str] | None = None) -> int:
     if args.command is None:
         parser.print_help()
         return EXIT_INPUT
-    signal.signal(signal.SIGTERM, _on_terminate)
-    try:
-        from . import application  # the one place the numerical rooms load
+    # SIGINT and SIGTERM unwind (no partial output); user text is cleaned on the terminal
+    # and a closed reader does not change the exit code
+    with interrupt_handling(), terminal_streams():
+        try:
+            from . import application  # the one place the numerical rooms load
 
-        return COMMANDS[args.command](args, application, shlex.join(["checker", *argv]))
-    except InputError as exc:
-        print(f"checker: error: {exc.message()}", file=sys.stderr)
-        return EXIT_INPUT
-    except BrokenPipeError:  # output piped into a closed reader (e.g. head)
-        sys.stderr.close()
-        return EXIT_OK
-    except KeyboardInterrupt:
-        print("checker: interrupted; no output was written or changed", file=sys.stderr)
-        return EXIT_INTERRUPTED
-    except BrokenExecutor:  # a worker was stopped (e.g. Ctrl-C reached the whole group)
-        print("checker: a worker process was stopped (interrupted?); no output was written "
-              "or changed", file=sys.stderr)
-        return EXIT_INTERRUPTED
+            code = COMMANDS[args.command](args, application, shlex.join(["checker", *argv]))
+            if was_interrupted():  # a library swallowed the KeyboardInterrupt
+                raise KeyboardInterrupt
+            return code
+        except InputError as exc:
+            print(f"checker: error: {exc.message()}", file=sys.stderr)
+            return EXIT_INPUT
+        except KeyboardInterrupt:
+            print(_interrupted_message(), file=sys.stderr)
+            return EXIT_INTERRUPTED
+        except BrokenExecutor:  # a worker was stopped (e.g. Ctrl-C reached the whole group)
+            if was_interrupted():
+                print(_interrupted_message(), file=sys.stderr)
+                return EXIT_INTERRUPTED
+            print("checker: error: a worker process died (out of memory, or killed?) -- "
+                  "run again with fewer --workers", file=sys.stderr)
+            return EXIT_INPUT
+        except MemoryError:
+            print("checker: error: out of memory -- lower --rate, the number of seats or "
+                  "of --workers", file=sys.stderr)
+            return EXIT_INPUT
+        except Exception as exc:  # a bug: one line, the traceback only when asked
+            if args.debug:
+                import traceback
+
+                traceback.print_exc()
+            text = " ".join(str(exc).split())[:300]
+            print(f"checker: internal error: {type(exc).__name__}: {text} -- this is a bug in "
+                  "checker; please report it with the command line"
+                  + ("" if args.debug else " (add --debug for the traceback)"),
+                  file=sys.stderr)
+            return EXIT_INTERNAL
 
 
 if __name__ == "__main__":  # pragma: no cover

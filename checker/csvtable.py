@@ -50,7 +50,8 @@ def read_numeric_csv(
     header_line = 0
     rows: list[list[str]] = []
     lines: list[int] = []
-    for number, line in enumerate(content.splitlines(), start=1):
+    # rows end at '\n' only: a form feed or U+2028 inside a comment does not shift row numbers
+    for number, line in enumerate(content.split("\n"), start=1):
         stripped = line.strip()
         if not stripped or stripped.startswith("#"):
             continue
@@ -100,6 +101,8 @@ def read_numeric_csv(
                 strings[name].append(cell)
                 continue
             try:
+                if not cell.isascii() or "_" in cell:  # float() takes '1_000' and '１２'
+                    raise ValueError(cell)
                 value = float(cell)
             except ValueError:
                 shown = cell if len(cell) <= 20 else cell[:17] + "..."

@@ -16,6 +16,7 @@ from .resources import bundled_limits
 from .rules import Evaluation
 
 BUNDLED_LIMITS = bundled_limits()
+MATRIX_MARKS = {"pass": "P", "fail": "F", "stall": "S"}
 
 
 def _clean(value):
@@ -30,9 +31,69 @@ def _clean(value):
     return value
 
 
+MARGIN_CONVENTION = (
+    "margin = limit - value, in the rule's own unit: g for duration limits, g/s for onset "
+    "limits, % of the envelope for combined-axis envelopes (-20 % = the worst point lies 20 % "
+    "beyond the envelope boundary, measured from the rest point); negative = exceeded. A "
+    "stall has no margin.")
+STATION_NOTE = (
+    "Stations are those of the seat's car along the track [m]. s_start_m and s_end_m bound "
+    "the exceedance; s_worst_m (the one shown in tables) is where the filtered peak occurs; "
+    "s_motion_m is where the car was one filter group delay (group_delay_s) earlier, when the "
+    "motion that caused the filtered peak happened. A stall names the lead car's station.")
+
+
+def with_unit(value: float | None, unit: str) -> str:
+    """A value with its unit: 2 decimals in g, 1 in g/s and %, '-' when there is none."""
+    if value is None or not math.isfinite(value):
+        return "-"
+    digits = {"g": 2, "m/s": 2}.get(unit, 1)
+    return f"{value:.{digits}f} {unit}"
+
+
+def margin_text(item) -> str:
+    """The margin of a finding or event with its unit ('stall' for a stall)."""
+    if item.kind == "stall":
+        return "stall"
+    return with_unit(item.margin, item.unit)
+
+
+def event_record(event) -> dict:
+    """One event as a JSON object."""
+    remedy = event.remedy
+    g = event.governing
+    return {
+        "id": event.id, "rule": event.rule, "kind": event.kind, "axis": event.axis,
+        "unit": event.unit,
+        "station_range_m": (None if event.s_start_m is None
+                            else [event.s_start_m, event.s_end_m]),
+        "time_range_s": [event.t_start, event.t_end], "place": event.place,
+        "seats": len(event.seats), "seat_names": list(event.seats),
+        "cases": list(event.cases), "findings": len(event.members),
+        "governing_seat": g.seat, "governing_case": g.case, "peak_unit": g.peak_unit,
+        "peak": g.peak_g, "limit": g.limit_g, "margin": g.margin,
+        "s_worst_m": g.s_worst_m, "s_motion_m": g.s_motion_m, "t_worst": g.t_worst,
+        "attitude": g.attitude or None,
+        "message": g.detail,
+        "remedy": None if remedy is None else {
+            "quantity": remedy.quantity, "value": remedy.value, "unit": remedy.unit,
+            "formula": remedy.formula, "text": remedy.text},
+    }
+
+
 def evaluation_document(evaluation: Evaluation, inputs: list[tuple[str, str]],
-                        command: str, extra: dict | None = None) -> dict:
+                        command: str, extra: dict | None = None,
+                        events: list | None = None) -> dict:
+    """The JSON record of a check: verdict, events (worst first) and every finding, each
+    naming its event."""
+    from .events import event_of_finding, explain_events, group_findings
+
     limits = evaluation.limits
+    findings = evaluation.findings
+    if events is None:
+        events = explain_events(group_findings(findings))
+    ids = event_of_finding(events, len(findings))
+    delays = {f.group_delay_s for f in findings}
     doc = {
         "tool": "checker", "version": __version__,
         "caution": CAUTION + (" " + ILLUSTRATIVE_NOTE if limits.illustrative else ""),
@@ -44,11 +105,15 @@ def evaluation_document(evaluation: Evaluation, inputs: list[tuple[str, str]],
         "inputs": [{"file": f, "sha256": h} for f, h in inputs],
         "command": command,
         "warnings": list(evaluation.warnings),
+        "margin_convention": MARGIN_CONVENTION,
+        "stations": {"note": STATION_NOTE, "shown": "s_worst_m",
+                     "group_delay_s": max(delays) if delays else None},
         "seats": [{"seat": s.seat, "case": s.case, "verdict": s.verdict,
                    "findings": len(s.findings),
                    "filtered_range_g": {a: list(s.worst[a]) for a in AXES}}
                   for s in evaluation.seats],
-        "findings": [f.to_dict() for f in evaluation.findings],
+        "events": [event_record(e) for e in events],
+        "findings": [{**f.to_dict(), "event": ids[i]} for i, f in enumerate(findings)],
     }
     if extra:
         doc.update(extra)
@@ -59,32 +124,45 @@ def to_json(doc: dict) -> str:
     return json.dumps(doc, indent=2, sort_keys=True) + "\n"
 
 
-def summary_table(evaluation: Evaluation) -> str:
-    """One line per seat: filtered extremes per axis (over all load cases), number of
-    findings, verdict."""
-    rows: dict[str, dict] = {}
-    for s in evaluation.seats:
-        row = rows.setdefault(s.seat, {"cases": [], "n": 0, "worst": {}})
-        row["cases"].append(s.case)
-        row["n"] += len(s.findings)
-        for a in AXES:
-            lo, hi = row["worst"].get(a, (math.inf, -math.inf))
-            row["worst"][a] = (min(lo, s.worst[a][0]), max(hi, s.worst[a][1]))
-    head = (f"{'seat':<14} {'case':<14} {'gx min':>7} {'gx max':>7} {'gy min':>7} "
-            f"{'gy max':>7} {'gz min':>7} {'gz max':>7} {'findings':>8}  verdict")
+def events_table(events: list, verdict: str, finding_count: int) -> str:
+    """Terminal view: one line per event, worst first, then the overall verdict."""
+    head = (f"{'event':<5} {'rule':<24} {'where':<17} {'element':<20} {'seats':>5} "
+            f"{'cases':>5}  {'worst margin':>13}  governing")
     lines = [head, "-" * len(head)]
-    for seat, row in rows.items():
-        case = row["cases"][0] if len(row["cases"]) == 1 else f"{len(row['cases'])} cases"
-        vals = " ".join(f"{v:7.2f}" for a in AXES for v in row["worst"][a])
-        lines.append(f"{seat:<14} {case:<14} {vals} {row['n']:8d}  "
-                     f"{'fail' if row['n'] else 'pass'}")
-    kinds: dict[str, int] = {}
-    for f in evaluation.findings:
-        kinds[f.kind] = kinds.get(f.kind, 0) + 1
-    counts = ", ".join(f"{n} {k}" for k, n in sorted(kinds.items())) or "none"
-    lines.append(f"overall: {evaluation.verdict.upper()} ({len(evaluation.findings)} findings: "
-                 f"{counts})")
+    for e in events:
+        g = e.governing
+        lines.append(f"{e.id:<5} {e.rule[:24]:<24} {e.where:<17} {e.place[:20]:<20} "
+                     f"{len(e.seats):>5} {len(e.cases):>5}  {margin_text(e):>13}  "
+                     f"{g.seat} / {g.case}")
+        if e.kind == "stall":
+            lines.append(f"      {g.detail.split('; this seat')[0]}")
+        if e.remedy is not None:
+            lines.append(f"      remedy: {e.remedy.text}")
+    if not events:
+        lines.append("(no event: every rule holds for every seat)")
+    stalls = sum(1 for e in events if e.kind == "stall")
+    lines.append(f"overall: {verdict.upper()} ({len(events)} event"
+                 f"{'' if len(events) == 1 else 's'} from {finding_count} finding"
+                 f"{'' if finding_count == 1 else 's'}"
+                 + (f"; the train stalls in {stalls} event{'' if stalls == 1 else 's'}"
+                    if stalls else "") + ")")
+    if events:
+        where = ("stations of the seat's car where the filtered peak occurs"
+                 if any(e.s_start_m is not None for e in events)
+                 else "places are times (recorded data carry no station)")
+        lines.append("margins: limit - value in the rule's unit (g, g/s, % of the envelope);"
+                     f" negative = exceeded; {where}")
     return "\n".join(lines)
+
+
+def summary_table(evaluation: Evaluation, events: list | None = None) -> str:
+    """Terminal summary: the events table (see :func:`events_table`)."""
+    from .events import explain_events, group_findings
+
+    findings = evaluation.findings
+    if events is None:
+        events = explain_events(group_findings(findings))
+    return events_table(events, evaluation.verdict, len(findings))
 
 
 def sweep_document(sweep) -> dict:
@@ -97,7 +175,8 @@ def sweep_document(sweep) -> dict:
                   for o in sweep.outcomes],
         "matrix": {seat: {case: cells[(seat, case)] for case in cases} for seat in seats},
         "governing": [{"rule": f.rule, "seat": f.seat, "case": f.case, "peak_g": f.peak_g,
-                       "limit_g": f.limit_g, "margin": f.margin, "s_start_m": f.s_start_m}
+                       "limit_g": f.limit_g, "margin": f.margin, "unit": f.unit,
+                       "s_worst_m": f.s_worst_m}
                       for f in sweep.governing()],
     })
 
@@ -107,15 +186,17 @@ def sweep_tables(sweep) -> str:
     lines = ["governing seat and case per rule:"]
     governing = sweep.governing()
     for f in governing:
-        lines.append(f"  {f.rule:<26} {f.seat:<12} {f.case:<20} peak {f.peak_g:7.2f}  limit "
-                     f"{f.limit_g:7.2f}  margin {f.margin:7.2f}")
+        lines.append(f"  {f.rule:<26} {f.seat:<12} {f.case:<20} peak "
+                     f"{with_unit(f.peak_g, f.peak_unit):>11}  limit "
+                     f"{with_unit(f.limit_g, f.peak_unit):>11}"
+                     f"  margin {margin_text(f):>11}")
     if not governing:
         lines.append("  (no finding in any case)")
     seats, cases, cells = sweep.matrix()
-    lines.append("verdicts, seat by case (P pass, F fail):")
+    lines.append("verdicts, seat by case (P pass, F fail, S the train stalls):")
     lines.append(" " * 14 + " ".join(f"{i + 1:>2}" for i in range(len(cases))))
     for seat in seats:
-        marks = " ".join(f"{'F' if cells[(seat, c)] == 'fail' else 'P':>2}" for c in cases)
+        marks = " ".join(f"{MATRIX_MARKS[cells[(seat, c)]]:>2}" for c in cases)
         lines.append(f"  {seat:<12}{marks}")
     lines.append("  cases: " + ", ".join(f"{i + 1} {c}" for i, c in enumerate(cases)))
     return "\n".join(lines)
@@ -141,3 +222,14 @@ def comparison_document(comparison, limits, old_file: str, new_file: str, old_co
                      "new": c.new.to_dict() if c.new else None}
                     for c in comparison.changes],
     })
+
+
+def change_text(change) -> str:
+    """One line of a comparison: status, rule, seat, case, place and the margin before and
+    after with its unit; a gone finding shows its old margin and "gone", a new one "new"."""
+    f = change.new or change.old
+    where = (f"{f.s_worst_m:.1f} m" if f.s_worst_m is not None else f"t {f.t_worst:.2f} s")
+    before = margin_text(change.old) if change.old is not None else "new"
+    after = margin_text(change.new) if change.new is not None else "gone"
+    return (f"{change.status:<6} {change.rule:<26} {change.seat:<12} {change.case:<14} at "
+            f"{where:<9} margin {before:>11} -> {after:<11} {change.matched_by}")

@@ -144,6 +144,36 @@ def _section_arrays(stations: np.ndarray, operation: Operation, track_length: fl
     return code, remaining, target_e, accel, force, cap_e
 
 
+def attitude(up_z: float) -> str:
+    """Riders' attitude from the world-up component of the rider z axis: ``"upright"``
+    within 45 degrees of world up, ``"inverted"`` beyond 135 degrees, else ``"on its side"``."""
+    if up_z >= math.cos(math.radians(45.0)):
+        return "upright"
+    if up_z <= -math.cos(math.radians(45.0)):
+        return "inverted"
+    return "on its side"
+
+
+ATTITUDE_ORDER = ("upright", "on its side", "inverted")
+START_DISTANCE_M = 1.0  # a train that comes to rest within this of its start never got going
+
+
+def _stall(geometry: TrackGeometry, train: Train, station: float, time: float,
+           travelled: float) -> TrainStalled:
+    """The stall at lead-car ``station`` [m]: why (start, crest, inverted, on its side)
+    and the riders' worst attitude over the cars there."""
+    cars = station - train.spacing_m * np.arange(train.car_count)
+    (up,) = geometry.sample(cars, "up")
+    worst = max((attitude(float(z)) for z in up[:, 2]), key=ATTITUDE_ORDER.index)
+    if travelled < START_DISTANCE_M:
+        cause = "start"
+    elif worst != "upright":
+        cause = worst
+    else:
+        cause = "crest"
+    return TrainStalled(station, time, 0.0, cause=cause, attitude=worst)
+
+
 def simulate_motion(
     geometry: TrackGeometry,
     train: Train,
@@ -195,9 +225,11 @@ def simulate_motion(
     v = np.sqrt(2.0 * np.maximum(e, 0.0))
     dt = 2.0 * np.diff(s) / np.maximum(v[1:] + v[:-1], 1e-12)
     t = np.concatenate([[0.0], np.cumsum(dt)])
-    stall = TrainStalled(float(s[-1]), float(t[-1]), 0.0) if reason == STALLED else None
+    stall = None
+    if reason == STALLED:
+        stall = _stall(geometry, train, float(s[-1]), float(t[-1]), float(s[-1] - start))
     if len(s) < 3:  # came to rest within the first step: nothing to integrate
-        stall = TrainStalled(float(s[-1]), float(t[-1]), float(v[-1]))
+        stall = _stall(geometry, train, float(s[-1]), float(t[-1]), float(s[-1] - start))
         s = np.array([s[0], s[0] + 0.5 * ds, s[0] + ds])
         e = np.zeros(3)
         v = np.zeros(3)

@@ -46,14 +46,35 @@ class InputError(Exception):
 
 
 class TrainStalled(Exception):
-    """The train came to rest outside a stopping brake: it cannot crest a hill."""
+    """The train came to rest outside a stopping brake.
 
-    def __init__(self, station_m: float, time_s: float, speed_m_s: float) -> None:
+    ``cause`` says why: ``"start"`` (no speed at the start), ``"crest"`` (it cannot crest a
+    hill) or ``"inverted"`` / ``"on its side"`` (it stops in an element where the riders would
+    hang in their restraints). ``attitude`` is the riders' attitude there (the worst car):
+    ``"upright"``, ``"on its side"`` or ``"inverted"``. ``station_m`` is the lead car's
+    station, the one station a stall is reported at.
+    """
+
+    def __init__(self, station_m: float, time_s: float, speed_m_s: float,
+                 cause: str = "crest", attitude: str = "upright") -> None:
         self.station_m = station_m
         self.time_s = time_s
         self.speed_m_s = speed_m_s
-        super().__init__(
-            f"the train stalls at station {station_m:.1f} m (t = {time_s:.2f} s, speed "
-            f"{speed_m_s:.2f} m/s): it cannot crest the hill there -- raise the entry speed, "
-            "lower the hill or check the resistances"
-        )
+        self.cause = cause
+        self.attitude = attitude
+        super().__init__(self.message())
+
+    def message(self) -> str:
+        where = (f"with its lead car at station {self.station_m:.1f} m (t = {self.time_s:.2f} s, "
+                 f"speed {self.speed_m_s:.2f} m/s)")
+        if self.cause == "start":
+            return (f"the train has no speed at the start: it comes to rest {where} -- give a "
+                    "start speed (start_speed_m_s), a lift or a launch at the start")
+        if self.cause in ("inverted", "on its side"):
+            return (f"the train stalls {self.cause} {where}: riders would hang there in their "
+                    "restraints -- give the element more entry speed or reshape it")
+        return (f"the train cannot crest a hill: it comes to rest {where} -- raise the entry "
+                "speed, lower the hill or check the resistances")
+
+    def __str__(self) -> str:
+        return self.message()

@@ -29,6 +29,9 @@ class RecordedSignal:
     position: np.ndarray | None = None
 
 
+MAX_SEAT_NAME_CHARS = 200  # a name, not a pasted file
+
+
 def load_history(path: str | Path, units: str = "g") -> list[RecordedSignal]:
     path = Path(path)
     if units not in ("g", "m/s2"):
@@ -39,9 +42,12 @@ def load_history(path: str | Path, units: str = "g") -> list[RecordedSignal]:
     seats = table.text_columns.get("seat", ["recorded"] * len(table))
     order: dict[str, list[int]] = {}
     for i, name in enumerate(seats):
-        if name == "":
-            raise InputError(path, "seat name is empty", "name the seat on every row",
-                             row=int(table.lines[i]), column="seat")
+        if name == "" or len(name) > MAX_SEAT_NAME_CHARS:
+            problem = "seat name is empty" if not name else f"seat name is {len(name)} " \
+                "characters long"
+            raise InputError(path, problem, "name the seat on every row, in at most "
+                             f"{MAX_SEAT_NAME_CHARS} characters", row=int(table.lines[i]),
+                             column="seat")
         order.setdefault(name, []).append(i)
     out = []
     has_xyz = all(table.has(c) for c in "xyz")

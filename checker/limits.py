@@ -8,6 +8,7 @@ direction, combined-axis envelopes (polygons or ellipses) and onset-rate limits.
 from __future__ import annotations
 
 import hashlib
+import os
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -16,6 +17,8 @@ import numpy as np
 from .conditioning import FilterSpec
 from .csvtable import read_numeric_csv
 from .errors import InputError
+from .paths import read_input_bytes
+from .terminal import shorten
 from .tomlfields import Fields, load_toml
 
 AXES = ("gx", "gy", "gz")
@@ -93,7 +96,7 @@ class LimitSet:
 
 
 def sha256_of(path: str | Path) -> str:
-    return hashlib.sha256(Path(path).read_bytes()).hexdigest()
+    return hashlib.sha256(read_input_bytes(path)).hexdigest()
 
 
 def _segments_cross(p1, p2, q1, q2) -> bool:
@@ -184,10 +187,17 @@ def _points_from(fields: Fields, name: str, base: Path, columns: tuple[str, str]
     """A table given inline as ``name = [[a, b], ...]`` or as ``table = "file.csv"``."""
     if fields.has("table"):
         rel = fields.text("table")
-        path = (base / rel) if not Path(rel).is_absolute() else Path(rel)
+        path = base / rel
+        # only the limits file's folder and below: a table path never reads (or echoes) any
+        # other file, whatever links or '..' it holds
+        folder = Path(os.path.realpath(base))
+        if Path(rel).is_absolute() or folder not in Path(os.path.realpath(path)).parents:
+            raise fields.error("table", f"table file '{shorten(rel, 60)}' is outside the "
+                               "limits file's folder", "put the table in the limits file's "
+                               "folder (or below it) and give a relative path")
         if not path.is_file():
-            raise fields.error("table", f"table file '{rel}' not found next to the limits file",
-                               "give a path relative to the limits file")
+            raise fields.error("table", f"table file '{shorten(rel, 60)}' not found next to "
+                               "the limits file", "give a path relative to the limits file")
         table = read_numeric_csv(path, list(columns), what="limit table")
         files.append((str(path), sha256_of(path)))
         return np.column_stack([table.columns[c] for c in columns])
@@ -206,6 +216,18 @@ def _points_from(fields: Fields, name: str, base: Path, columns: tuple[str, str]
     return arr
 
 
+MAX_LEVEL_G = 20.0  # beyond any ride limit: a unit mistake (m/s^2 written as g?)
+MAX_DURATION_S = 3600.0
+
+
+def _check_range(f: Fields, key: str, values: np.ndarray, bound: float, what: str,
+                 unit: str) -> None:
+    if values.size and np.abs(values).max() > bound:
+        worst = float(values.flat[int(np.argmax(np.abs(values)))])
+        raise f.error(key, f"{what} of {worst:g}{unit} is beyond {bound:g}{unit}",
+                      f"give values within {bound:g}{unit} (units or a typing slip?)")
+
+
 def _duration_limit(f: Fields, base: Path, files: list) -> DurationLimit:
     axis = f.text("axis", choices=AXES)
     word = f.text("direction", choices=tuple(DIRECTION_WORDS))
@@ -218,6 +240,8 @@ def _duration_limit(f: Fields, base: Path, files: list) -> DurationLimit:
     key = "table" if f.has("table") else "points"
     if np.any(durations < 0):
         raise f.error(key, "has a negative duration", "durations are seconds, 0 or more")
+    _check_range(f, key, durations, MAX_DURATION_S, "a duration", "s")
+    _check_range(f, key, levels, MAX_LEVEL_G, "a level", " g")
     if np.any(np.diff(durations) <= 0):
         i = int(np.flatnonzero(np.diff(durations) <= 0)[0]) + 2
         raise f.error(key, f"durations must increase (point {i} does not)",
@@ -271,7 +295,7 @@ def load_limits(path: str | Path) -> LimitSet:
     filt = doc.sub("filter")
     spec = FilterSpec(filt.text("kind", "butterworth", choices=("butterworth", "none")),
                       filt.integer("order", 4, minimum=1, maximum=12),
-                      filt.number("corner_hz", 5.0, positive=True, maximum=1e4),
+                      filt.number("corner_hz", 5.0, minimum=0.01, maximum=1e4),
                       filt.text("pass", "single", choices=("single", "zero-phase")))
     filt.done()
     duration = tuple(_duration_limit(f, base, files) for f in doc.table_list("duration"))
@@ -291,9 +315,12 @@ def load_limits(path: str | Path) -> LimitSet:
         name = f.text("name", PLANES[axes] + " envelope")
         shape = f.text("shape", "polygon", choices=("polygon", "ellipse"))
         if shape == "ellipse":
-            vertices = _ellipse(duration, axes, f.number("at_duration_s", 0.0, minimum=0), f)
+            vertices = _ellipse(duration, axes, f.number("at_duration_s", 0.0, minimum=0,
+                                                                     maximum=MAX_DURATION_S), f)
         else:
             vertices = _points_from(f, "vertices", base, axes, files)
+            _check_range(f, "table" if f.has("table") else "vertices", vertices, MAX_LEVEL_G,
+                         "a vertex", " g")
             if len(vertices) >= 2 and np.allclose(vertices[0], vertices[-1]):
                 vertices = vertices[:-1]
             problem = polygon_problem(vertices)

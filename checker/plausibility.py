@@ -93,3 +93,72 @@ def motion_warnings(geometry: TrackGeometry, motion: RideMotion,
                    f"and powered sections can give ({bound:.1f} m/s, energy check): check the "
                    "start speed, wind and sections")
     return out
+
+
+REST_GZ_RANGE = (0.5, 1.5)  # [g0] median Gz of a seated rider's record (rough, common practice)
+USUAL_CORNER_HZ = (1.0, 30.0)  # low-pass corners used for ride acceleration (common practice)
+BODY_REACH_M = 0.5  # a rider's reach beyond the seat reference point (rough)
+MIN_CLEARANCE_M = 1.0
+NEIGHBOUR_FACTOR = 4.0  # stretches closer along the track than this x clearance are neighbours
+
+
+def history_warnings(signals) -> list[str]:
+    """A recorded Gz whose median is far from the 1 g of a seated rider: wrong units or a
+    sensor mounted with its z axis not up."""
+    out = []
+    for sig in signals:
+        rest = float(np.median(sig.g[:, 2]))
+        if not REST_GZ_RANGE[0] <= rest <= REST_GZ_RANGE[1]:
+            out.append(f"seat {sig.seat}: the recorded Gz has a median of {rest:.2f} g, far "
+                       "from the 1 g a seated rider reads at rest: wrong units (--units g or "
+                       "m/s2?) or a sensor mounted with z not up through the spine")
+    return out
+
+
+def filter_warnings(spec) -> list[str]:
+    """A low-pass corner far outside the range usual for ride accelerations."""
+    if spec.kind == "none":
+        return []
+    low, high = USUAL_CORNER_HZ
+    if low <= spec.corner_hz <= high:
+        return []
+    effect = ("smooths away most of the ride's peaks" if spec.corner_hz < low
+              else "keeps vibration that limits are not meant for")
+    return [f"the limit set's filter corner is {spec.corner_hz:g} Hz, outside the usual "
+            f"{low:g} to {high:g} Hz: it {effect}; check filter.corner_hz"]
+
+
+def train_clearance_m(train) -> float:
+    """Radius around the rails that a train and its riders take up [m] (rough)."""
+    reach = max((float(np.hypot(s.left_m, s.up_m)) for s in train.seats), default=0.0)
+    return max(MIN_CLEARANCE_M, reach + BODY_REACH_M)
+
+
+def crossing_warnings(geometry: TrackGeometry, clearance_m: float) -> list[str]:
+    """Stretches of track that pass closer to each other than the train's clearance.
+
+    Points of the station grid are paired with a KD-tree (scipy.spatial.cKDTree); pairs
+    closer along the track than ``NEIGHBOUR_FACTOR`` clearances are the same stretch. A
+    layout whose ends meet (a circuit) counts distance along the track around the circuit.
+    """
+    from scipy.spatial import cKDTree
+
+    position, s = geometry.position, geometry.s
+    if len(s) < 3:
+        return []
+    pairs = cKDTree(position).query_pairs(clearance_m, output_type="ndarray")
+    if not len(pairs):
+        return []
+    along = np.abs(s[pairs[:, 0]] - s[pairs[:, 1]])
+    if np.linalg.norm(position[0] - position[-1]) < clearance_m:  # a circuit
+        along = np.minimum(along, geometry.length - along)
+    apart = pairs[along > NEIGHBOUR_FACTOR * clearance_m]
+    if not len(apart):
+        return []
+    gap = np.linalg.norm(position[apart[:, 0]] - position[apart[:, 1]], axis=1)
+    k = int(np.argmin(gap))
+    a, b = sorted(s[apart[k]])
+    return [f"the track passes within {gap[k]:.2f} m of itself (stations {a:.1f} m and "
+            f"{b:.1f} m), less than the train's clearance of {clearance_m:.2f} m: the layout "
+            "crosses or clashes with itself there; check the coordinates (a loop needs a "
+            "sideways offset)"]

@@ -8,16 +8,19 @@ from __future__ import annotations
 from dataclasses import dataclass, replace
 from pathlib import Path
 
+import numpy as np
 import pandas as pd
 
+from .bounds import MIN_TRACK_M, check_memory
 from .dynamics import RideMotion, simulate_motion
 from .errors import InputError
 from .geometry import STATION_STEP_M, TrackGeometry, build_geometry
 from .kinematics import SeatHistory, rider_histories
 from .limits import LimitSet
 from .operation import Operation, load_operation
-from .plausibility import motion_warnings, track_warnings
+from .plausibility import crossing_warnings, motion_warnings, track_warnings, train_clearance_m
 from .rules import Evaluation, evaluate
+from .stalls import stall_findings
 from .track import Centerline, load_centerline
 from .train import Train, ideal_rider, load_train
 
@@ -48,6 +51,11 @@ class RideResult:
 def run_ride(centerline: Centerline, train: Train, operation: Operation,
              options: RideOptions = RideOptions()) -> RideResult:
     """Geometry, dynamics and every seat's history for one layout and one train."""
+    polyline_m = float(np.linalg.norm(np.diff(centerline.points, axis=0), axis=1).sum())
+    if polyline_m < MIN_TRACK_M:
+        raise InputError(centerline.source, f"the track is only {polyline_m:.3g} m long",
+                         "lengths are read in metres (or feet with --units ft): check the "
+                         "file's units")
     geometry = build_geometry(centerline.points, centerline.roll_deg, centerline.up,
                               smoothing_m=options.smoothing_m, step_m=options.step_m)
     if train.length_m >= geometry.length:
@@ -55,8 +63,11 @@ def run_ride(centerline: Centerline, train: Train, operation: Operation,
                          f"than the train ({train.length_m:.1f} m from first to last car)",
                          "check the track's units and the train's car spacing")
     motion = simulate_motion(geometry, train, operation, head_wind_m_s=options.head_wind_m_s)
+    check_memory(len(train.seats) * train.car_count, train.car_count, motion.duration_s,
+                 options.rate_hz, centerline.source)
     histories = rider_histories(geometry, motion, train.seats, options.rate_hz)
     warnings = (track_warnings(geometry, centerline.points)
+                + crossing_warnings(geometry, train_clearance_m(train))
                 + motion_warnings(geometry, motion, operation))
     return RideResult(geometry, motion, histories, train, operation, options, tuple(warnings))
 
@@ -161,9 +172,15 @@ def run_check(centerline: Centerline, train: Train, operation: Operation, limits
     """
     result = run_ride(centerline, train, operation, options)
     evaluation = evaluate(result.histories, limits, case, keep_signals)
-    stalls = (str(result.motion.stall),) if result.motion.stall is not None else ()
-    evaluation = replace(evaluation, warnings=result.warnings + evaluation.warnings + stalls,
-                         stalls=stalls)
+    stalls: tuple[str, ...] = ()
+    seats = evaluation.seats
+    if result.motion.stall is not None:  # a finding of every seat, not a warning
+        stalls = (str(result.motion.stall),)
+        found = {f.seat: f for f in stall_findings(result.motion.stall, result.histories,
+                                                   result.geometry, case, train.spacing_m)}
+        seats = tuple(replace(s, findings=s.findings + (found[s.seat],)) for s in seats)
+    evaluation = replace(evaluation, seats=seats,
+                         warnings=result.warnings + evaluation.warnings, stalls=stalls)
     signals = {(h.seat, case): h for h in result.histories}
     return CheckRun(evaluation, result, signals)
 

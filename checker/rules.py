@@ -17,7 +17,7 @@ from enum import Enum
 
 import numpy as np
 
-from .conditioning import lowpass, onset_rate
+from .conditioning import group_delay_s, lowpass, onset_rate
 from .errors import InputError
 from .limits import AXES, REST, CombinedEnvelope, DurationLimit, LimitSet, contains
 from .limits import outside_fraction as _outside_fraction
@@ -51,11 +51,26 @@ class FindingKind(TextEnum):
     DURATION = "duration"  # a level held longer than the limit curve allows
     COMBINED = "combined"  # a filtered sample outside a combined-axis envelope
     ONSET = "onset"  # the rate of change above the onset limit
+    STALL = "stall"  # the train comes to rest outside a stopping brake
+
+
+MARGIN_UNITS = {"duration": "g", "onset": "g/s", "combined": "%", "stall": "m/s"}
 
 
 @dataclass(frozen=True)
 class Finding:
-    """One exceedance event. Times [s], stations [m], levels [g0], onset [g0/s]."""
+    """One exceedance in one seat and case. Times [s], stations [m], levels [g0], onset
+    [g0/s].
+
+    ``margin`` is limit minus value in the rule's own unit (``unit``: g for duration rules,
+    g/s for onset, % of the envelope for combined-axis rules, where -20 means the worst point
+    lies 20 % beyond the envelope boundary); negative means exceeded. Stations are those of
+    the seat's car: ``s_start_m`` at the start of the exceedance, ``s_end_m`` at its end,
+    ``s_worst_m`` where the filtered signal peaks, and ``s_motion_m`` where the car was one
+    filter group delay earlier, when the motion that caused the filtered peak happened. A
+    stall (kind ``"stall"``) is reported at the lead car's station, its "peak" is the speed
+    there [m/s] and it has no margin.
+    """
 
     rule: str
     kind: FindingKind
@@ -73,15 +88,37 @@ class Finding:
     s_worst_m: float | None = None
     position_m: tuple[float, float, float] | None = None
     detail: str = ""
+    s_end_m: float | None = None
+    s_motion_m: float | None = None
+    group_delay_s: float = 0.0  # filter delay between the motion and its filtered peak [s]
+    attitude: str = ""  # stall only: the riders' attitude (upright, on its side, inverted)
+    v_m_s: float | None = None  # train speed at the worst point [m/s] (simulated rides)
+
+    @property
+    def unit(self) -> str:
+        """Unit of peak, limit and margin."""
+        return MARGIN_UNITS.get(self.kind, "g")
+
+    @property
+    def peak_unit(self) -> str:
+        """Unit of peak and limit: a combined-axis finding gives its distance from the rest
+        point in g (its margin is in % of the envelope)."""
+        return {"onset": "g/s", "stall": "m/s"}.get(self.kind, "g")
 
     @property
     def severity(self) -> float:
-        """Exceedance relative to the limit (0 = at the limit)."""
+        """Exceedance relative to the limit (0 = at the limit); a stall is the most severe."""
+        if self.kind == "stall":
+            return float("inf")
+        if self.kind == "combined":
+            return -self.margin / 100.0
         return -self.margin / abs(self.limit_g) if self.limit_g else float("inf")
 
     def to_dict(self) -> dict:
         data = asdict(self)
         data["severity"] = self.severity
+        data["unit"] = self.unit
+        data["peak_unit"] = self.peak_unit
         return data
 
 
@@ -235,18 +272,25 @@ def _merge(left: np.ndarray, right: np.ndarray) -> list[tuple[int, int, np.ndarr
 class _Context:
     """What a finding needs to say where it happened."""
 
-    def __init__(self, seat, case: str):
+    def __init__(self, seat, case: str, group_delay_s: float = 0.0):
         self.seat = seat
         self.case = case
         self.t = np.asarray(seat.t)
         self.s = getattr(seat, "s", None)
         self.position = getattr(seat, "position", None)
+        self.v = getattr(seat, "v", None)
+        self.group_delay_s = group_delay_s
 
-    def locate(self, start: int, worst: int) -> dict:
-        out: dict = {}
+    def locate(self, start: int, worst: int, end: int | None = None) -> dict:
+        out: dict = {"group_delay_s": self.group_delay_s}
         if self.s is not None:
             out["s_start_m"] = float(self.s[start])
             out["s_worst_m"] = float(self.s[worst])
+            out["s_end_m"] = float(self.s[worst if end is None else end])
+            out["s_motion_m"] = float(np.interp(self.t[worst] - self.group_delay_s, self.t,
+                                                self.s))
+        if self.v is not None:
+            out["v_m_s"] = float(self.v[worst])
         if self.position is not None:
             out["position_m"] = tuple(float(v) for v in self.position[worst])
         return out
@@ -300,7 +344,7 @@ def _duration_findings(x: np.ndarray, dt: float, rule: DurationLimit, ctx: _Cont
             t_worst=float(ctx.t[peak_i]),
             detail=f"sustained {rule.sign * level[g]:.2f} g for {width[g] * dt:.3f} s where "
                    f"{rule.sign * allowed[g]:.2f} g is allowed for that long",
-            **ctx.locate(start, peak_i)))
+            **ctx.locate(start, peak_i, end)))
     return findings, exposure
 
 
@@ -320,10 +364,10 @@ def _combined_findings(g: np.ndarray, env: CombinedEnvelope, ctx: _Context) -> l
             seat=ctx.seat.seat, case=ctx.case, t_start=float(ctx.t[start]),
             t_end=float(ctx.t[end]) + dt, duration_s=float(ctx.t[end] - ctx.t[start] + dt),
             peak_g=reach, limit_g=reach / (1 + float(frac.max())),
-            margin=-float(frac.max()), t_worst=float(ctx.t[w]),
+            margin=-100.0 * float(frac.max()), t_worst=float(ctx.t[w]),
             detail=f"({env.axes[0]}, {env.axes[1]}) = ({pair[w, 0]:.2f}, {pair[w, 1]:.2f}) g, "
                    f"{100 * frac.max():.1f} % outside the envelope",
-            **ctx.locate(start, w)))
+            **ctx.locate(start, w, end)))
     return findings
 
 
@@ -340,7 +384,7 @@ def _onset_findings(x: np.ndarray, axis: str, limit: float, ctx: _Context) -> li
             duration_s=float(ctx.t[end] - ctx.t[start] + dt), peak_g=float(rate[w]),
             limit_g=float(limit), margin=float(limit - abs(rate[w])), t_worst=float(ctx.t[w]),
             detail=f"{axis} changes at {rate[w]:.1f} g/s; limit {limit:g} g/s",
-            **ctx.locate(start, w)))
+            **ctx.locate(start, w, end)))
     return findings
 
 
@@ -372,7 +416,7 @@ def evaluate_seat(seat, limits: LimitSet, case: str = "nominal",
     t = np.asarray(seat.t, dtype=float)
     rate = sample_rate(t)
     filtered = lowpass(seat.g, rate, limits.filter)
-    ctx = _Context(seat, case)
+    ctx = _Context(seat, case, group_delay_s(limits.filter, rate))
     dt = 1.0 / rate
     findings: list[Finding] = []
     exposures = {}

@@ -15,11 +15,14 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from .errors import InputError
+from .events import group_findings
 from .limits import LimitSet
 from .loadcases import LoadCase, apply_case
 from .operation import Operation
+from .parentwatch import watch_parent
 from .ride import CheckRun, RideOptions, run_check
 from .rules import Evaluation, Finding, verdict_of
+from .terminal import shorten
 from .track import Centerline
 from .train import Train
 
@@ -67,11 +70,12 @@ class Sweep:
         return list(best.values())
 
     def matrix(self) -> tuple[list[str], list[str], dict]:
-        """Seats, cases and {(seat, case): verdict}."""
+        """Seats, cases and {(seat, case): "pass", "fail" or "stall"}."""
         cases = [o.case for o in self.outcomes]
         seats = [s.seat for s in self.outcomes[0].evaluation.seats] if self.outcomes else []
-        cells = {(s.seat, o.case): s.verdict for o in self.outcomes
-                 for s in o.evaluation.seats}
+        cells = {(s.seat, o.case): ("stall" if any(f.kind == "stall" for f in s.findings)
+                                    else s.verdict)
+                 for o in self.outcomes for s in o.evaluation.seats}
         return seats, cases, cells
 
 
@@ -90,27 +94,32 @@ def _run_one(job) -> CaseOutcome:
 def run_cases(centerline: Centerline, train: Train, operation: Operation, limits: LimitSet,
               options: RideOptions, cases: list[LoadCase], *, workers: int | None = None,
               scheduler: str | None = None,
-              progress: Callable[[int, int], None] | None = None) -> Sweep:
+              progress: Callable[[int, int], None] | None = None,
+              scheduler_timeout_s: float = 30.0) -> Sweep:
     """Evaluate every case; ``workers`` local processes (default: all cores), or the Dask
-    cluster at ``scheduler`` (``tcp://host:port``)."""
+    cluster at ``scheduler`` (``tcp://host:port``), waiting at most ``scheduler_timeout_s``
+    [s] for it and its first worker."""
     return run_layouts([(centerline, train, operation)], limits, options, cases,
-                       workers=workers, scheduler=scheduler, progress=progress)[0]
+                       workers=workers, scheduler=scheduler, progress=progress,
+                       scheduler_timeout_s=scheduler_timeout_s)[0]
 
 
 def run_layouts(layouts: list[tuple[Centerline, Train, Operation]], limits: LimitSet,
                 options: RideOptions, cases: list[LoadCase], *, workers: int | None = None,
                 scheduler: str | None = None,
-                progress: Callable[[int, int], None] | None = None) -> list[Sweep]:
+                progress: Callable[[int, int], None] | None = None,
+                scheduler_timeout_s: float = 30.0) -> list[Sweep]:
     """Every case of every layout in one pool (layouts and cases run in parallel)."""
     jobs = [(line, train, ops, limits, options, case)
             for line, train, ops in layouts for case in cases]
-    outcomes = _execute(jobs, workers, scheduler, progress)
+    outcomes = _execute(jobs, workers, scheduler, progress, scheduler_timeout_s)
     n = len(cases)
     return [Sweep(tuple(outcomes[i * n:(i + 1) * n]), limits) for i in range(len(layouts))]
 
 
 def _execute(jobs: list, workers: int | None, scheduler: str | None,
-             progress: Callable[[int, int], None] | None) -> list[CaseOutcome]:
+             progress: Callable[[int, int], None] | None,
+             scheduler_timeout_s: float = 30.0) -> list[CaseOutcome]:
     total = len(jobs)
     outcomes: list = [None] * total
     done = 0
@@ -125,13 +134,9 @@ def _execute(jobs: list, workers: int | None, scheduler: str | None,
         try:
             from dask.distributed import Client, as_completed
         except ImportError:
-            raise InputError(None, "--scheduler needs dask.distributed",
+            raise InputError("--scheduler", "needs dask.distributed",
                              "install the extra: pip install -e \".[dask]\"") from None
-        try:
-            client = Client(scheduler, timeout=10)
-        except (OSError, TimeoutError) as exc:
-            raise InputError(None, f"cannot reach the Dask scheduler at {scheduler} ({exc})",
-                             "check the address and that the scheduler runs") from None
+        client = _dask_client(Client, scheduler, scheduler_timeout_s)
         with client:
             futures = client.map(_run_one, jobs, pure=False)
             index = {f.key: i for i, f in enumerate(futures)}
@@ -150,12 +155,35 @@ def _execute(jobs: list, workers: int | None, scheduler: str | None,
     from concurrent.futures import as_completed as first_done
 
     context = multiprocessing.get_context("fork" if sys.platform != "win32" else "spawn")
-    with ProcessPoolExecutor(min(workers, total), mp_context=context) as pool:
+    with ProcessPoolExecutor(min(workers, total), mp_context=context,
+                             initializer=watch_parent, initargs=(os.getpid(),)) as pool:
         futures = {pool.submit(_run_one, job): i for i, job in enumerate(jobs)}
         for fut in first_done(futures):
             outcomes[futures[fut]] = fut.result()
             tick()
     return outcomes
+
+
+def _dask_client(client_class, scheduler: str, timeout_s: float):
+    """A connected Dask client with at least one worker, or a one-line error in time."""
+    shown = shorten(scheduler, 80)
+    hint = "give the scheduler's address as tcp://HOST:PORT and check that it runs"
+    try:
+        client = client_class(scheduler, timeout=timeout_s)
+    except (OSError, TimeoutError) as exc:
+        raise InputError("--scheduler", f"cannot reach the Dask scheduler at {shown} within "
+                         f"{timeout_s:g} s ({shorten(str(exc), 120)})", hint) from None
+    except (ValueError, TypeError) as exc:
+        raise InputError("--scheduler", f"{shown} is not a Dask scheduler address "
+                         f"({shorten(str(exc), 120)})", hint) from None
+    try:
+        client.wait_for_workers(1, timeout=timeout_s)
+    except (OSError, TimeoutError):
+        client.close()
+        raise InputError("--scheduler", f"the Dask scheduler at {shown} has no worker after "
+                         f"{timeout_s:g} s", "start workers for it (dask worker ADDRESS) or "
+                         "raise --scheduler-timeout") from None
+    return client
 
 
 def peak_summary(sweep: Sweep) -> dict:
@@ -177,8 +205,8 @@ def sweep_check_run(sweep: Sweep, centerline: Centerline, train: Train, operatio
 
     by_name = {c.name: c for c in cases}
     wanted: dict[str, set[str]] = {}
-    for f in sweep.governing():
-        wanted.setdefault(f.case, set()).add(f.seat)
+    for event in group_findings(sweep.findings, train.length_m):  # every event's governor
+        wanted.setdefault(event.governing.case, set()).add(event.governing.seat)
     if not wanted and sweep.outcomes:  # all pass: the first case's most stressed seat
         wanted[sweep.outcomes[0].case] = set()
     full = {}

@@ -11,6 +11,7 @@ from collections.abc import Iterable
 from pathlib import Path
 
 from .errors import InputError
+from .paths import read_input_bytes
 
 
 def suggest(name: str, known: Iterable[str]) -> str:
@@ -21,26 +22,20 @@ def suggest(name: str, known: Iterable[str]) -> str:
 
 
 def read_text(path: Path) -> str:
-    """Read a UTF-8 text file; refuse binary and UTF-16 data with a clear message."""
-    try:
-        raw = path.read_bytes()
-    except FileNotFoundError:
-        raise InputError(path, "file not found", "check the path") from None
-    except IsADirectoryError:
-        raise InputError(path, "is a folder, not a file", "give a file path") from None
-    except OSError as exc:
-        raise InputError(path, f"cannot be read ({exc.strerror})", "check permissions") from None
+    """Read a UTF-8 text file; refuse binary and UTF-16 data with a clear message.
+
+    The file must be a regular file no larger than the input cap (:mod:`checker.paths`).
+    """
+    path = Path(path)
+    raw = read_input_bytes(path)
     if raw.startswith((b"\xff\xfe", b"\xfe\xff")) or b"\x00" in raw:
         raise InputError(
             path, "is binary or UTF-16 encoded, not UTF-8 text", "save it as UTF-8 text"
         )
     if raw.startswith(b"\xef\xbb\xbf"):
-        raise InputError(
-            path,
-            "starts with a byte-order mark (BOM)",
-            "save it as UTF-8 without BOM (e.g. 'CSV UTF-8' without signature)",
-            row=1,
-        )
+        example = " (e.g. 'CSV UTF-8' without signature)" if path.suffix.lower() == ".csv" else ""
+        raise InputError(path, "starts with a byte-order mark (BOM)",
+                         f"save it as UTF-8 without BOM{example}", row=1)
     try:
         return raw.decode("utf-8")
     except UnicodeDecodeError as exc:

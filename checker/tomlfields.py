@@ -36,6 +36,9 @@ def load_toml(path: str | Path) -> dict[str, Any]:
         raise InputError(path, problem, "fix the syntax on that line", row=row) from None
 
 
+MAX_TEXT_CHARS = 500  # names and titles; longer text is a pasted file, not a name
+
+
 class Fields:
     """Typed access to one TOML table that rejects unknown keys.
 
@@ -143,6 +146,9 @@ class Fields:
         if not isinstance(value, str):
             raise self.error(name, f"must be text in quotes, not {value!r}",
                              f"write {self.key(name)} = \"...\"")
+        if len(value) > MAX_TEXT_CHARS:
+            raise self.error(name, f"is {len(value)} characters long",
+                             f"keep it under {MAX_TEXT_CHARS} characters")
         if choices is not None:
             options = list(choices)
             if value not in options:

@@ -48,8 +48,9 @@ def test_operations_are_importable_from_the_package():
 def test_stall_fails_the_verdict_everywhere(tmp_path):
     track = hill_track(tmp_path)
     result = checker.check_layout(track, ideal=True, start_speed_m_s=5.0)
-    assert result.stall is not None and "stalls" in result.stall
-    assert result.verdict == "fail"  # a stall fails even with no finding
+    assert result.stall is not None and "cannot crest" in result.stall
+    assert result.verdict == "fail"  # a stall fails the check
+    assert [f.kind for f in result.findings] == ["stall"]  # and nothing else fails here
     out = tmp_path / "hill.json"
     assert main(["check", str(track), "--ideal", "--start-speed", "5", "--json",
                  str(out)]) == 1

@@ -40,6 +40,19 @@ CORPUS = {
     "track_binary.csv": ("track", ["binary"]),
     "track_utf16.csv": ("track", ["UTF-16"]),
     "track_bom.csv": ("track", ["byte-order mark"]),
+    "track_underscore_digits.csv": ("track", ["row 4", "'x'", "not a number"]),
+    "track_fullwidth_digits.csv": ("track", ["row 4", "'x'", "not a number"]),
+    "track_formfeed_comment.csv": ("track", ["row 6", "'y'", "not a number"]),
+    "track_micrometre_spacing.csv": ("track", ["only", "m long", "units"]),
+    "train_long_seat_name.toml": ("train", ["seats[1].name", "600 characters"]),
+    "train_bom.toml": ("train", ["byte-order mark", "without BOM"]),
+    "limits_table_outside.toml": ("limits", ["combined[1]", "outside the limits file's "
+                                             "folder"]),
+    "limits_table_absolute.toml": ("limits", ["combined[1]", "outside the limits file's "
+                                              "folder"]),
+    "limits_level_huge.toml": ("limits", ["duration[1].points", "beyond 20 g"]),
+    "limits_vertices_huge.toml": ("limits", ["combined[1].vertices", "beyond 20 g"]),
+    "limits_corner_tiny.toml": ("limits", ["filter.corner_hz", "at least 0.01"]),
     "train_negative_mass.toml": ("train", ["cars.empty_mass_kg", "greater than zero"]),
     "train_zero_spacing.toml": ("train", ["cars.spacing_m"]),
     "train_unknown_key.toml": ("train", ["riders.mass_kgs", "did you mean 'mass_kg'"]),
@@ -78,8 +91,15 @@ CORPUS = {
     "history_missing_gz.csv": ("history", ["missing required column 'gz'"]),
     "history_few_samples.csv": ("history", ["at least 8"]),
     "history_text_cell.csv": ("history", ["row 7", "'gz'", "high"]),
+    "history_long_seat_name.csv": ("history", ["row 2", "'seat'", "300 characters"]),
     "history_decimal_comma.csv": ("history", ["row 7", "decimal commas"]),
     "history_utf16.csv": ("history", ["UTF-16"]),
+}
+
+# words a message must not contain: no file content echoed, no CSV advice for a TOML file
+NOT_SAID = {
+    "limits_table_outside.toml": ["root", "passwd:", "/bin/"],
+    "train_bom.toml": ["CSV"],
 }
 
 
@@ -129,6 +149,8 @@ def test_bad_input_gives_one_line_and_exit_2(name, tmp_path, capsys):
     for word in words:
         assert word in lines[0], (word, lines[0])
     assert " -- " in lines[0]  # the message says what to do
+    for word in NOT_SAID.get(name, ()):
+        assert word not in err, (word, err)
     assert not fresh.exists()
     kept = tmp_path / "kept.out"
     kept.write_text("previous output\n")

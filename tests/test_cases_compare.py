@@ -153,7 +153,7 @@ def test_sweep_report_shows_governing_case_and_matrix(tmp_path, capsys):
     assert code == 1
     assert "governing seat and case per rule" in printed and "slow-lift" in printed
     text = " ".join(" ".join(p.extract_text() for p in PdfReader(str(pdf)).pages).split())
-    assert "Governing seat and case for each rule" in text
+    assert "Governing seat / case" in text  # each event names its governing seat and case
     assert "Verdict by seat and load case" in text and "warm-fast" in text
     doc = json.loads(pdf.with_suffix(".json").read_text())
     assert set(doc["matrix"]["car1-r1L"]) == {"slow-lift", "warm-fast"}

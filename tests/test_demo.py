@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import importlib.util
 import json
+import re
 import sys
 from pathlib import Path
 
@@ -52,6 +53,48 @@ def test_demo_writes_both_reports_with_expected_verdicts(tmp_path, capsys):
     # every finding of revision A lies at the loop (its entry and exit at the bottom)
     assert all(start - 15 <= f["s_start_m"] <= end + 15 for f in doc_a["findings"])
     assert any(f["rule"] == "duration +Gz" for f in doc_a["findings"])
+    check_events_and_pages(doc_a, out / "thistle_comet_revA.pdf", start, end)
+
+
+def check_events_and_pages(doc: dict, pdf, loop_start: float, loop_end: float) -> None:
+    """Revision A: its findings form a few events at the loop's entry and exit; every
+    finding belongs to exactly one event; the report fits in 15 pages, names the seat on
+    every seat page and keeps every finding in its appendix."""
+    events = {e["id"]: e for e in doc["events"]}
+    # 156 findings from 7 events: onset gz, x-z ellipse and one more each at the entry and
+    # exit, -Gx, +Gz and the y-z envelope at the entry (pinned from this revision's run)
+    assert len(events) == 7
+    assert sum(e["findings"] for e in events.values()) == len(doc["findings"])
+    assert all(f["event"] in events for f in doc["findings"])
+    for e in events.values():
+        members = [f for f in doc["findings"] if f["event"] == e["id"]]
+        assert len(members) == e["findings"] and {f["rule"] for f in members} == {e["rule"]}
+        lo, hi = e["station_range_m"]
+        assert lo <= min(f["s_start_m"] for f in members)
+        near_entry = abs(lo - loop_start) < 15
+        near_exit = abs(hi - loop_end) < 15
+        assert near_entry or near_exit, e
+        assert e["place"].startswith("loop entry" if near_entry else "loop exit")
+        assert e["remedy"] and "not a design" in e["remedy"]["text"]
+    assert min(e["margin"] for e in events.values() if e["unit"] == "g/s") == min(
+        f["margin"] for f in doc["findings"] if f["unit"] == "g/s")  # the worst governs
+    reader = PdfReader(str(pdf))
+    pages = [page.extract_text() for page in reader.pages]
+    assert len(pages) <= 15
+    assert "Overall: FAIL" in pages[0] and "E1" in pages[0] and "g/s" in pages[0]
+    # the running head (top right, extracted just before the footer) names the section;
+    # on every page of a seat's section, the seat
+    heads = [p.splitlines()[-2] for p in pages]
+    seat_pages = [(h, p) for h, p in zip(heads, pages) if h.startswith("Seat ")]
+    assert seat_pages and all(h.split(",")[0] in p.split("\n")[0] or "Seat " not in
+                              p.split("\n")[0] for h, p in seat_pages)
+    governing = {e["governing_seat"] for e in events.values()}
+    assert governing <= {h.split(",")[0][5:] for h, _ in seat_pages}
+    assert len(seat_pages) < len(doc["seats"])  # not a page per seat
+    # the appendix's fixed-width rows ("  12 E3    rule ..."), on whichever pages they fall
+    rows = {int(m.group(1)) for page in pages for m in
+            re.finditer(r"^\s*(\d+) E\d+ ", page, flags=re.M)}
+    assert rows >= set(range(1, len(doc["findings"]) + 1))
 
 
 def test_teardrop_loop_has_lower_peak_gz_than_circular():

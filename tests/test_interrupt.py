@@ -25,18 +25,31 @@ def test_signal_mid_run_leaves_outputs_whole(tmp_path, sig):
             path = out / f"thistle_comet_rev{rev}.{ext}"
             path.write_text(f"previous {rev} {ext}\n")
             previous[path] = path.read_text()
-    proc = subprocess.Popen([sys.executable, "-m", "checker", "demo", "--out", str(out)],
+    proc = subprocess.Popen([sys.executable, "-u", "-m", "checker", "demo", "--out", str(out)],
                             stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
-    time.sleep(4.0)  # imports done, simulation or rendering under way
+    # the first line is printed once the command runs (its signal handlers are in place):
+    # a fixed sleep could land in the interpreter's start-up on a loaded machine
+    first = proc.stdout.readline()
+    assert first.startswith("demo:"), first
+    time.sleep(0.5)  # simulation under way
     assert proc.poll() is None, "the demo finished before it could be interrupted"
     os.kill(proc.pid, sig)
-    _, err = proc.communicate(timeout=120)
-    assert proc.returncode == 130
+    rest, err = proc.communicate(timeout=120)
+    assert proc.returncode == 130, (rest, err)
     assert "interrupted" in err and "Traceback" not in err
+    # the message is true: it names the reports written before the signal, or none
+    line = next(x for x in err.splitlines() if "interrupted" in x)
+    written = [p for p in previous if p.read_bytes() != previous[p].encode()]
+    assert all(str(p) in line for p in written), (line, written)
+    if not written:
+        assert "no output was written or changed" in line
     assert not list(out.glob("*.part")) and not list(out.glob(".*.part"))
     for path, text in previous.items():
         current = path.read_bytes()
         # either untouched, or replaced whole by a finished report (written atomically)
-        assert current == text.encode() or (path.suffix == ".pdf"
-                                            and current.startswith(b"%PDF")
-                                            and current.rstrip().endswith(b"%%EOF"))
+        assert current == text.encode() or (path.suffix == ".json"
+                                            and current.startswith(b"{")) or (
+            current.startswith(b"%PDF") and current.rstrip().endswith(b"%%EOF"))
+    for rev in "AB":  # a report and its sidecar are both new or both old
+        pair = [out / f"thistle_comet_rev{rev}.{ext}" for ext in ("pdf", "json")]
+        assert len({p.read_bytes() == previous[p].encode() for p in pair}) == 1

@@ -80,7 +80,8 @@ def test_five_hundred_findings_all_rendered(tmp_path):
                 float(i) + 0.5, 0.5, 4.5, 4.0, -0.5 - i * 1e-4, float(i)) for i in range(500)])
     out = tmp_path / "many.pdf"
     run.write_pdf(out)
-    rows = [line for line in pdf_lines(out) if "duration +Gz seatA nominal" in line]
+    lines = [" ".join(line.split()) for line in pdf_lines(out)]
+    rows = [line for line in lines if "duration +Gz seatA nominal" in line]
     assert len(rows) == 500
     numbers = sorted(int(line.split()[0]) for line in rows)
     assert numbers == list(range(1, 501))

@@ -9,6 +9,8 @@ import numpy as np
 from .. import __version__
 from ..caution import CAUTION, CAUTION_SHORT
 from ..compare import MATCH_DISTANCE_M, MATCH_FRACTION, ChangeState, Comparison
+from ..documents import margin_text
+from ..terminal import shorten
 from . import figures
 from .document import PAGE_SIZES, _env, _fmt
 from .pdf import ASSET_SCHEME, TemplatesOnlyFetcher, render_pdf
@@ -55,12 +57,12 @@ def comparison_pdf(comparison: Comparison, focus: dict, meta: dict) -> bytes:
                        "limit_levels": np.append(rule.levels_g, rule.levels_g[-1]),
                        "step": rule.interpolation == "step"})
     exposure = asset(figures.exposure_curves(curves, "Exposure curves: new (solid), old "
-                                             "(dashed), limit (red)")) if curves else ""
+                                             "(dotted), limit (black, dashed)")) if curves else ""
     changes = [{"status": c.status, "rule": c.rule, "seat": c.seat, "case": c.case,
                 "old_s": _fmt(c.old.s_worst_m if c.old else None, 1),
                 "new_s": _fmt(c.new.s_worst_m if c.new else None, 1),
-                "old_margin": _fmt(c.old.margin if c.old else None),
-                "new_margin": _fmt(c.new.margin if c.new else None),
+                "old_margin": margin_text(c.old) if c.old else "new",
+                "new_margin": margin_text(c.new) if c.new else "gone",
                 "matched_by": c.matched_by} for c in comparison.changes]
     rows: dict[str, list] = {}
     for p in comparison.peaks:
@@ -112,9 +114,9 @@ def comparison_report_pdf(result) -> bytes:
         "seat": focus.seat, "case": focus.case,
         "old": (focus.old, None, focus.old_ride),
         "new": (focus.new, focus.new_signal, focus.new_ride)}, {
-        "project": result.labels.project, "old_name": result.old_name,
+        "project": shorten(result.labels.project, 200), "old_name": result.old_name,
         "new_name": result.new_name, "limits": result.limits,
         "cases": ", ".join(result.cases),
         "inputs": [(f.path, f.sha256) for f in result.provenance.inputs],
-        "command": result.provenance.call, "page_size": result.labels.page_size,
+        "command": shorten(result.provenance.call, 4000), "page_size": result.labels.page_size,
         "stalls": list(result.new_stalls)})

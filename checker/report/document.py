@@ -14,6 +14,9 @@ import numpy as np
 
 from .. import __version__
 from ..caution import CAUTION, CAUTION_SHORT
+from ..conditioning import onset_rate
+from ..documents import MARGIN_CONVENTION, STATION_NOTE, margin_text, with_unit
+from ..events import Event, event_of_finding, explain_events, group_findings
 from ..limits import AXES, REST, contains
 from ..rules import Evaluation
 from . import figures
@@ -73,6 +76,8 @@ class ReportMeta:
     stall: str | None = None
     date: str = ""
     sweep: object | None = None
+    seat_pages: str = "governing"  # "all", "governing" (and seats that differ) or "none"
+    recorded: bool = False  # a recorded history: measured-data method and caution
 
 
 def _env() -> jinja2.Environment:
@@ -161,7 +166,14 @@ def ride_statistics(ride, evaluation: Evaluation) -> list[tuple[str, str]]:
         longest = max(below)
         stats.append(("Time below 0 g vertical (filtered Gz < 0)",
                       f"{longest[0]:.2f} s at most (seat {longest[1]})"))
-    stats.append(("Seats x load cases checked", str(len(evaluation.seats))))
+    if ride is None:
+        rates = sorted({round(1.0 / float(np.median(np.diff(s.t))), 6) for s in evaluation.seats
+                        if s.t is not None and len(s.t) > 1})
+        if rates:
+            stats.insert(0, ("Sample rate", ", ".join(f"{r:g} Hz" for r in rates)))
+        stats.append(("Seats checked", str(len(evaluation.seats))))
+    else:
+        stats.append(("Seats x load cases checked", str(len(evaluation.seats))))
     return stats
 
 
@@ -195,17 +207,31 @@ def _section_job(args):
     return _seat_section(result, signal, limits, worst)
 
 
-def _render_sections(jobs, signals: dict, limits) -> list[dict]:
-    """Seat figures, on both cores when there are several seats (matplotlib is the cost)."""
-    work = [(s, _lean(signals.get((s.seat, s.case))), limits, worst) for s, worst in jobs]
-    if len(work) < 3:
-        return [_section_job(w) for w in work]
+def _call(job):
+    function, args = job
+    return function(*args)
+
+
+def _run_figure_jobs(jobs: list) -> list:
+    """Run (function, args) figure jobs, on every core when there are several
+    (matplotlib is the cost); results in order."""
+    workers = min(len(jobs), os.cpu_count() or 1)
+    if workers < 2:
+        return [_call(j) for j in jobs]
     import multiprocessing
     from concurrent.futures import ProcessPoolExecutor
 
-    workers = min(len(work), max(1, (os.cpu_count() or 1)))
-    with ProcessPoolExecutor(workers, mp_context=multiprocessing.get_context("fork")) as pool:
-        return list(pool.map(_section_job, work, chunksize=max(1, len(work) // (4 * workers))))
+    from ..parentwatch import watch_parent
+
+    with ProcessPoolExecutor(workers, mp_context=multiprocessing.get_context("fork"),
+                             initializer=watch_parent, initargs=(os.getpid(),)) as pool:
+        return list(pool.map(_call, jobs))
+
+
+def _render_sections(jobs, signals: dict, limits) -> list[dict]:
+    """Seat figures (see :func:`_run_figure_jobs`)."""
+    return _run_figure_jobs([(_seat_section, (s, _lean(signals.get((s.seat, s.case))),
+                                              limits, worst)) for s, worst in jobs])
 
 
 @dataclass
@@ -224,45 +250,147 @@ def _sweep_context(sweep) -> dict | None:
     seats, cases, cells = sweep.matrix()
     return {
         "cases": [{"n": i + 1, "name": o.case, "findings": len(o.evaluation.findings),
-                   "verdict": o.verdict,
+                   "verdict": ("stall" if o.stall else o.verdict),
                    "stall": o.stall or "", "top": f"{o.top_speed_m_s:.2f}"}
                   for i, o in enumerate(sweep.outcomes)],
         "matrix": [{"seat": s, "cells": [cells[(s, c)] for c in cases]} for s in seats],
-        "governing": [{"rule": f.rule, "seat": f.seat, "case": f.case, "peak": _fmt(f.peak_g),
-                       "limit": _fmt(f.limit_g), "margin": _fmt(f.margin),
-                       "station": _fmt(f.s_start_m, 1)} for f in sweep.governing()],
     }
 
 
-def build_html(evaluation: Evaluation, signals: dict, ride,
-               meta: ReportMeta) -> tuple[str, dict[str, str]]:
+SEAT_PAGE_MODES = ("all", "governing", "none")
+
+
+def finding_lines(findings, ids: list[str], recorded: bool = False) -> list[str]:
+    """The appendix table of every finding as fixed-width text lines, header first (one
+    text line per finding lays out far faster than a table of cells)."""
+    head = (f"{'#':>4} {'event':<5} {'rule':<22} {'seat':<12} "
+            + ("" if recorded else f"{'case':<16} ")
+            + f"{'start [s]':>9} " + ("" if recorded else f"{'station [m]':>11} ")
+            + f"{'dur. [s]':>8} {'peak':>10} {'limit':>10} {'margin':>10}")
+    lines = [head]
+    for i, f in enumerate(findings):
+        peak = "0 m/s" if f.kind == "stall" else with_unit(f.peak_g, f.peak_unit)
+        limit = "-" if f.kind == "stall" else with_unit(f.limit_g, f.peak_unit)
+        lines.append(
+            f"{i + 1:>4} {ids[i]:<5} {f.rule[:22]:<22} {f.seat[:12]:<12} "
+            + ("" if recorded else f"{f.case[:16]:<16} ")
+            + f"{f.t_start:>9.2f} " + ("" if recorded else f"{_fmt(f.s_worst_m, 1):>11} ")
+            + f"{f.duration_s:>8.3f} {peak:>10} {limit:>10} {margin_text(f):>10}")
+    return lines
+
+
+def seats_to_show(events: list[Event], evaluation: Evaluation, mode: str) -> list:
+    """Seat results that get a page of figures.
+
+    ``governing`` (the default): the governing seat of each event, then each other seat
+    whose set of events is not contained in that of a seat already shown (its findings
+    differ). ``all``: every seat with a finding. ``none``: no seat page. Without any finding,
+    the most stressed seat, so that a passing report still shows its signals.
+    """
+    if mode == "none":
+        return []
+    drawable = [s for s in evaluation.seats if s.filtered is not None]
+    if not events:
+        if not drawable:
+            return []
+        return [max(drawable, key=lambda s: max(abs(s.worst[a][k] - REST[a])
+                                                 for a in AXES for k in (0, 1)))]
+    with_findings = [s for s in drawable if s.findings]
+    if mode == "all":
+        return with_findings
+    ids = event_of_finding(events, len(evaluation.findings))
+    signature: dict[tuple, set] = {}
+    for f, event_id in zip(evaluation.findings, ids):
+        signature.setdefault((f.seat, f.case), set()).add(event_id)
+    index = {(s.seat, s.case): s for s in with_findings}
+    chosen: list = []
+    for e in events:
+        seat = index.get((e.governing.seat, e.governing.case))
+        if seat is not None and seat not in chosen:
+            chosen.append(seat)
+    shown = [signature.get((c.seat, c.case), set()) for c in chosen]
+    for s in with_findings:
+        sig = signature.get((s.seat, s.case), set())
+        if s not in chosen and not any(sig <= other for other in shown):
+            chosen.append(s)
+            shown.append(sig)
+    return chosen
+
+
+def _event_context(event: Event, evaluation: Evaluation, signals: dict, seat_count: int,
+                   case_count: int) -> dict:
+    g = event.governing
+    if event.kind == "stall":
+        where = f"{event.where} (lead car)"
+    else:
+        where = event.where
+    return {
+        "id": event.id, "rule": event.rule, "kind": event.kind, "where": where,
+        "place": event.place, "seats": f"{len(event.seats)} of {seat_count}",
+        "cases": f"{len(event.cases)} of {case_count}",
+        "case_names": ", ".join(event.cases),
+        "margin": margin_text(event),
+        "peak": "speed 0 m/s" if event.kind == "stall" else with_unit(g.peak_g, g.peak_unit),
+        "limit": "-" if event.kind == "stall" else with_unit(g.limit_g, g.peak_unit),
+        "governing": f"{g.seat} / {g.case}", "findings": len(event.members),
+        "t": f"{event.t_start:.2f}-{event.t_end:.2f} s",
+        "s_worst": _fmt(g.s_worst_m, 1), "s_motion": _fmt(g.s_motion_m, 1),
+        "s_start": _fmt(g.s_start_m, 1),
+        "delay": f"{g.group_delay_s:.3f}",
+        "remedy": event.remedy.text if event.remedy is not None else (
+            "no computed remedy: recorded data carry no geometry" if event.s_start_m is None
+            else "no computed remedy for this rule"),
+        "message": g.detail, "attitude": g.attitude,
+        "window": "",
+    }
+
+
+def _event_figure_job(event: Event, evaluation: Evaluation, signals: dict):
+    """(function, args) drawing the zoomed time window (and dG/dt for onset) of the
+    event's governing seat, or None when there is nothing to draw."""
+    g = event.governing
+    if event.kind == "stall":
+        return None
+    seat = next((s for s in evaluation.seats if (s.seat, s.case) == (g.seat, g.case)
+                 and s.filtered is not None), None)
+    if seat is None:
+        return None
+    raw_signal = signals.get((g.seat, g.case))
+    raw = np.asarray(raw_signal.g) if raw_signal is not None else None
+    axes = [AXES.index(a) for a in g.axis.split("+") if a in AXES]
+    span = (g.t_start, g.t_end)
+    title = f"{event.id} {event.rule}: seat {g.seat}, case {g.case}"
+    limits = [(f"limit {g.limit_g:.2f} g for {g.duration_s:.2f} s", g.limit_g)] \
+        if event.kind == "duration" else []
+    onset = None
+    if event.kind == "onset" and axes:
+        onset = (onset_rate(seat.filtered[:, axes[0]], seat.t), abs(g.limit_g))
+    window = (seat.t >= span[0] - 2.0) & (seat.t <= span[1] + 2.0)  # only what is drawn
+    if onset is not None:
+        onset = (onset[0][window], onset[1])
+    return (figures.event_window, (seat.t[window], seat.filtered[window],
+                                   None if raw is None else raw[window], axes, span, limits,
+                                   title, 1.5, onset))
+
+
+def build_html(evaluation: Evaluation, signals: dict, ride, meta: ReportMeta,
+               events: list[Event] | None = None) -> tuple[str, dict[str, str]]:
     """The whole report as HTML with inline CSS, and its SVG figures by asset name.
 
     signals: {(seat, case): object with raw ``g``, optional ``s``} for the raw traces.
     ride: a ride result with ``geometry`` and ``motion`` for the layout views, or None.
+    events: the run's events (grouped here from the findings when not given).
     """
     env = _env()
     limits = evaluation.limits
     findings = evaluation.findings
-    counts: dict[str, int] = {}
-    for f in findings:
-        counts[f.kind] = counts.get(f.kind, 0) + 1
+    if events is None:
+        events = explain_events(group_findings(findings))
+    seat_names = sorted({s.seat for s in evaluation.seats})
+    case_names = sorted({s.case for s in evaluation.seats})
     seat_rows = [{"seat": s.seat, "case": s.case, "count": len(s.findings),
-                  "verdict": s.verdict} for s in evaluation.seats]
-    worst_seat = None
-    if findings:
-        top = findings[0]
-        worst_seat = next(s for s in evaluation.seats if (s.seat, s.case) == (top.seat,
-                                                                               top.case))
-    elif evaluation.seats:
-        worst_seat = max(evaluation.seats, key=lambda s: max(
-            abs(s.worst[a][k] - REST[a]) for a in AXES for k in (0, 1)))
-    jobs = []
-    if worst_seat is not None and worst_seat.filtered is not None:
-        jobs.append((worst_seat, True))
-    jobs += [(s, False) for s in evaluation.seats
-             if s.findings and s is not worst_seat and s.filtered is not None]
-    sections = _render_sections(jobs, signals, limits)
+                  "verdict": ("stall" if any(f.kind == "stall" for f in s.findings)
+                              else s.verdict)} for s in evaluation.seats]
     assets: dict[str, str] = {}
 
     def asset(svg: str) -> str:
@@ -272,33 +400,60 @@ def build_html(evaluation: Evaluation, signals: dict, ride,
         assets[name] = svg
         return f"{ASSET_SCHEME}:{name}"
 
+    event_rows = [_event_context(e, evaluation, signals, len(seat_names), len(case_names))
+                  for e in events]
+    event_jobs = [_event_figure_job(e, evaluation, signals) for e in events]
+    chosen = seats_to_show(events, evaluation, meta.seat_pages)
+    governs: dict[tuple, list[str]] = {}
+    for e in events:
+        governs.setdefault((e.governing.seat, e.governing.case), []).append(e.id)
+    jobs = [(_seat_section, (s, _lean(signals.get((s.seat, s.case))), limits, False))
+            for s in chosen]
+    if ride is not None:
+        geo = ride.geometry
+        jobs.append((figures.layout_views, (
+            geo.position, geo.s, [(e.governing.s_worst_m, e.rule) for e in events
+                                  if e.governing.s_worst_m is not None],
+            50 if geo.length < 800 else 100, "", (ride.motion.s, ride.motion.v),
+            geo.roll_deg)))
+    jobs += [j for j in event_jobs if j is not None]
+    drawn = _run_figure_jobs(jobs)  # every figure, on every core
+    sections = drawn[:len(chosen)]
+    layout_drawn = drawn[len(chosen)] if ride is not None else ""
+    windows = iter(drawn[len(chosen) + (ride is not None):])
+    for row, job in zip(event_rows, event_jobs):
+        row["window"] = asset(next(windows)) if job is not None else ""
     for section in sections:
         for key in ("histories", "exposure", "combined"):
             section[key] = asset(section[key])
-    layout_svg = ""
-    station_every = 100
-    if ride is not None:
-        geo = ride.geometry
-        station_every = 50 if geo.length < 800 else 100
-        marks = [(f.s_worst_m, f.rule) for f in findings if f.s_worst_m is not None]
-        layout_svg = asset(figures.layout_views(geo.position, geo.s, marks, station_every))
-    rows = [{"rule": f.rule, "seat": f.seat, "case": f.case, "t_start": _fmt(f.t_start),
-             "station": _fmt(f.s_start_m, 1), "duration": _fmt(f.duration_s, 3),
-             "peak": _fmt(f.peak_g), "limit": _fmt(f.limit_g),
-             "margin": (f"{100 * f.margin:.1f} %" if f.kind == "combined" else _fmt(f.margin))}
-            for f in findings]
+        section["governs"] = ", ".join(governs.get((section["seat"], section["case"]), []))
+    layout_svg = asset(layout_drawn)
+    station_every = 50 if ride is not None and ride.geometry.length < 800 else 100
+    ids = event_of_finding(events, len(findings))
+    rows = finding_lines(findings, ids, recorded=meta.recorded)
+    delays = [f.group_delay_s for f in findings if f.kind != "stall"]
     css = env.get_template("report.css").render(
         page_size=PAGE_SIZES[meta.page_size],
         footer_left=f"checker: {CAUTION_SHORT}")
+    stall_messages = []
+    for e in events:
+        if e.kind == "stall":
+            stall_messages.append(f"{e.id}, case{'s' if len(e.cases) > 1 else ''} "
+                                  f"{', '.join(e.cases)}: "
+                                  + e.governing.detail.split("; this seat")[0])
     return env.get_template("report.html.j2").render(
         title=f"Self-check {meta.layout}", css=css, project=meta.project, layout=meta.layout,
         revision=meta.revision, date=meta.date or _dt.date.today().isoformat(),
         version=__version__, limits=_limits_context(limits), caution=CAUTION,
         caution_short=CAUTION_SHORT,
-        verdict=evaluation.verdict, findings=rows, counts=sorted(counts.items()),
+        verdict=evaluation.verdict, events=event_rows, findings=rows,
+        finding_count=len(findings), seat_count=len(seat_names), case_count=len(case_names),
         seat_rows=seat_rows, review_items=list(evaluation.warnings),
         stats=ride_statistics(ride, evaluation), worst=_worst_rows(evaluation, signals),
         layout_svg=layout_svg, station_every=station_every, seat_sections=sections,
-        method=list(meta.method), parameters=list(meta.parameters), inputs=[
-            {"file": f, "sha256": h} for f, h in meta.inputs], command=meta.command,
-        stall=meta.stall, sweep=_sweep_context(meta.sweep)), assets
+        seat_pages=meta.seat_pages, method=list(meta.method), parameters=list(meta.parameters),
+        inputs=[{"file": f, "sha256": h} for f, h in meta.inputs], command=meta.command,
+        stalls=stall_messages, sweep=_sweep_context(meta.sweep), recorded=meta.recorded,
+        margin_convention=MARGIN_CONVENTION, station_note=STATION_NOTE,
+        group_delay=f"{max(delays):.3f}" if delays else None,
+        filter=limits.filter.describe()), assets

@@ -20,9 +20,13 @@ plt.rcParams.update({
     "svg.fonttype": "none", "font.family": "DejaVu Sans", "font.size": 8,
     "axes.titlesize": 9, "axes.labelsize": 8, "legend.fontsize": 7, "axes.grid": True,
     "grid.alpha": 0.3, "svg.hashsalt": "checker",  # deterministic element ids
+    "text.parse_math": False,  # '$' in a seat, case or file name is text, never math markup
 })
-AXIS_COLORS = {"gx": "#1f5fa8", "gy": "#2a8a3e", "gz": "#b0301f"}
+AXIS_COLORS = {"gx": "#1f5fa8", "gy": "#2a8a3e", "gz": "#6a3d9a"}
+DIRECTION_COLORS = ("#1f5fa8", "#e08a00")  # exposure curves: first and second direction
 FINDING_COLOR = "#d11a1a"
+LIMIT_COLOR = "#111111"  # limit lines: black, dashed; never the colour of a signal
+NEUTRAL = {"gx": 0.0, "gy": 0.0, "gz": 1.0}  # the level of a rider at rest [g]
 WIDTH_IN = 6.7  # fits A4 and US Letter with 2 cm margins
 LOG_TICKS = [0.01, 0.1, 1.0, 10.0, 100.0]
 
@@ -44,7 +48,7 @@ def _svg(fig) -> str:
     return text[text.index("<svg"):]
 
 
-def envelope_decimate(x: np.ndarray, y: np.ndarray, bins: int = 400):
+def envelope_decimate(x: np.ndarray, y: np.ndarray, bins: int = 300):
     """Keep the minimum and maximum of y in each of ``bins`` equal slices (peaks survive)."""
     n = len(x)
     if n <= 2 * bins:
@@ -73,13 +77,37 @@ def path_decimate(points: np.ndarray, tolerance: float) -> np.ndarray:
 
 
 def layout_views(position: np.ndarray, s: np.ndarray, marks: list[tuple[float, str]],
-                 station_every_m: float = 100.0, title: str = "") -> str:
-    """Plan (x-y) and elevation (station-z) views with station ticks and finding marks.
+                 station_every_m: float = 100.0, title: str = "",
+                 speed: tuple[np.ndarray, np.ndarray] | None = None,
+                 bank_deg: np.ndarray | None = None) -> str:
+    """Plan (x-y) and elevation (station-z) views with station ticks and finding marks, and
+    (when given) speed and bank against station, so a reader can see the input was
+    understood.
 
-    marks: (station [m], label) of each exceedance location.
+    marks: (station [m], label) of each exceedance location; speed: (lead car station [m],
+    speed [m/s]); bank_deg: roll against the level reference at each station of ``s``.
     """
-    fig, (plan, elev) = plt.subplots(2, 1, figsize=(WIDTH_IN, 6.4),
-                                     gridspec_kw={"height_ratios": [3, 1.4]})
+    extra = (speed is not None) + (bank_deg is not None)
+    ratios = [3, 1.4] + [1.0] * extra
+    fig, panels = plt.subplots(2 + extra, 1, figsize=(WIDTH_IN, 5.6 + 1.3 * extra),
+                               gridspec_kw={"height_ratios": ratios})
+    plan, elev = panels[0], panels[1]
+    rest = list(panels[2:])
+    if speed is not None:
+        ax = rest.pop(0)
+        ax.plot(*speed, color="#1f5fa8", lw=1.0, label="speed (lead car)")
+        ax.set_ylabel("speed [m/s]")
+        ax.set_title("Speed against station")
+        ax.set_xlim(0.0, s[-1])
+        ax.legend(loc="best", fontsize=6)
+    if bank_deg is not None:
+        ax = rest.pop(0)
+        ax.plot(s, bank_deg, color="#2a8a3e", lw=1.0, label="bank (roll, right side down +)")
+        ax.set_ylabel("bank [deg]")
+        ax.set_xlabel("station along the track [m]")
+        ax.set_title("Bank against station")
+        ax.set_xlim(0.0, s[-1])
+        ax.legend(loc="best", fontsize=6)
     plan.plot(position[:, 0], position[:, 1], color="#333333", lw=1.0)
     plan.set_aspect("equal", adjustable="datalim")
     plan.set_xlabel("x [m]")
@@ -108,6 +136,8 @@ def layout_views(position: np.ndarray, s: np.ndarray, marks: list[tuple[float, s
                   label="exceedance")
         elev.plot(ms, position[mi, 2], "x", color=FINDING_COLOR, ms=7, mew=1.6)
         plan.legend(loc="best")
+        elev.legend(["track", "exceedance"], loc="best", fontsize=6)
+    elev.set_xlim(0.0, s[-1])
     fig.tight_layout()
     return _svg(fig)
 
@@ -135,7 +165,7 @@ def time_histories(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
     spans: (t_start, t_end, axis) of each finding; overlay: (t, filtered, label) of a second
     signal drawn dashed (for comparisons).
     """
-    fig, axes = plt.subplots(3, 1, figsize=(WIDTH_IN, 6.0), sharex=True)
+    fig, axes = plt.subplots(3, 1, figsize=(WIDTH_IN, 3.8), sharex=True)
     for i, (ax, axis) in enumerate(zip(axes, ("gx", "gy", "gz"))):
         if raw is not None:
             ax.plot(*envelope_decimate(t, raw[:, i]), color="#bbbbbb", lw=0.6, label="raw")
@@ -148,49 +178,104 @@ def time_histories(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
             if which == axis or axis in which.split("+"):
                 ax.axvspan(a, b, color=FINDING_COLOR, alpha=0.18, lw=0)
         ax.set_ylabel(f"{axis.capitalize()} [g]")
+        ax.legend(loc="upper right", ncol=3, fontsize=6)
     axes[0].set_title(title)
-    axes[0].legend(loc="upper right", ncol=3)
     axes[-1].set_xlabel("time [s]")
-    fig.subplots_adjust(left=0.09, right=0.98, top=0.95, bottom=0.07, hspace=0.12)
+    fig.subplots_adjust(left=0.09, right=0.98, top=0.94, bottom=0.09, hspace=0.12)
     return _svg(fig)
 
 
 def exposure_curves(curves: list[dict], title: str) -> str:
     """Exposure curves (highest level sustained for at least a duration) against limits,
-    one panel per axis with both directions.
+    one panel per axis with both directions, each curve drawn only on its own side of the
+    rider-at-rest level (Gz +1, Gx and Gy 0), a legend in every panel.
 
     Each dict: name, axis, durations [s], levels [g], limit_durations [s], limit_levels [g],
     and optionally overlay_durations, overlay_levels with overlay_label.
     """
     axes_names = [a for a in ("gx", "gy", "gz") if any(c["axis"] == a for c in curves)]
-    fig, axes = plt.subplots(1, max(len(axes_names), 1), figsize=(WIDTH_IN, 2.6),
+    fig, axes = plt.subplots(1, max(len(axes_names), 1), figsize=(WIDTH_IN, 2.3),
                              squeeze=False)
-    for panel, (ax, axis) in enumerate(zip(axes.flat, axes_names)):
+    for ax, axis in zip(axes.flat, axes_names):
         _log_duration_axis(ax)
         longest = 1.0
+        neutral = NEUTRAL[axis]
         for n, c in enumerate(c for c in curves if c["axis"] == axis):
-            first = panel == 0 and n == 0
+            colour = DIRECTION_COLORS[n % 2]
             d, lv = c["durations"], c["levels"]
             keep = np.unique(np.geomspace(1, len(d), min(len(d), 160)).astype(int) - 1)
-            ax.plot(d[keep], lv[keep], color=AXIS_COLORS[axis], lw=1.0,
-                    label="ride" if first else None)
+            side = np.sign(np.nanmedian(c["limit_levels"]) - neutral) or 1.0
+            shown = _own_side(lv[keep], neutral, side)
+            ax.plot(d[keep], shown, color=colour, lw=1.2, label=f"{c['name']}")
             if c.get("overlay_levels") is not None:
                 od, ol = c["overlay_durations"], c["overlay_levels"]
                 k2 = np.unique(np.geomspace(1, len(od), min(len(od), 160)).astype(int) - 1)
-                ax.plot(od[k2], ol[k2], color="#222222", lw=0.9, ls="--",
-                        label=c.get("overlay_label") if first else None)
+                ax.plot(od[k2], _own_side(ol[k2], neutral, side), color=colour, lw=0.9,
+                        ls=":", label=f"{c.get('overlay_label')}: {c['name']}")
             lim_d = np.asarray(c["limit_durations"], dtype=float)
-            ax.plot(np.maximum(lim_d, d[0]), c["limit_levels"], color=FINDING_COLOR, lw=1.2,
-                    drawstyle="steps-post" if c.get("step") else "default",
-                    label="limit" if first else None)
+            ax.plot(np.maximum(lim_d, d[0]), c["limit_levels"], color=LIMIT_COLOR, lw=1.0,
+                    ls="--", drawstyle="steps-post" if c.get("step") else "default",
+                    label="limit" if n == 0 else None)
             longest = max(longest, d[-1], lim_d[-1])
+        ax.axhline(neutral, color="#888888", lw=0.6)
         ax.set_xlim(curves[0]["durations"][0], longest)
-        ax.set_title(" / ".join(c["name"] for c in curves if c["axis"] == axis))
+        ax.set_title(f"{axis.capitalize()}")
         ax.set_xlabel("duration [s]")
         ax.set_ylabel(f"{axis.capitalize()} level [g]")
-    axes.flat[0].legend(loc="best")
+        ax.legend(loc="best", fontsize=6)
     fig.suptitle(title, fontsize=9)
-    fig.subplots_adjust(left=0.08, right=0.98, top=0.82, bottom=0.17, wspace=0.35)
+    fig.subplots_adjust(left=0.08, right=0.98, top=0.82, bottom=0.19, wspace=0.35)
+    return _svg(fig)
+
+
+def _own_side(levels: np.ndarray, neutral: float, side: float) -> np.ndarray:
+    """The levels on the limit's side of neutral; beyond it NaN (the curve ends there)."""
+    out = np.asarray(levels, dtype=float).copy()
+    out[(out - neutral) * side < 0] = np.nan
+    return out
+
+
+def event_window(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
+                 axes: list[int], span: tuple[float, float], limits: list[tuple[str, float]],
+                 title: str, pad_s: float = 1.5,
+                 onset: tuple[np.ndarray, float] | None = None) -> str:
+    """A few seconds around an event: the filtered (and raw) signal of its axes, the
+    event's time span shaded and each limit drawn as a dashed line; with ``onset`` = (rate
+    [g/s], limit [g/s]) a second panel shows dG/dt of the filtered signal against +-limit.
+
+    axes: column indices (0 gx, 1 gy, 2 gz); limits: (label, level [g]) lines.
+    """
+    names = ("gx", "gy", "gz")
+    a, b = span
+    window = (t >= a - pad_s) & (t <= b + pad_s)
+    rows = 2 if onset is not None else 1
+    fig, panels = plt.subplots(rows, 1, figsize=(WIDTH_IN, 1.55 + 1.2 * (rows - 1)),
+                               sharex=True, squeeze=False)
+    ax = panels[0, 0]
+    for i in axes:
+        if raw is not None:
+            ax.plot(t[window], raw[window, i], color="#bbbbbb", lw=0.6,
+                    label=f"{names[i].capitalize()} raw")
+        ax.plot(t[window], filtered[window, i], color=AXIS_COLORS[names[i]], lw=1.1,
+                label=f"{names[i].capitalize()} filtered")
+    for label, level in limits:
+        ax.axhline(level, color=LIMIT_COLOR, ls="--", lw=1.0, label=label)
+    ax.axvspan(a, b, color=FINDING_COLOR, alpha=0.12, lw=0, label="exceedance")
+    ax.set_ylabel("[g]")
+    ax.set_title(title)
+    ax.legend(loc="best", fontsize=6, ncol=3)
+    if onset is not None:
+        rate, limit = onset
+        ax2 = panels[1, 0]
+        ax2.plot(t[window], rate[window], color="#1f5fa8", lw=1.1, label="dG/dt (filtered)")
+        ax2.axhline(limit, color=LIMIT_COLOR, ls="--", lw=1.0, label=f"limit +-{limit:g} g/s")
+        ax2.axhline(-limit, color=LIMIT_COLOR, ls="--", lw=1.0)
+        ax2.axvspan(a, b, color=FINDING_COLOR, alpha=0.12, lw=0, label="exceedance")
+        ax2.set_ylabel("[g/s]")
+        ax2.legend(loc="best", fontsize=6, ncol=3)
+    panels[-1, 0].set_xlabel("time [s]")
+    fig.subplots_adjust(left=0.09, right=0.98, top=0.88 if rows == 2 else 0.85,
+                        bottom=0.14 if rows == 2 else 0.26, hspace=0.12)
     return _svg(fig)
 
 
@@ -200,10 +285,10 @@ def combined_scatter(panels: list[dict], title: str) -> str:
     Each dict: name, axes (a, b), points (n, 2) [g], vertices (m, 2) [g], outside (n,) bool.
     """
     n = len(panels)
-    fig, axes = plt.subplots(1, max(n, 1), figsize=(WIDTH_IN, 3.0), squeeze=False)
+    fig, axes = plt.subplots(1, max(n, 1), figsize=(WIDTH_IN, 2.2), squeeze=False)
     for ax, p in zip(axes.flat, panels):
         pts = p["points"]
-        path = pts[path_decimate(pts, 0.02)]
+        path = pts[path_decimate(pts, 0.04)]
         # the trajectory as one path (one SVG node), not thousands of markers
         ax.plot(path[:, 0], path[:, 1], lw=0.5, color="#1f5fa8", alpha=0.7)
         out = p["outside"]

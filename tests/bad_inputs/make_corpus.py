@@ -49,6 +49,13 @@ TEXT = {
     "track_partial_up.csv": "x,y,z,up_x,up_y\n" + "".join(f"{x},0,0,0,0\n" for x in range(6)),
     "track_short_row.csv": "x,y,z\n0,0,0\n2,0\n4,0,0\n6,0,0\n",
     "track_shorter_than_train.csv": "x,y,z\n0,0,0\n1,0,0\n2,0,0\n3,0,0\n",
+    "track_underscore_digits.csv": "x,y,z\n0,0,0\n2,0,0\n1_000,0,0\n6,0,0\n",
+    "track_fullwidth_digits.csv": "x,y,z\n0,0,0\n2,0,0\n\uff14,0,0\n6,0,0\n",
+    # a form feed and a line separator inside comments: the bad cell is still on line 6
+    "track_formfeed_comment.csv": "# exported\x0cpage two\n# note\u2028more\nx,y,z\n0,0,0\n"
+                                  "2,0,0\n4,zero,0\n6,0,0\n",
+    "track_micrometre_spacing.csv": "x,y,z\n" + "".join(f"{i * 2e-6:.6f},0,0\n"
+                                                         for i in range(100)),
     # trains
     "train_negative_mass.toml": TRAIN.replace("empty_mass_kg = 450", "empty_mass_kg = -450"),
     "train_zero_spacing.toml": TRAIN.replace("spacing_m = 2.5", "spacing_m = 0"),
@@ -59,6 +66,7 @@ TEXT = {
     "train_duplicate_seat.toml": TRAIN + '[[seats]]\nname = "a"\n',
     "train_huge_mass.toml": TRAIN.replace("empty_mass_kg = 450", "empty_mass_kg = 1e30"),
     "train_occupancy_above_one.toml": TRAIN + "[riders]\noccupancy = 1.2\n",
+    "train_long_seat_name.toml": TRAIN.replace('name = "a"', 'name = "' + "a" * 600 + '"'),
     # operation
     "ops_overlapping.toml": ('[[sections]]\nkind = "lift"\nstart_m = 10\nend_m = 60\n'
                              'speed_m_s = 3\n[[sections]]\nkind = "brake"\nstart_m = 50\n'
@@ -90,6 +98,15 @@ TEXT = {
     "limits_table_missing_column.toml": LIMITS_HEAD + '[[combined]]\naxes = ["gy", "gz"]\n'
                                         'table = "limits_table_missing_column.csv"\n',
     "limits_table_missing_column.csv": "gy,gx\n-1,-1\n1,-1\n1,4\n-1,4\n",
+    "limits_table_outside.toml": LIMITS_HEAD + '[[combined]]\naxes = ["gy", "gz"]\n'
+                                 'table = "../../../../../../../../etc/passwd"\n',
+    "limits_table_absolute.toml": LIMITS_HEAD + '[[combined]]\naxes = ["gy", "gz"]\n'
+                                  'table = "/etc/hostname"\n',
+    "limits_level_huge.toml": LIMITS_HEAD + GZ.replace("[0.0, 5.0]", "[0.0, 1e300]"),
+    "limits_vertices_huge.toml": LIMITS_HEAD + '[[combined]]\naxes = ["gy", "gz"]\n'
+                                 'vertices = [[-1e300, -1e300], [1e300, -1e300], '
+                                 '[1e300, 1e300], [-1e300, 1e300]]\n',
+    "limits_corner_tiny.toml": LIMITS_HEAD + "[filter]\ncorner_hz = 1e-9\n" + GZ,
     # load cases
     "cases_bad_occupancy.toml": '[[case]]\nname = "x"\noccupancy = "most"\n',
     "cases_unknown_key.toml": '[[case]]\nname = "x"\nhead_wind = 5\n',
@@ -104,6 +121,8 @@ TEXT = {
     "history_few_samples.csv": history([0, 0.01, 0.02]),
     "history_text_cell.csv": history([i / 100 for i in range(20)]).replace("0.050,0,0,1",
                                                                            "0.050,0,0,high"),
+    "history_long_seat_name.csv": "seat,t,gx,gy,gz\n" + "".join(
+        f"{'s' * 300},{i / 100:.2f},0,0,1\n" for i in range(20)),
     "history_decimal_comma.csv": history([i / 100 for i in range(20)]).replace(
         "0.050,0,0,1", "0,050,0,0,1"),
 }
@@ -113,6 +132,7 @@ BINARY = {
     "track_utf16.csv": ("x,y,z\n" + ROWS).encode("utf-16"),
     "track_bom.csv": b"\xef\xbb\xbf" + ("x,y,z\n" + ROWS).encode(),
     "train_binary.toml": b"\x00\x01\x02PK\x03\x04" * 20,
+    "train_bom.toml": b"\xef\xbb\xbf" + TRAIN.encode(),
     "limits_latin1.toml": (LIMITS_HEAD.replace("bad", "caf\xe9") + GZ).encode("latin-1"),
     "history_utf16.csv": history([i / 100 for i in range(20)]).encode("utf-16"),
 }

@@ -1,0 +1,104 @@
+"""Ranges of the numeric options and the memory a run may take.
+
+Every numeric command-line option is read through :func:`number_option`, which refuses a
+value outside a stated range with a hint (``--rate inf``, ``--workers -3``). The ranges are
+wide: they keep out values no ride needs and that would break the numerics, they do not judge
+a design.
+
+:func:`check_memory` compares the estimated memory of the per-seat histories of a ride with a
+cap: :data:`DEFAULT_MEMORY_FRACTION` of the machine's memory, or ``CHECKER_MAX_MEMORY_MB``.
+"""
+
+from __future__ import annotations
+
+import argparse
+import math
+import os
+from collections.abc import Callable
+
+from .errors import InputError
+
+RATE_HZ = (10.0, 5000.0)  # output sample rate [Hz]
+START_SPEED_M_S = (0.0, 150.0)  # faster than any train runs (common practice, rough)
+SMOOTHING_M = (0.0, 10.0)  # RMS tolerance of the smoothing spline [m]
+WORKERS = (1, 512)
+SCHEDULER_TIMEOUT_S = (1.0, 3600.0)
+MIN_TRACK_M = 1.0  # shorter than this is a unit mistake, not a ride
+
+MEMORY_ENV = "CHECKER_MAX_MEMORY_MB"
+DEFAULT_MEMORY_FRACTION = 0.5
+BYTES_PER_SEAT_SAMPLE = 256  # histories, filtered signals, exposure curves and tables
+BYTES_PER_CAR_SAMPLE = 200  # station, speed and rider frame sampled for every car
+
+
+def number_option(low: float, high: float, unit: str = "", hint: str = "",
+                  integer: bool = False) -> Callable[[str], float]:
+    """An argparse type: a finite number (whole if ``integer``) from ``low`` to ``high``."""
+    kind = "a whole number" if integer else "a number"
+
+    def parse(text: str) -> float:
+        try:
+            value = int(text) if integer else float(text)
+        except ValueError:
+            raise argparse.ArgumentTypeError(f"'{text[:40]}' is not {kind}") from None
+        if not (math.isfinite(value) and low <= value <= high):
+            extra = f"; {hint}" if hint else ""
+            raise argparse.ArgumentTypeError(
+                f"{text[:40]} is outside {low:g} to {high:g}{unit}{extra}")
+        return value
+
+    return parse
+
+
+def name_option(max_chars: int = 200) -> Callable[[str], str]:
+    """An argparse type: a name of at most ``max_chars`` characters (it titles figures)."""
+
+    def parse(text: str) -> str:
+        if len(text) > max_chars:
+            raise argparse.ArgumentTypeError(
+                f"is {len(text)} characters long; give at most {max_chars}")
+        return text
+
+    return parse
+
+
+def machine_memory_bytes() -> int | None:
+    try:
+        return os.sysconf("SC_PAGE_SIZE") * os.sysconf("SC_PHYS_PAGES")
+    except (AttributeError, ValueError, OSError):
+        return None
+
+
+def memory_cap_bytes() -> int | None:
+    """``CHECKER_MAX_MEMORY_MB``, else a fraction of the machine's memory (None: unknown)."""
+    text = os.environ.get(MEMORY_ENV, "").strip()
+    if text:
+        try:
+            value = float(text)
+        except ValueError:
+            value = float("nan")
+        if not 0 < value < 1e9:
+            raise InputError(MEMORY_ENV, f"environment variable value {text[:20]!r} is not "
+                             "a size in megabytes", "set it to a number such as 4000 or unset it")
+        return int(value * 1e6)
+    total = machine_memory_bytes()
+    return int(total * DEFAULT_MEMORY_FRACTION) if total else None
+
+
+def ride_memory_bytes(seats: int, cars: int, duration_s: float, rate_hz: float) -> float:
+    """Estimated memory of one ride's histories and their evaluation [bytes]."""
+    samples = duration_s * rate_hz + 1
+    return samples * (seats * BYTES_PER_SEAT_SAMPLE + cars * BYTES_PER_CAR_SAMPLE)
+
+
+def check_memory(seats: int, cars: int, duration_s: float, rate_hz: float,
+                 source=None) -> None:
+    """Refuse, before the per-seat work, a ride whose estimate exceeds the memory cap."""
+    need = ride_memory_bytes(seats, cars, duration_s, rate_hz)
+    cap = memory_cap_bytes()
+    if cap is not None and need > cap:
+        raise InputError(source, f"this ride needs about {need / 1e6:,.0f} MB of memory "
+                         f"({seats} seats x {duration_s:.0f} s x {rate_hz:g} Hz), more than "
+                         f"the cap of {cap / 1e6:,.0f} MB",
+                         f"lower --rate or the number of seats, or raise the cap with the "
+                         f"environment variable {MEMORY_ENV}")

@@ -1,0 +1,40 @@
+"""Worker processes that end when their parent ends, even when it is killed with SIGKILL.
+
+A process pool's workers wait on a pipe whose other end they hold themselves, so they outlive
+a killed parent for minutes. :func:`watch_parent` is the pools' initializer.
+"""
+
+from __future__ import annotations
+
+import os
+import sys
+import threading
+import time
+
+
+def watch_parent(parent_pid: int, interval_s: float = 0.5) -> None:
+    """Pool initializer: the worker exits when its parent is gone (even after SIGKILL).
+
+    A thread polls the parent's process id; when the worker has been re-parented (the parent
+    died), it ends the worker at once. On Linux the kernel is also asked to send SIGKILL when
+    the parent dies (``prctl(PR_SET_PDEATHSIG)``).
+    """
+    if sys.platform.startswith("linux"):
+        try:
+            import ctypes
+            import signal
+
+            libc = ctypes.CDLL(None, use_errno=True)
+            libc.prctl(1, signal.SIGKILL, 0, 0, 0)  # 1 = PR_SET_PDEATHSIG
+        except (OSError, AttributeError):
+            pass
+    if os.getppid() != parent_pid:  # died before this worker started
+        os._exit(1)
+
+    def watch() -> None:
+        while True:
+            time.sleep(interval_s)
+            if os.getppid() != parent_pid:
+                os._exit(1)
+
+    threading.Thread(target=watch, name="watch-parent", daemon=True).start()

@@ -1,0 +1,123 @@
+"""A stall is a finding: it fails the seat, the case, the run and the JSON verdict.
+
+Expected stations come from conservation of mechanical energy on a frictionless track (the
+ideal rider): the train comes to rest where z(s) - z0 = v0^2 / (2 g0).
+"""
+
+from __future__ import annotations
+
+import json
+
+import numpy as np
+import pytest
+from pypdf import PdfReader
+from shapes import G0, straight, vertical_loop
+
+from checker.cli import main
+from checker.documents import BUNDLED_LIMITS
+from checker.limits import load_limits
+from checker.operation import Operation
+from checker.ride import run_check
+from checker.track import Centerline
+from checker.train import ideal_rider
+
+HILL_HEIGHT = 8.0  # [m]
+HILL_START, HILL_LENGTH = 20.0, 80.0  # [m]
+
+
+def hill_points(spacing: float = 0.5) -> np.ndarray:
+    """Level straight, a cosine hill of HILL_HEIGHT, level straight."""
+    x = np.arange(0.0, HILL_START + HILL_LENGTH + 40.0 + spacing / 2, spacing)
+    inside = (x > HILL_START) & (x < HILL_START + HILL_LENGTH)
+    z = np.where(inside, 0.5 * HILL_HEIGHT * (1 - np.cos(2 * np.pi * (x - HILL_START)
+                                                            / HILL_LENGTH)), 0.0)
+    return np.column_stack([x, np.zeros_like(x), z])
+
+
+def hill_station_at_height(h: float) -> float:
+    """Arc length along the hill's rising side to height h (dense quadrature of the curve)."""
+    x_h = HILL_START + HILL_LENGTH / (2 * np.pi) * np.arccos(1 - 2 * h / HILL_HEIGHT)
+    x = np.linspace(0.0, x_h, 200001)
+    z = np.where(x > HILL_START, 0.5 * HILL_HEIGHT * (1 - np.cos(2 * np.pi * (x - HILL_START)
+                                                                 / HILL_LENGTH)), 0.0)
+    return float(np.sum(np.hypot(np.diff(x), np.diff(z))))
+
+
+def write_hill(tmp_path) -> str:
+    path = tmp_path / "hill.csv"
+    rows = ["x,y,z"] + [f"{a:.6f},{b:.6f},{c:.6f}" for a, b, c in hill_points()]
+    path.write_text("\n".join(rows) + "\n")
+    return str(path)
+
+
+def test_hill_too_high_is_a_stall_finding_at_the_energy_station(tmp_path, capsys):
+    v0 = 10.0
+    expected = hill_station_at_height(v0**2 / (2 * G0))  # energy equation
+    out = tmp_path / "hill.json"
+    code = main(["check", write_hill(tmp_path), "--ideal", "--start-speed", str(v0),
+                 "--json", str(out)])
+    printed = capsys.readouterr().out
+    assert code == 1
+    doc = json.loads(out.read_text())
+    assert doc["verdict"] == "fail"
+    (stall,) = [f for f in doc["findings"] if f["kind"] == "stall"]
+    assert stall["s_worst_m"] == pytest.approx(expected, abs=0.3)
+    assert stall["attitude"] == "upright"
+    assert all(s["verdict"] == "fail" for s in doc["seats"])
+    (event,) = [e for e in doc["events"] if e["kind"] == "stall"]
+    assert "cannot crest a hill" in event["message"]
+    assert "FAIL" in printed and "cannot crest a hill" in printed
+    # one station, printed once
+    assert printed.count("cannot crest a hill") == 1
+    assert printed.count(f"station {stall['s_worst_m']:.1f} m") == 1
+
+
+@pytest.mark.parametrize("height, attitude", [(18.0, "inverted"), (10.0, "on its side")])
+def test_loop_entered_too_slowly_stalls_with_riders_hanging(height, attitude):
+    # energy: the rider stops at height h; on a circle of radius R from its bottom, at the
+    # angle theta with R (1 - cos theta) = h, i.e. station R theta; rider z axis at theta
+    # from world up (inverted beyond 135 degrees, on its side between 45 and 135)
+    radius = 10.0
+    v0 = float(np.sqrt(2 * G0 * height))
+    run = run_check(Centerline(vertical_loop(radius, turns=1.0)), ideal_rider(),
+                    Operation(start_speed_m_s=v0), load_limits(BUNDLED_LIMITS))
+    assert run.evaluation.verdict == "fail"
+    stalls = [f for f in run.evaluation.findings if f.kind == "stall"]
+    assert len(stalls) == 1
+    theta = np.arccos(1 - height / radius)
+    assert stalls[0].s_worst_m == pytest.approx(radius * theta, abs=0.3)
+    assert stalls[0].attitude == attitude
+    assert f"stalls {attitude}" in stalls[0].detail
+    assert "riders would hang there" in stalls[0].detail
+
+
+def test_no_speed_at_the_start_says_what_to_give():
+    run = run_check(Centerline(straight(60.0)), ideal_rider(), Operation(start_speed_m_s=0.0),
+                    load_limits(BUNDLED_LIMITS))
+    (stall,) = [f for f in run.evaluation.findings if f.kind == "stall"]
+    assert "no speed at the start" in stall.detail
+    assert "start speed" in stall.detail and "lift" in stall.detail and "launch" in stall.detail
+    assert run.evaluation.verdict == "fail"
+
+
+def test_case_file_with_one_stalling_case_fails_and_marks_the_matrix(tmp_path, capsys):
+    cases = tmp_path / "cases.toml"
+    cases.write_text('[[case]]\nname = "fast"\nstart_speed_m_s = 13.0\n\n'
+                     '[[case]]\nname = "slow"\nstart_speed_m_s = 10.0\n')
+    pdf = tmp_path / "cases.pdf"
+    code = main(["check", write_hill(tmp_path), "--ideal", "--cases", str(cases),
+                 "--workers", "1", "--quiet", "--pdf", str(pdf), "--seat-pages", "none"])
+    printed = capsys.readouterr().out
+    assert code == 1
+    doc = json.loads(pdf.with_suffix(".json").read_text())
+    assert doc["verdict"] == "fail"
+    assert doc["matrix"]["car1-rider"] == {"fast": "pass", "slow": "stall"}
+    (stall,) = [f for f in doc["findings"] if f["kind"] == "stall"]
+    assert stall["case"] == "slow"
+    assert stall["s_worst_m"] == pytest.approx(hill_station_at_height(10.0**2 / (2 * G0)),
+                                               abs=0.3)
+    assert " S" in printed.split("verdicts, seat by case")[1]
+    pages = [page.extract_text() for page in PdfReader(str(pdf)).pages]
+    assert "Overall: FAIL" in pages[0] and "STALL" in pages[0]
+    assert pages[0].count("cannot crest a hill") == 1  # one message, printed once
+    assert "car1-rider P S" in "".join(pages)  # the matrix row: case 1 passes, 2 stalls
