@@ -14,7 +14,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from .limits import AXES
-from .rules import Finding
+from .rules import Finding, TextEnum
 from .sweep import Sweep, peak_summary
 
 MATCH_DISTANCE_M = 25.0
@@ -22,9 +22,22 @@ MATCH_FRACTION = 0.05
 SAME_SEVERITY = 0.005  # severity change below which a matched finding counts as unchanged
 
 
+class ChangeState(TextEnum):
+    """How a finding changed from the old revision to the new (in the order documents list
+    them)."""
+
+    NEW = "new"
+    WORSE = "worse"
+    GONE = "gone"
+    BETTER = "better"
+    SAME = "same"
+
+
 @dataclass(frozen=True)
 class FindingChange:
-    status: str  # "new", "gone", "worse", "better", "same"
+    """One finding in either revision, paired by place where both have it."""
+
+    status: ChangeState
     old: Finding | None
     new: Finding | None
     matched_by: str = ""  # "position (3.2 m)", "station fraction (0.012)" or ""
@@ -51,7 +64,7 @@ class Comparison:
 
     @property
     def regressed(self) -> bool:
-        return any(c.status in ("new", "worse") for c in self.changes)
+        return any(c.status in (ChangeState.NEW, ChangeState.WORSE) for c in self.changes)
 
     def count(self, status: str) -> int:
         return sum(1 for c in self.changes if c.status == status)
@@ -98,14 +111,14 @@ def match_findings(old: list[Finding], new: list[Finding], old_len: float,
             used_new.add(j)
             a, b = olds[i], news[j]
             delta = b.severity - a.severity
-            status = "same" if abs(delta) <= SAME_SEVERITY else ("worse" if delta > 0
-                                                                  else "better")
+            status = (ChangeState.SAME if abs(delta) <= SAME_SEVERITY
+                      else ChangeState.WORSE if delta > 0 else ChangeState.BETTER)
             changes.append(FindingChange(status, a, b, how))
-        changes += [FindingChange("gone", a, None) for i, a in enumerate(olds)
+        changes += [FindingChange(ChangeState.GONE, a, None) for i, a in enumerate(olds)
                     if i not in used_old]
-        changes += [FindingChange("new", None, b) for j, b in enumerate(news)
+        changes += [FindingChange(ChangeState.NEW, None, b) for j, b in enumerate(news)
                     if j not in used_new]
-    order = {"new": 0, "worse": 1, "gone": 2, "better": 3, "same": 4}
+    order = {state: i for i, state in enumerate(ChangeState)}
     changes.sort(key=lambda c: (order[c.status], -(c.new or c.old).severity))
     return changes
 

@@ -10,15 +10,11 @@ import json
 import math
 
 from . import __version__
+from .caution import CAUTION, ILLUSTRATIVE_NOTE
 from .limits import AXES
 from .resources import bundled_limits
 from .rules import Evaluation
 
-CAUTION = ("This is a pre-submission self-check, not a certification or an approval. The "
-           "governing code, the authority having jurisdiction and licensed engineering review "
-           "decide.")
-ILLUSTRATIVE_NOTE = ("The limit set used is ILLUSTRATIVE (invented example values, not from any "
-                     "standard); results against it say nothing about compliance.")
 BUNDLED_LIMITS = bundled_limits()
 MATRIX_MARKS = {"pass": "P", "fail": "F", "stall": "S"}
 
@@ -176,8 +172,7 @@ def sweep_document(sweep) -> dict:
     """Cases, the seat x case verdict matrix and the governing finding of each rule."""
     seats, cases, cells = sweep.matrix()
     return _clean({
-        "cases": [{"case": o.case, "verdict": "fail" if (o.evaluation.verdict == "fail"
-                                                          or o.stall) else "pass",
+        "cases": [{"case": o.case, "verdict": o.verdict,
                    "findings": len(o.evaluation.findings), "stall": o.stall,
                    "top_speed_m_s": o.top_speed_m_s, "ride_time_s": o.duration_s}
                   for o in sweep.outcomes],

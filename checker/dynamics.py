@@ -26,10 +26,11 @@ import numpy as np
 from .constants import G0
 from .errors import TrainStalled
 from .geometry import TrackGeometry
-from .operation import Operation
+from .operation import Launch, Lift, Operation
 from .train import Train
 
-FREE, LIFT, LAUNCH_FORCE, LAUNCH_SPEED, BRAKE = 0, 1, 2, 3, 4
+# what acts at a station of the marching grid (0: nothing, the train rolls freely)
+UNPOWERED, LIFT, LAUNCH_FORCE, LAUNCH_SPEED, BRAKE = 0, 1, 2, 3, 4  # section code per step
 RAN_TO_END, STOPPED_BY_BRAKE, STALLED = 0, 1, 2
 
 
@@ -41,7 +42,6 @@ class RideMotion:
     t: np.ndarray  # time [s]
     v: np.ndarray  # speed [m/s]
     a_t: np.ndarray  # tangential acceleration dv/dt [m/s^2]
-    section_code: np.ndarray  # powered section kind acting at each station
     car_spacing_m: float
     car_count: int
     end_reason: str
@@ -107,7 +107,7 @@ def _march(ds, gravity, p, q, r, w, masses, mu_over_m, drag_over_m, wind, code, 
 def _free_runs(code: np.ndarray) -> dict[int, int]:
     """{first step: end step} of the runs of steps k (from station k to k + 1) without a
     powered section."""
-    free = np.concatenate([[0], (code[:-1] == FREE).astype(np.int8), [0]])
+    free = np.concatenate([[0], (code[:-1] == UNPOWERED).astype(np.int8), [0]])
     edges = np.flatnonzero(np.diff(free))
     return {int(a): int(b) for a, b in zip(edges[::2], edges[1::2]) if b - a > 1}
 
@@ -205,18 +205,18 @@ def _section_arrays(stations: np.ndarray, operation: Operation, track_length: fl
         idx = np.flatnonzero(active)
         if idx.size == 0:
             continue
-        if sec.kind == "lift":
+        if isinstance(sec, Lift):
             code[idx] = LIFT
             target_e[idx] = 0.5 * sec.speed_m_s**2
             accel[idx] = sec.engage_accel_m_s2
-        elif sec.kind == "launch" and sec.exit_speed_m_s > 0:
+        elif isinstance(sec, Launch) and sec.exit_speed_m_s is not None:
             code[idx] = LAUNCH_SPEED
             target_e[idx] = 0.5 * sec.exit_speed_m_s**2
             remaining[idx] = np.maximum(1.0, idx[-1] + 1 - idx)
-        elif sec.kind == "launch":
+        elif isinstance(sec, Launch):
             code[idx] = LAUNCH_FORCE
             force[idx] = sec.force_n
-            cap_e[idx] = 0.5 * sec.max_speed_m_s**2
+            cap_e[idx] = np.inf if sec.max_speed_m_s is None else 0.5 * sec.max_speed_m_s**2
         else:
             code[idx] = BRAKE
             target_e[idx] = 0.5 * sec.speed_m_s**2
@@ -265,8 +265,8 @@ def simulate_motion(
 
     The train starts with its last car at station 0 and the lead car at ``train.length_m``,
     at ``operation.start_speed_m_s``, and runs until the lead car reaches the track's end or a
-    stopping brake brings it to rest. Raises :class:`TrainStalled` where it comes to rest
-    anywhere else: the motion up to that point is returned with ``stall`` set.
+    stopping brake brings it to rest. Where it comes to rest anywhere else, the motion up to
+    that point is returned with ``stall`` set (a :class:`TrainStalled` record, not raised).
     """
     operation.check_against(geometry.length)
     if train.length_m >= geometry.length:  # run_ride refuses this first, naming the track file
@@ -299,11 +299,9 @@ def simulate_motion(
         0.5 * operation.start_speed_m_s**2)
     s = stations[: last + 1]
     e = e[: last + 1]
-    codes = code[: last + 1]
     if reason != RAN_TO_END:
         s = np.append(s, s[-1] + frac * ds)
         e = np.append(e, 0.0)
-        codes = np.append(codes, codes[-1])
     v = np.sqrt(2.0 * np.maximum(e, 0.0))
     dt = 2.0 * np.diff(s) / np.maximum(v[1:] + v[:-1], 1e-12)
     t = np.concatenate([[0.0], np.cumsum(dt)])
@@ -316,10 +314,8 @@ def simulate_motion(
         e = np.zeros(3)
         v = np.zeros(3)
         t = np.array([0.0, 1.0, 2.0])
-        codes = np.zeros(3, dtype=codes.dtype)
     a_t = np.gradient(e, s, edge_order=2)  # second order at the ends too (the first sample)
     ends = {RAN_TO_END: "reached the end of the track",
             STOPPED_BY_BRAKE: f"stopped by a brake at station {s[-1]:.1f} m",
             STALLED: f"stalled at station {s[-1]:.1f} m"}
-    return RideMotion(s, t, v, a_t, codes, train.spacing_m, train.car_count, ends[reason],
-                      stall)
+    return RideMotion(s, t, v, a_t, train.spacing_m, train.car_count, ends[reason], stall)

@@ -34,6 +34,8 @@ from scipy.sparse.linalg import splu
 WORLD_UP = np.array([0.0, 0.0, 1.0])
 # Tangents within this angle of vertical carry the level reference across by a smooth,
 # twist-minimal bridge; SMOOTHING_LENGTH_M sets how gently the reference may turn [m].
+STATION_STEP_M = 0.2  # default station grid step [m] of every ride
+QUINTIC_MIN_SAMPLES = 6  # a degree-5 spline needs 6 samples; fewer get a cubic
 BLEND_START_DEG = 10.0
 SMOOTHING_LENGTH_M = 1.5
 # Passes that replace the chord-length parameter by the fitted curve's arc length.
@@ -312,7 +314,7 @@ def _fit_centerline(points: np.ndarray, smoothing_m: float):
     E. T. Y. Lee, "Choosing nodes in parametric curve interpolation", Computer-Aided Design
     21(6), 1989 (the parameter's effect on interpolants).
     """
-    degree = 5 if len(points) >= 6 else 3
+    degree = 5 if len(points) >= QUINTIC_MIN_SAMPLES else 3
     chords = np.linalg.norm(np.diff(points, axis=0), axis=1)
     u = np.concatenate([[0.0], np.cumsum(chords)])
     interp = make_interp_spline(u, points, k=degree, axis=0)
@@ -339,7 +341,7 @@ def build_geometry(
     up: np.ndarray | None = None,
     *,
     smoothing_m: float = 0.0,
-    step_m: float = 0.1,
+    step_m: float = STATION_STEP_M,
 ) -> TrackGeometry:
     """Arc-length geometry and rider frame from centerline samples.
 
@@ -422,7 +424,8 @@ def build_geometry(
               if smoothing_m > 0 else None)
     noise = None
     if smoothing_m < NOISE_PROBE_M and len(points) >= 8:
-        probe = _penalized_fit(points, u, 5 if len(points) >= 6 else 3, NOISE_PROBE_M)
+        probe = _penalized_fit(points, u, 5 if len(points) >= QUINTIC_MIN_SAMPLES else 3,
+                               NOISE_PROBE_M)
         noise = _smoothing_report(points, probe, spline, u, sample_s, NOISE_PROBE_M)
     return TrackGeometry(s, position, tangent, left_v, up_v, curv, omega, domega, roll,
                          torsion, sample_s, report, noise)

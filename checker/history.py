@@ -32,6 +32,7 @@ from .csvtable import read_numeric_csv
 from .errors import InputError
 from .instrument import Instrument
 
+MIN_SAMPLES = 8  # fewer samples per seat cannot be filtered or checked meaningfully
 STEP_TOLERANCE = 0.01  # a step may differ from the median step by 1 %
 MIN_SAMPLES = 8
 GAP_STEPS = 10  # without a stated max_gap_s, a step this many times the median is a gap

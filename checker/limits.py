@@ -73,10 +73,6 @@ class CombinedEnvelope:
     vertices: np.ndarray  # (m, 2), not repeating the first vertex
     source: str = "polygon"
 
-    @property
-    def plane(self) -> str:
-        return PLANES[self.axes]
-
 
 @dataclass(frozen=True)
 class Zone:

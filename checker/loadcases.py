@@ -10,7 +10,7 @@ from dataclasses import dataclass, replace
 from pathlib import Path
 
 from .errors import InputError
-from .operation import Operation
+from .operation import Lift, Operation
 from .resources import standard_cases
 from .ride import RideOptions
 from .tomlfields import Fields, load_toml
@@ -111,7 +111,7 @@ def apply_case(train: Train, operation: Operation, options: RideOptions,
         drag_area_m2=train.drag_area_m2 if case.drag_area_m2 is None else case.drag_area_m2,
         air_density_kg_m3=case.air_density_kg_m3 or train.air_density_kg_m3)
     sections = tuple(replace(s, speed_m_s=s.speed_m_s * case.lift_speed_factor)
-                     if s.kind == "lift" else s for s in operation.sections)
+                     if isinstance(s, Lift) else s for s in operation.sections)
     operation = replace(operation, sections=sections,
                         start_speed_m_s=operation.start_speed_m_s if case.start_speed_m_s is None
                         else case.start_speed_m_s)

@@ -27,6 +27,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from pathlib import Path
+from typing import ClassVar, Union
 
 from .errors import InputError
 from .tomlfields import Fields, load_toml
@@ -35,28 +36,78 @@ SECTION_KINDS = ("lift", "launch", "brake")
 
 
 @dataclass(frozen=True)
-class Section:
-    """One powered section; stations [m] as written (negative = from the track's end)."""
+class _Span:
+    """Where a powered section acts: stations [m] as written (negative = from the track's
+    end)."""
 
-    kind: str
     start_m: float
     end_m: float
-    speed_m_s: float = 0.0  # lift: chain speed; brake: target speed (0 = stop)
-    engage_accel_m_s2: float = 1.0  # lift: how fast the chain brings a slow train to speed
-    force_n: float = 0.0  # launch: tractive force
-    max_speed_m_s: float = 0.0  # launch with force: no push above this speed (0 = no cap)
-    exit_speed_m_s: float = 0.0  # launch: controlled to reach this speed (0 = use force)
-    max_decel_m_s2: float = 3.0  # brake
 
     def resolved(self, track_length_m: float) -> tuple[float, float]:
-        """Start and end station [m] on a track of the given length."""
+        """Start and end station [m] on a track of the given length [m]."""
         def at(x: float) -> float:
             return x + track_length_m if x < 0 else x
         return at(self.start_m), at(self.end_m)
 
 
 @dataclass(frozen=True)
+class Lift(_Span):
+    """A chain or cable lift: holds the train at ``speed_m_s`` [m/s] at least, bringing a
+    slower train up to it at ``engage_accel_m_s2`` [m/s^2]."""
+
+    speed_m_s: float = 3.0
+    engage_accel_m_s2: float = 1.0
+    kind: ClassVar[str] = "lift"
+
+    def describe(self) -> str:
+        """The section's action in words, for the record."""
+        return f"speed {self.speed_m_s:g} m/s"
+
+
+@dataclass(frozen=True)
+class Launch(_Span):
+    """A launch: either a tractive force ``force_n`` [N] (pushing only below
+    ``max_speed_m_s`` [m/s] when that is given), or controlled to reach ``exit_speed_m_s``
+    [m/s] at its end. Exactly one of ``force_n`` and ``exit_speed_m_s`` is given."""
+
+    force_n: float | None = None
+    max_speed_m_s: float | None = None
+    exit_speed_m_s: float | None = None
+    kind: ClassVar[str] = "launch"
+
+    def __post_init__(self) -> None:
+        if (self.force_n is None) == (self.exit_speed_m_s is None):
+            raise ValueError("a launch needs exactly one of force_n or exit_speed_m_s")
+
+    def describe(self) -> str:
+        """The section's action in words, for the record."""
+        if self.exit_speed_m_s is not None:
+            return f"exit {self.exit_speed_m_s:g} m/s"
+        cap = f" up to {self.max_speed_m_s:g} m/s" if self.max_speed_m_s is not None else ""
+        return f"force {self.force_n:g} N{cap}"
+
+
+@dataclass(frozen=True)
+class Brake(_Span):
+    """A trim or stopping brake: slows the train to ``speed_m_s`` [m/s] (0 stops it) at no
+    more than ``max_decel_m_s2`` [m/s^2]."""
+
+    speed_m_s: float = 0.0
+    max_decel_m_s2: float = 3.0
+    kind: ClassVar[str] = "brake"
+
+    def describe(self) -> str:
+        """The section's action in words, for the record."""
+        return f"to {self.speed_m_s:g} m/s at <= {self.max_decel_m_s2:g} m/s^2"
+
+
+Section = Union[Lift, Launch, Brake]  # noqa: UP007 - a runtime alias (3.10 has no `type`)
+
+
+@dataclass(frozen=True)
 class Operation:
+    """Start speed [m/s] and the powered sections of a ride, with the file they came from."""
+
     start_speed_m_s: float = 0.0
     sections: tuple[Section, ...] = ()
     source: str = "<none>"
@@ -80,6 +131,22 @@ class Operation:
 
 
 def load_operation(path: str | Path) -> Operation:
+    """Load and validate an operation TOML file (format in the module docstring).
+
+    Parameters
+    ----------
+    path : the operation file.
+
+    Returns
+    -------
+    Operation
+
+    Raises
+    ------
+    InputError
+        For a missing file, bad TOML, an unknown key or kind, or a value out of range
+        (naming the key, e.g. ``sections[2].speed_m_s``).
+    """
     path = Path(path)
     doc = Fields(path, load_toml(path))
     start = doc.number("start_speed_m_s", 0.0, minimum=0.0, maximum=100.0)
@@ -88,27 +155,29 @@ def load_operation(path: str | Path) -> Operation:
         kind = table.text("kind", choices=SECTION_KINDS)
         begin = table.number("start_m", minimum=-1e6, maximum=1e6)
         end = table.number("end_m", minimum=-1e6, maximum=1e6)
+        sec: Section
         if kind == "lift":
-            sec = Section(kind, begin, end,
-                          speed_m_s=table.number("speed_m_s", positive=True, maximum=30),
-                          engage_accel_m_s2=table.number("engage_accel_m_s2", 1.0,
-                                                         positive=True, maximum=20))
+            sec = Lift(begin, end, speed_m_s=table.number("speed_m_s", positive=True, maximum=30),
+                       engage_accel_m_s2=table.number("engage_accel_m_s2", 1.0, positive=True,
+                                                      maximum=20))
         elif kind == "launch":
             has_force, has_exit = table.has("force_n"), table.has("exit_speed_m_s")
             if has_force == has_exit:
                 raise table.error("force_n", "a launch needs exactly one of force_n or "
                                   "exit_speed_m_s", "give the tractive force or the exit speed")
-            sec = Section(kind, begin, end,
-                          force_n=table.number("force_n", 0.0, positive=has_force, maximum=1e7),
-                          max_speed_m_s=table.number("max_speed_m_s", 0.0, minimum=0,
-                                                     maximum=100),
-                          exit_speed_m_s=table.number("exit_speed_m_s", 0.0,
-                                                      positive=has_exit, maximum=100))
+            cap = (table.number("max_speed_m_s", positive=True, maximum=100)
+                   if table.has("max_speed_m_s") else None)
+            sec = Launch(begin, end,
+                         force_n=(table.number("force_n", positive=True, maximum=1e7)
+                                  if has_force else None),
+                         max_speed_m_s=cap,
+                         exit_speed_m_s=(table.number("exit_speed_m_s", positive=True,
+                                                      maximum=100) if has_exit else None))
         else:
-            sec = Section(kind, begin, end,
-                          speed_m_s=table.number("speed_m_s", minimum=0.0, maximum=100),
-                          max_decel_m_s2=table.number("max_decel_m_s2", 3.0, positive=True,
-                                                      maximum=50))
+            sec = Brake(begin, end,
+                        speed_m_s=table.number("speed_m_s", minimum=0.0, maximum=100),
+                        max_decel_m_s2=table.number("max_decel_m_s2", 3.0, positive=True,
+                                                    maximum=50))
         table.done()
         sections.append(sec)
     doc.done()

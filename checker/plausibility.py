@@ -11,7 +11,7 @@ import numpy as np
 from .constants import G0
 from .dynamics import RideMotion
 from .geometry import TrackGeometry
-from .operation import Operation
+from .operation import Launch, Lift, Operation
 
 TALLEST_PLAUSIBLE_M = 150.0  # height range beyond any built coaster (common practice, rough)
 LONGEST_PLAUSIBLE_M = 3000.0  # layout length beyond any built coaster (rough)
@@ -19,6 +19,7 @@ SHORTEST_PLAUSIBLE_M = 5.0
 TURN_PER_SAMPLE_DEG = 6.0  # curvature x sample spacing above this: sampling too coarse
 SPIKE_RATIO = 3.0  # curvature between samples this many times that at the samples
 SPIKE_FLOOR = 0.05  # [1/m] ignore spikes on gentle curves
+ENERGY_TOLERANCE_M_S = 0.5  # speed above the energy bound before the energy check warns
 ROLL_RATE_DEG_S = 400.0  # faster than a train is rolled in practice (rough)
 
 
@@ -98,19 +99,21 @@ def motion_warnings(geometry: TrackGeometry, motion: RideMotion,
     z = geometry.position[:, 2]
     powered = [operation.start_speed_m_s]
     for sec in operation.sections:
-        powered += [sec.speed_m_s if sec.kind == "lift" else 0.0, sec.exit_speed_m_s,
-                    sec.max_speed_m_s]
-    force_launch = any(s.kind == "launch" and s.force_n > 0 and s.max_speed_m_s == 0
-                       for s in operation.sections)
+        if isinstance(sec, Lift):
+            powered.append(sec.speed_m_s)
+        elif isinstance(sec, Launch):
+            powered += [v for v in (sec.exit_speed_m_s, sec.max_speed_m_s) if v is not None]
+    force_launch = any(isinstance(s, Launch) and s.force_n is not None
+                       and s.max_speed_m_s is None for s in operation.sections)
     from_height = float(np.sqrt(2 * G0 * np.ptp(z)))
-    launched = any(s.kind == "launch" for s in operation.sections)
-    if not launched and operation.start_speed_m_s > from_height + 0.5:
+    launched = any(isinstance(s, Launch) for s in operation.sections)
+    if not launched and operation.start_speed_m_s > from_height + ENERGY_TOLERANCE_M_S:
         out.append(f"start speed {operation.start_speed_m_s:.1f} m/s is more than the layout's "
                    f"{np.ptp(z):.1f} m height range can give ({from_height:.1f} m/s) and no "
                    "launch provides it (energy check): check the start speed and its units")
     bound = float(np.sqrt(max(powered) ** 2 + 2 * G0 * np.ptp(z)))
     top = float(motion.v.max())
-    if not force_launch and top > bound + 0.5:
+    if not force_launch and top > bound + ENERGY_TOLERANCE_M_S:
         out.append(f"top speed {top:.1f} m/s exceeds what the layout's {np.ptp(z):.1f} m height "
                    f"and powered sections can give ({bound:.1f} m/s, energy check): check the "
                    "start speed, wind and sections")

@@ -7,7 +7,6 @@ from __future__ import annotations
 
 from dataclasses import dataclass, replace
 from pathlib import Path
-from typing import TYPE_CHECKING
 
 import numpy as np
 import pandas as pd
@@ -15,8 +14,9 @@ import pandas as pd
 from .bounds import MIN_TRACK_M, check_memory
 from .dynamics import RideMotion, simulate_motion
 from .errors import InputError
-from .geometry import TrackGeometry, build_geometry
+from .geometry import STATION_STEP_M, TrackGeometry, build_geometry
 from .kinematics import SeatHistory, rider_histories
+from .limits import LimitSet
 from .operation import Operation, load_operation
 from .plausibility import (
     crossing_warnings,
@@ -25,11 +25,10 @@ from .plausibility import (
     track_warnings,
     train_clearance_m,
 )
+from .rules import Evaluation, evaluate
+from .stalls import stall_findings
 from .track import Centerline, load_centerline, smoothing_for
 from .train import Train, ideal_rider, load_train
-
-if TYPE_CHECKING:
-    from .rules import Evaluation
 
 HISTORY_COLUMNS = ["seat", "car", "t", "s", "v", "gx", "gy", "gz", "x", "y", "z"]
 
@@ -40,7 +39,7 @@ class RideOptions:
 
     rate_hz: float = 200.0
     smoothing_m: float | None = None  # None: half the grid a rounded track file sits on
-    step_m: float = 0.2
+    step_m: float = STATION_STEP_M
     head_wind_m_s: float = 0.0
 
 
@@ -163,8 +162,12 @@ def simulate(track: str | Path, train: str | Path | None = None, *, ideal: bool 
     Returns
     -------
     DataFrame with columns seat, car, t [s], s [m], v [m/s], gx, gy, gz [g0], x, y, z [m].
-    Raises :class:`checker.errors.InputError` for bad input and
-    :class:`checker.errors.TrainStalled` when the train cannot crest a hill.
+    Where the train stalls the histories end there (no error is raised).
+
+    Raises
+    ------
+    InputError
+        For a bad or missing input file.
     """
     line, the_train, ops = load_inputs(track, train, ideal=ideal, operation=operation,
                                        start_speed_m_s=start_speed_m_s, units=units)
@@ -173,41 +176,83 @@ def simulate(track: str | Path, train: str | Path | None = None, *, ideal: bool 
     return histories_frame(result.histories)
 
 
-@dataclass
+@dataclass(frozen=True, eq=False)
 class CheckRun:
-    """A ride (or a recorded history) checked against a limit set."""
+    """One ride checked against a limit set: the evaluation, the ride and the raw signals.
+
+    Attributes
+    ----------
+    evaluation : the rules' outcome (its warnings include the ride's plausibility warnings,
+        its stalls the ride's stall).
+    ride : the simulated ride.
+    signals : {(seat, case): :class:`checker.kinematics.SeatHistory`} raw signals [g0].
+    """
 
     evaluation: Evaluation
-    ride: RideResult | None
-    signals: dict  # (seat, case) -> signal with raw g (and s, position when simulated)
-    inputs: list[tuple[str, str]]
-    stall: str | None = None
-    sweep: object | None = None  # checker.sweep.Sweep when load cases were run
+    ride: RideResult
+    signals: dict
+
+    @property
+    def stall(self) -> str | None:
+        """Where the train stopped short of the end, or None."""
+        return "; ".join(self.evaluation.stalls) or None
 
 
-def run_check(centerline: Centerline, train: Train, operation: Operation, limits,
+def run_check(centerline: Centerline, train: Train, operation: Operation, limits: LimitSet,
               options: RideOptions = RideOptions(), case: str = "nominal",
               keep_signals: bool = True, geometry: TrackGeometry | None = None) -> CheckRun:
-    """Simulate and evaluate every seat: the one entry for `check`, sweeps and the API.
-    Sweeps pass ``keep_signals=False`` to skip what only documents need (filtered signals)
-    and the layout's ``geometry`` built once."""
-    from .rules import evaluate
+    """Simulate and evaluate every seat: the one entry for checks and sweeps.
 
+    Parameters
+    ----------
+    centerline, train, operation : the validated inputs of the ride.
+    limits : the limit set to check against.
+    options : numerical options (sample rate [Hz], smoothing [m], station step [m]).
+    case : name of the load case, carried into every finding.
+    keep_signals : False skips what only documents need (filtered signals, exposure
+        curves); sweeps pass False.
+    geometry : the layout's geometry when already built (:func:`layout_geometry`); sweeps
+        build it once per layout.
+
+    Returns
+    -------
+    CheckRun
+        A stall is not an error: it is carried in ``evaluation.stalls`` and fails the
+        verdict.
+    """
     result = run_ride(centerline, train, operation, options, geometry)
-    evaluation = evaluate(result.histories, limits, case, keep_signals)
-    evaluation.warnings[:0] = list(result.warnings)
-    stall = None
-    if result.motion.stall is not None:  # a finding of every seat, not a warning
-        from .stalls import stall_findings
-
-        stall = str(result.motion.stall)
-        found = stall_findings(result.motion.stall, result.histories, result.geometry, case,
-                               train.spacing_m)
-        by_seat = {f.seat: f for f in found}
-        for seat in evaluation.seats:
-            seat.findings.append(by_seat[seat.seat])
+    evaluation = evaluate_ride(result, limits, case, keep_signals)
     signals = {(h.seat, case): h for h in result.histories}
-    return CheckRun(evaluation, result, signals, [], stall)
+    return CheckRun(evaluation, result, signals)
+
+
+def evaluate_ride(result: RideResult, limits: LimitSet, case: str = "nominal",
+                  keep_signals: bool = True) -> Evaluation:
+    """Evaluate a simulated ride: every seat's rules, the ride's warnings and its stall.
+
+    Parameters
+    ----------
+    result : the simulated ride (:func:`run_ride`).
+    limits : the limit set to check against.
+    case : name of the load case, carried into every finding.
+    keep_signals : False skips what only documents need (filtered signals).
+
+    Returns
+    -------
+    Evaluation
+        A stall is a finding of every seat and is carried in ``stalls``.
+    """
+    evaluation = evaluate(result.histories, limits, case, keep_signals)
+    stalls: tuple[str, ...] = ()
+    seats = evaluation.seats
+    if result.motion.stall is not None:  # a finding of every seat, not a warning
+        stalls = (str(result.motion.stall),)
+        found = {f.seat: f for f in stall_findings(result.motion.stall, result.histories,
+                                                   result.geometry, case,
+                                                   result.train.spacing_m)}
+        seats = tuple(replace(s, findings=s.findings + (found[s.seat],)) for s in seats)
+    return replace(evaluation, seats=seats,
+                   warnings=tuple(result.warnings) + tuple(evaluation.warnings), stalls=stalls)
 
 
 def _smoothing_text(result: RideResult) -> str:
@@ -241,9 +286,6 @@ def ride_parameters(result: RideResult) -> list[tuple[str, str]]:
                      f"({seat.forward_m:g}, {seat.left_m:g}, {seat.up_m:g}) m"))
     for i, sec in enumerate(ops.sections):
         a, b = sec.resolved(result.geometry.length)
-        what = {"lift": f"speed {sec.speed_m_s:g} m/s",
-                "brake": f"to {sec.speed_m_s:g} m/s at <= {sec.max_decel_m_s2:g} m/s^2",
-                "launch": (f"exit {sec.exit_speed_m_s:g} m/s" if sec.exit_speed_m_s
-                           else f"force {sec.force_n:g} N")}[sec.kind]
-        rows.append((f"section {i + 1}: {sec.kind}", f"{a:.1f} m to {b:.1f} m, {what}"))
+        rows.append((f"section {i + 1}: {sec.kind}",
+                     f"{a:.1f} m to {b:.1f} m, {sec.describe()}"))
     return rows

@@ -21,7 +21,8 @@ outside it go through the exact point-in-polygon test.
 
 from __future__ import annotations
 
-from dataclasses import asdict, dataclass, field
+from dataclasses import asdict, dataclass, field, replace
+from enum import Enum
 
 import numpy as np
 
@@ -33,6 +34,36 @@ from .limits import outside_fraction as _outside_fraction
 AXIS_INDEX = {axis: i for i, axis in enumerate(AXES)}
 EXPOSURE_POINTS = 160  # durations drawn per exposure curve (log-spaced)
 BLOCK = 1 << 15  # samples per block of the rule scan: its temporaries stay in cache
+
+
+class TextEnum(str, Enum):
+    """A str-valued enum that prints, formats, hashes, compares and goes into JSON as its
+    value (so documents keep the same strings)."""
+
+    __hash__ = str.__hash__
+
+    def __str__(self) -> str:
+        return str(self.value)
+
+    def __format__(self, spec: str) -> str:
+        return format(str(self.value), spec)
+
+
+class Verdict(TextEnum):
+    """The outcome of a check."""
+
+    PASS = "pass"
+    FAIL = "fail"
+
+
+class FindingKind(TextEnum):
+    """Which kind of rule a finding breaks."""
+
+    DURATION = "duration"  # a level held longer than the limit curve allows
+    COMBINED = "combined"  # a filtered sample outside a combined-axis envelope
+    ONSET = "onset"  # the rate of change above the onset limit
+    STALL = "stall"  # the train comes to rest outside a stopping brake
+    UPLIFT = "uplift"  # upward travel beyond the restraint's free travel
 
 
 MARGIN_UNITS = {"duration": "g", "onset": "g/s", "combined": "%", "stall": "m/s",
@@ -55,7 +86,7 @@ class Finding:
     """
 
     rule: str
-    kind: str  # "duration", "combined" or "onset"
+    kind: FindingKind
     axis: str
     seat: str
     case: str
@@ -114,12 +145,23 @@ class Exposure:
     levels_g: np.ndarray
 
 
-@dataclass
+@dataclass(frozen=True, eq=False)
 class SeatResult:
+    """Every rule's outcome for one seat in one load case.
+
+    Attributes
+    ----------
+    seat, case : names of the rider position and of the load case.
+    worst : {axis: (min, max)} of the filtered signal [g0].
+    findings : the exceedance events, in the order the rules produced them.
+    filtered : (n, 3) filtered specific force [g0], or None when not kept (sweeps).
+    t : (n,) sample times [s], or None when not kept.
+    """
+
     seat: str
     case: str
     worst: dict  # axis -> (min, max) of the filtered signal [g0]
-    findings: list[Finding] = field(default_factory=list)
+    findings: tuple[Finding, ...] = ()
     filtered: np.ndarray | None = None
     t: np.ndarray | None = None
     uplift: object | None = None  # checker.uplift.UpliftSummary
@@ -127,24 +169,59 @@ class SeatResult:
     margins: dict = field(default_factory=dict)  # rule -> worst margin (checker.sensitivity)
 
     @property
-    def verdict(self) -> str:
-        return "fail" if self.findings else "pass"
+    def verdict(self) -> Verdict:
+        """FAIL when any rule is exceeded at this seat in this case, else "pass"."""
+        return verdict_of(bool(self.findings))
+
+    def without_signals(self) -> SeatResult:
+        """The same result without the filtered signal, times and exposure curves (small
+        enough to travel between processes)."""
+        return replace(self, filtered=None, t=None)
 
 
-@dataclass
+@dataclass(frozen=True, eq=False)
 class Evaluation:
+    """Every seat checked against one limit set, with what the run noticed on the way.
+
+    Attributes
+    ----------
+    limits : the limit set used.
+    seats : one :class:`SeatResult` per seat and load case.
+    warnings : plausibility and sampling warnings (the run went on).
+    stalls : where the train stopped short of the end, one line per ride; a stall fails the
+        check just as a finding does.
+    """
+
     limits: LimitSet
-    seats: list[SeatResult]
-    warnings: list[str] = field(default_factory=list)
+    seats: tuple[SeatResult, ...]
+    warnings: tuple[str, ...] = ()
+    stalls: tuple[str, ...] = ()
 
     @property
     def findings(self) -> list[Finding]:
+        """Every finding, the most severe first."""
         return sorted((f for s in self.seats for f in s.findings),
                       key=lambda f: (-f.severity, f.seat, f.t_start))
 
     @property
-    def verdict(self) -> str:
-        return "fail" if any(s.findings for s in self.seats) else "pass"
+    def verdict(self) -> Verdict:
+        """The one verdict of a check: FAIL on any finding or any stall, else PASS."""
+        return verdict_of(any(s.findings for s in self.seats), bool(self.stalls))
+
+
+def verdict_of(*failures: bool) -> Verdict:
+    """The verdict rule, in one place: "fail" when anything failed, else "pass".
+
+    Parameters
+    ----------
+    *failures : one flag per thing that can fail (findings, stalls, cases).
+
+    Returns
+    -------
+    Verdict
+        FAIL when anything failed, else PASS.
+    """
+    return Verdict.FAIL if any(failures) else Verdict.PASS
 
 
 def sustained_windows(x: np.ndarray,
@@ -355,7 +432,8 @@ def _duration_findings(x: np.ndarray, dt: float, rule: DurationLimit, ctx: _Cont
         g = idx[int(np.argmax(excess))]  # the governing window
         peak_i = start + int(np.argmax(rule.sign * x[start:end + 1]))
         findings.append(Finding(
-            rule=f"duration {rule.name}", kind="duration", axis=rule.axis, seat=ctx.seat.seat,
+            rule=f"duration {rule.name}", kind=FindingKind.DURATION, axis=rule.axis,
+            seat=ctx.seat.seat,
             case=ctx.case, t_start=float(ctx.t[start]), t_end=float(ctx.t[end]) + dt,
             duration_s=float(width[g] * dt), peak_g=float(x[peak_i]),
             limit_g=float(rule.sign * allowed[g]), margin=float(allowed[g] - level[g]),
@@ -454,7 +532,8 @@ def _combined_findings(a: np.ndarray, b: np.ndarray, env: CombinedEnvelope,
         w = start + int(np.argmax(frac))
         reach = float(np.hypot(a[w] - center[0], b[w] - center[1]))
         findings.append(Finding(
-            rule=f"combined {env.name}", kind="combined", axis=f"{env.axes[0]}+{env.axes[1]}",
+            rule=f"combined {env.name}", kind=FindingKind.COMBINED,
+            axis=f"{env.axes[0]}+{env.axes[1]}",
             seat=ctx.seat.seat, case=ctx.case, t_start=float(ctx.t[start]),
             t_end=float(ctx.t[end]) + dt, duration_s=float(ctx.t[end] - ctx.t[start] + dt),
             peak_g=reach, limit_g=reach / (1 + float(frac.max())),
@@ -473,7 +552,8 @@ def _onset_findings(idx: np.ndarray, rate: np.ndarray, axis: str, limit: float,
         w = start + int(np.argmax(np.abs(rate[start:end + 1])))
         i, j, k = int(idx[start]), int(idx[end]), int(idx[w])
         findings.append(Finding(
-            rule=f"onset {axis}", kind="onset", axis=axis, seat=ctx.seat.seat, case=ctx.case,
+            rule=f"onset {axis}", kind=FindingKind.ONSET, axis=axis, seat=ctx.seat.seat,
+            case=ctx.case,
             t_start=float(ctx.t[i]), t_end=float(ctx.t[j]) + dt,
             duration_s=float(ctx.t[j] - ctx.t[i] + dt), peak_g=float(rate[w]),
             limit_g=float(limit), margin=float(limit - abs(rate[w])), t_worst=float(ctx.t[k]),
@@ -621,7 +701,7 @@ def evaluate_seat(seat, limits: LimitSet, case: str = "nominal",
     findings += uplift_findings(uplift, ctx)
     zones = (seat_zones(filtered[:, 0], filtered[:, 2], t, limits.zones, ctx.s, ctx.position)
              if limits.zones else None)
-    return SeatResult(seat.seat, case, worst, findings,
+    return SeatResult(seat.seat, case, worst, tuple(findings),
                       filtered if keep_signals else None, t if keep_signals else None,
                       uplift, zones, rule_margins(filtered, dt, limits, t, uplift, sustained))
 
@@ -633,5 +713,5 @@ def evaluate(seats, limits: LimitSet, case: str = "nominal",
     made on request by :func:`seat_exposures`."""
     seats = list(seats)
     warnings = check_filter_rate(limits, sample_rate(seats[0].t)) if seats else []
-    return Evaluation(limits, [evaluate_seat(s, limits, case, keep_signals) for s in seats],
-                      warnings)
+    return Evaluation(limits, tuple(evaluate_seat(s, limits, case, keep_signals)
+                                    for s in seats), tuple(warnings))

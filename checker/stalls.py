@@ -14,7 +14,7 @@ import numpy as np
 from .dynamics import attitude
 from .errors import TrainStalled
 from .geometry import TrackGeometry
-from .rules import Finding
+from .rules import Finding, FindingKind
 
 STALL_RULE = "stall"
 
@@ -30,7 +30,7 @@ def stall_findings(stall: TrainStalled, histories, geometry: TrackGeometry, case
         seat_attitude = attitude(float(up[0, 2]))
         position = tuple(float(v) for v in np.asarray(h.position)[-1])
         out.append(Finding(
-            rule=STALL_RULE, kind="stall", axis="", seat=h.seat, case=case,
+            rule=STALL_RULE, kind=FindingKind.STALL, axis="", seat=h.seat, case=case,
             t_start=stall.time_s, t_end=stall.time_s, duration_s=0.0,
             peak_g=stall.speed_m_s, limit_g=0.0, margin=float("nan"), t_worst=stall.time_s,
             s_start_m=stall.station_m, s_worst_m=stall.station_m, s_end_m=stall.station_m,

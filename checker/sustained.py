@@ -102,7 +102,7 @@ def sustained_findings(filtered: np.ndarray, env, duration: tuple[DurationLimit,
     """Findings of one sustained combined envelope for one seat (one per run of samples with
     ratio > 1, at its worst sample) and the per-sample result. ``ctx`` is the rule engine's
     location context."""
-    from .rules import AXIS_INDEX, Finding
+    from .rules import AXIS_INDEX, Finding, FindingKind
 
     ia, ib = AXIS_INDEX[env.axes[0]], AXIS_INDEX[env.axes[1]]
     a, b = filtered[:, ia], filtered[:, ib]
@@ -118,7 +118,8 @@ def sustained_findings(filtered: np.ndarray, env, duration: tuple[DurationLimit,
         reach = float(np.hypot(a[w], b[w]))
         adm = (float(res.admissible_a[w]), float(res.admissible_b[w]))
         findings.append(Finding(
-            rule=f"combined {env.name}", kind="combined", axis=f"{env.axes[0]}+{env.axes[1]}",
+            rule=f"combined {env.name}", kind=FindingKind.COMBINED,
+            axis=f"{env.axes[0]}+{env.axes[1]}",
             seat=ctx.seat.seat, case=ctx.case, t_start=float(ctx.t[start]),
             t_end=float(ctx.t[end]) + dt, duration_s=float(ctx.t[end] - ctx.t[start] + dt),
             peak_g=reach, limit_g=reach / q, margin=100.0 * (1.0 - q), t_worst=float(ctx.t[w]),

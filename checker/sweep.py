@@ -14,25 +14,29 @@ import os
 import pickle
 import sys
 from collections.abc import Callable
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
 from .bounds import share_memory
 from .errors import InputError
+from .events import group_findings
 from .limits import AXES, REST, LimitSet
 from .loadcases import LoadCase, apply_case
 from .operation import Operation
 from .parentwatch import watch_parent
-from .ride import RideOptions, RideResult, layout_geometry, run_check
-from .rules import Evaluation, Finding, evaluate
+from .ride import CheckRun, RideOptions, RideResult, evaluate_ride, layout_geometry, run_check
+from .rules import Evaluation, Finding, verdict_of
 from .terminal import shorten
 from .track import Centerline
 from .train import Train
 
 
-@dataclass
+@dataclass(frozen=True, eq=False)
 class CaseOutcome:
+    """One load case of a sweep: its evaluation (without signals), stall, peaks [g0],
+    top speed [m/s], ride time [s] and track length [m]."""
+
     case: str
     evaluation: Evaluation  # without signals (small enough to travel between processes)
     stall: str | None
@@ -44,12 +48,17 @@ class CaseOutcome:
     # seat -> (SeatResult with filtered signal, raw history): the seats that can govern
     kept: dict = field(default_factory=dict)
 
+    @property
+    def verdict(self) -> str:
+        """The case's verdict (its evaluation counts the stall)."""
+        return self.evaluation.verdict
 
-@dataclass
+
+@dataclass(frozen=True, eq=False)
 class Sweep:
     """Every case of one layout."""
 
-    outcomes: list[CaseOutcome]
+    outcomes: tuple[CaseOutcome, ...]
     limits: LimitSet
     geometry: object | None = None  # checker.geometry.TrackGeometry, built once per layout
 
@@ -60,8 +69,7 @@ class Sweep:
 
     @property
     def verdict(self) -> str:
-        bad = any(o.evaluation.verdict == "fail" or o.stall for o in self.outcomes)
-        return "fail" if bad else "pass"
+        return verdict_of(*(o.verdict == "fail" for o in self.outcomes))
 
     def governing(self) -> list[Finding]:
         """For each rule, the most severe finding (its seat and case govern)."""
@@ -86,22 +94,18 @@ def _run_one(job) -> list[CaseOutcome]:
     run = run_check(centerline, train, operation, limits, options, names[0],
                     keep_signals=True, geometry=geometry)
     ride = run.ride
+    history = {h.seat: h for h in ride.histories}
     outcomes = []
     for k, name in enumerate(names):
-        if k == 0:
-            ev = run.evaluation
-        else:  # same ride, same signals: only the case name differs
-            ev = evaluate(ride.histories, limits, name, keep_signals=True)
-            ev.warnings[:] = list(run.evaluation.warnings)
+        # same ride, same signals: only the case name differs
+        ev = run.evaluation if k == 0 else evaluate_ride(ride, limits, name, keep_signals=True)
         keep = ({s.seat for s in ev.seats} if keep_all and k == 0
                 else _candidates(ev, train.length_m))
-        history = {h.seat: h for h in ride.histories}
         kept = {s.seat: (s, history[s.seat]) for s in ev.seats if s.seat in keep}
         peaks = {s.seat: dict(s.worst) for s in ev.seats}
-        for s in ev.seats:  # the record travels between processes: signals of the rest go
-            if s.seat not in keep:
-                s.filtered = None
-                s.t = None
+        # the record travels between processes: the signals of the other seats go
+        ev = replace(ev, seats=tuple(s if s.seat in keep else s.without_signals()
+                                     for s in ev.seats))
         outcomes.append(CaseOutcome(name, ev, run.stall, peaks, float(ride.motion.v.max()),
                                     ride.motion.duration_s, ride.geometry.length,
                                     ride.motion, kept))
@@ -113,8 +117,6 @@ def _candidates(ev: Evaluation, train_length_m: float) -> set[str]:
     (an event across cases restricted to one case is a union of that case's events, and its
     governor governs there too) and its most severe finding of each rule (ties broken as
     :meth:`Sweep.governing` does); its most stressed seat when it has no finding."""
-    from .events import group_findings
-
     best: dict[str, tuple] = {}
     for f in ev.findings:
         key = (-f.severity, f.seat, f.t_start)
@@ -268,12 +270,8 @@ def peak_summary(sweep: Sweep) -> dict:
 
 def sweep_check_run(sweep: Sweep, centerline: Centerline, train: Train, operation: Operation,
                     limits: LimitSet, options: RideOptions, cases: list[LoadCase]):
-    """A CheckRun of the whole sweep for documents: every seat x case result, with the
-    signals kept by the sweep for the seat and case that govern each event (all seats of the
-    first case when everything passes), so that their figures can be drawn without running
-    a case again."""
-    from .events import group_findings
-    from .ride import CheckRun
+    """A CheckRun of the whole sweep for documents: every seat x case result, with signals
+    recomputed for the governing (seat, case) pairs so that their figures can be drawn."""
 
     by_name = {c.name: c for c in cases}
     outcome_of = {o.case: o for o in sweep.outcomes}
@@ -302,16 +300,7 @@ def sweep_check_run(sweep: Sweep, centerline: Centerline, train: Train, operatio
     for o in sweep.outcomes:
         warnings += [f"case {o.case}: {w}" for w in o.evaluation.warnings]
         for s in o.evaluation.seats:
-            seats_all.append(full.get((s.seat, o.case), _lean(s)))
-    evaluation = Evaluation(limits, seats_all, warnings)
-    stall = "; ".join(f"case {o.case}: {o.stall}" for o in sweep.outcomes if o.stall) or None
-    return CheckRun(evaluation, ride, signals, [], stall)
-
-
-def _lean(result):
-    """A seat result without its signals (only the drawn seats keep theirs)."""
-    if result.filtered is None:
-        return result
-    from dataclasses import replace
-
-    return replace(result, filtered=None, t=None)
+            seats_all.append(full.get((s.seat, o.case), s.without_signals()))
+    stalls = tuple(f"case {o.case}: {s}" for o in sweep.outcomes for s in o.evaluation.stalls)
+    evaluation = Evaluation(limits, tuple(seats_all), tuple(warnings), stalls)
+    return CheckRun(evaluation, ride, signals)

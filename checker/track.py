@@ -16,6 +16,7 @@ from .csvtable import read_numeric_csv
 from .errors import InputError
 
 FOOT_M = 0.3048  # international foot [m], exact by definition (1959 agreement)
+UP_ALONG_TANGENT_DEG = 5.0  # an up vector within this of the tangent is refused
 KINK_LIMIT_DEG = 45.0  # turn between successive chords that no track makes between samples
 MIN_CHORD_M = 1e-6
 MAX_COORDINATE_M = 1e6  # no layout reaches 1000 km from its origin
@@ -123,7 +124,7 @@ def validate_centerline(line: Centerline) -> Centerline:
         tangent /= np.linalg.norm(tangent, axis=1)[:, None]
         unit_up = line.up / norms[:, None]
         along = np.abs(np.einsum("ij,ij->i", unit_up, tangent))
-        parallel = np.flatnonzero(along > np.cos(np.radians(5.0)))
+        parallel = np.flatnonzero(along > np.cos(np.radians(UP_ALONG_TANGENT_DEG)))
         if parallel.size:
             raise InputError(path, "up vector is (nearly) parallel to the track tangent",
                              "the up vector must point away from the rails, across the track",

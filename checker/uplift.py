@@ -194,7 +194,7 @@ def seat_uplift(gz: np.ndarray, t: np.ndarray, station: np.ndarray | None,
 def uplift_findings(summary: UpliftSummary, ctx) -> list:
     """One finding per flight higher than the free travel (peak and limit in metres).
     ``ctx`` is the rule engine's location context."""
-    from .rules import Finding
+    from .rules import Finding, FindingKind
 
     out = []
     for e in summary.exceeding:
@@ -203,7 +203,7 @@ def uplift_findings(summary: UpliftSummary, ctx) -> list:
         start = min(start, len(ctx.t) - 1)
         end = min(max(int(np.searchsorted(ctx.t, e.t_end)) - 1, worst), len(ctx.t) - 1)
         out.append(Finding(
-            rule="uplift free travel", kind="uplift", axis="gz", seat=ctx.seat.seat,
+            rule="uplift free travel", kind=FindingKind.UPLIFT, axis="gz", seat=ctx.seat.seat,
             case=ctx.case, t_start=e.t_start, t_end=e.t_end, duration_s=e.duration_s,
             peak_g=e.peak_m, limit_g=float(summary.free_travel_m),
             margin=float(summary.free_travel_m) - e.peak_m, t_worst=e.t_peak,

@@ -248,7 +248,7 @@ def test_signal_between_the_renames_is_held_until_the_pair_is_whole(tmp_path, ca
 def test_swallowed_interrupt_still_exits_130_and_writes_nothing(tmp_path, capsys,
                                                                  monkeypatch):
     """A library that catches KeyboardInterrupt cannot turn an interrupted run into 0."""
-    import checker.rules as rules
+    import checker.application as rules  # the application layer calls the rule engine
 
     real = rules.evaluate
 
@@ -362,7 +362,7 @@ def test_huge_project_name_is_shortened_in_the_report_and_kept_in_the_json(tmp_p
 
 def test_internal_error_is_exit_3_with_one_line_and_traceback_only_with_debug(
         capsys, monkeypatch):
-    import checker.rules as rules
+    import checker.application as rules  # the application layer calls the rule engine
 
     def broken(*args, **kwargs):
         raise RuntimeError("injected\nsecond line")

@@ -19,7 +19,7 @@ from shapes import (
 from checker.dynamics import simulate_motion
 from checker.geometry import build_geometry
 from checker.kinematics import seat_specific_force
-from checker.operation import Operation, Section
+from checker.operation import Lift, Operation
 from checker.ride import RideOptions, run_ride
 from checker.track import Centerline
 from checker.train import Seat, Train, ideal_rider
@@ -55,7 +55,7 @@ def test_loop_the_loop_6g_bottom_0g_top():
 
 def test_energy_conservation_frictionless():
     # Conservation of mechanical energy: v(s) = sqrt(v0^2 + 2 g0 (z0 - z(s))).
-    geometry = build_geometry(rolling_hills())
+    geometry = build_geometry(rolling_hills(), step_m=0.1)  # Heun: error ~ step^2
     v0 = 20.0
     motion = simulate_motion(geometry, ideal_rider(), Operation(start_speed_m_s=v0))
     (pos,) = geometry.sample(motion.s, "position")
@@ -202,7 +202,7 @@ def test_rider_at_rest_reads_one_g():
 def test_constant_speed_lift_reads_one_g_on_level_track():
     # A lift holds the speed: no tangential acceleration, so a level seat reads (0, 0, 1).
     result = ride(straight(100.0), start_speed=3.0,
-                  sections=[Section("lift", 0.0, 100.0, speed_m_s=3.0)],
+                  sections=[Lift(0.0, 100.0, speed_m_s=3.0)],
                   train=Train(rolling_coefficient=0.02))
     h = result.histories[0]
     inside = interior(h, result.geometry.length)

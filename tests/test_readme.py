@@ -58,3 +58,27 @@ def test_readme_load_cases_example_loads(tmp_path):
     cases = next(b for b in blocks("toml") if "[[case]]" in b)
     (tmp_path / "cases.toml").write_text(cases)
     assert load_cases(tmp_path / "cases.toml")[0].name == "warm-afternoon"
+
+
+def test_readme_python_example_runs_outside_the_checkout(tmp_path):
+    import hashlib
+    import json
+    import os
+    import subprocess
+    import sys
+
+    code = next(b for b in blocks("python") if "check_layout" in b)
+    root = Path(__file__).resolve().parents[1]
+    env = {**os.environ, "PYTHONPATH": str(root)}
+    done = subprocess.run([sys.executable, "-c", code], cwd=tmp_path, env=env,
+                          capture_output=True, text=True, timeout=600)
+    assert done.returncode == 0, done.stderr
+    assert (tmp_path / "revB.pdf").read_bytes().startswith(b"%PDF")
+    doc = json.loads((tmp_path / "revB.json").read_text())
+    assert doc["verdict"] == "pass" and doc["command"].startswith("checker.check_layout(")
+    names = {Path(item["file"]).name for item in doc["inputs"]}
+    assert {"thistle_comet_revB.csv", "thistle_comet_train.toml",
+            "thistle_comet_revB.operation.toml", "illustrative.toml"} <= names
+    for item in doc["inputs"]:  # every file's SHA-256, as hashlib computes it
+        assert item["sha256"] == hashlib.sha256(Path(item["file"]).read_bytes()).hexdigest()
+        assert item["sha256"] in done.stdout

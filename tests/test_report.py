@@ -2,17 +2,18 @@
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 import numpy as np
 import pytest
 from pypdf import PdfReader
 
+from checker.application import Labels, LayoutCheck, Provenance, _layout_check, _record
 from checker.conditioning import FilterSpec
 from checker.documents import BUNDLED_LIMITS
 from checker.history import RecordedSignal
 from checker.limits import DurationLimit, LimitSet, OnsetLimit, sha256_of
-from checker.report import ReportMeta, write_report
 from checker.report import pdf as pdf_module
-from checker.ride import CheckRun
 from checker.rules import Finding, evaluate
 
 RATE = 100.0
@@ -26,7 +27,8 @@ def pdf_text(path) -> str:
     return " ".join(" ".join(pdf_lines(path)).split())
 
 
-def pulse_run(level: float, inputs=()) -> CheckRun:
+def pulse_run(level: float, inputs=(), labels: Labels | None = None,
+              call: str = "checker check x", findings=None) -> LayoutCheck:
     t = np.arange(int(20 * RATE)) / RATE
     g = np.zeros((len(t), 3))
     g[:, 2] = 1.0
@@ -36,18 +38,20 @@ def pulse_run(level: float, inputs=()) -> CheckRun:
                       (DurationLimit("gz", 1, np.array([0.0, 2.0]), np.array([4.0, 3.0])),),
                       (), (OnsetLimit("gz", 50.0),), path="limits.toml", sha256="ab" * 32)
     ev = evaluate([sig], limits)
-    return CheckRun(ev, None, {("seatA", "nominal"): sig}, list(inputs))
+    if findings is not None:
+        ev = replace(ev, seats=(replace(ev.seats[0], findings=tuple(findings)),))
+    return _layout_check(ev, {("seatA", "nominal"): sig}, None, None, labels or Labels(),
+                         Provenance(_record(*inputs), (), call))
 
 
 def test_failing_report_shows_verdict_caution_findings_and_hashes(tmp_path):
     track = tmp_path / "track.csv"
     track.write_text("x,y,z\n0,0,0\n")
     inputs = [(str(track), sha256_of(track)), (str(BUNDLED_LIMITS), sha256_of(BUNDLED_LIMITS))]
-    run = pulse_run(3.6, inputs)
+    run = pulse_run(3.6, [track, BUNDLED_LIMITS], Labels("Proj", "L1", "R7"))
     assert run.evaluation.verdict == "fail"
     out = tmp_path / "r.pdf"
-    write_report(run, out, ReportMeta(project="Proj", layout="L1", revision="R7",
-                                      inputs=inputs, command="checker check x"), None)
+    run.write_pdf(out)
     text = pdf_text(out)
     assert "FAIL" in text
     assert "not a certification" in text and "authority having" in text
@@ -64,22 +68,20 @@ def test_passing_report_has_no_finding_rows(tmp_path):
     run = pulse_run(2.0)
     assert run.evaluation.verdict == "pass"
     out = tmp_path / "ok.pdf"
-    write_report(run, out, ReportMeta(), None)
+    run.write_pdf(out)
     text = pdf_text(out)
     assert "PASS" in text and "No finding" in text
     assert "duration +Gz" not in text.split("Appendix A")[0]
 
 
 def test_five_hundred_findings_all_rendered(tmp_path):
-    run = pulse_run(2.0)
-    seat = run.evaluation.seats[0]
-    seat.findings = [Finding("duration +Gz", "duration", "gz", "seatA", "nominal",
-                             float(i), float(i) + 0.5, 0.5, 4.5, 4.0, -0.5 - i * 1e-4,
-                             float(i)) for i in range(500)]
+    run = pulse_run(2.0, findings=[
+        Finding("duration +Gz", "duration", "gz", "seatA", "nominal", float(i),
+                float(i) + 0.5, 0.5, 4.5, 4.0, -0.5 - i * 1e-4, float(i)) for i in range(500)])
     out = tmp_path / "many.pdf"
-    write_report(run, out, ReportMeta(), None)
+    run.write_pdf(out)
     lines = [" ".join(line.split()) for line in pdf_lines(out)]
-    rows = [line for line in lines if "duration +Gz seatA nominal" in line]
+    rows = [line for line in lines if "duration +Gz seatA" in line]  # recorded: no case column
     assert len(rows) == 500
     numbers = sorted(int(line.split()[0]) for line in rows)
     assert numbers == list(range(1, 501))
@@ -94,10 +96,10 @@ def test_user_text_cannot_reach_files(tmp_path, monkeypatch):
         return original(self, url, headers)
 
     monkeypatch.setattr(pdf_module.TemplatesOnlyFetcher, "fetch", spy)
-    run = pulse_run(3.6)
     evil = '<img src="file:///etc/passwd"><link rel=stylesheet href="http://example.com/x.css">'
+    run = pulse_run(3.6, labels=Labels(project=evil, layout=evil))
     out = tmp_path / "evil.pdf"
-    write_report(run, out, ReportMeta(project=evil, layout=evil), None)
+    run.write_pdf(out)
     text = pdf_text(out)
     assert 'src="file:///etc/passwd"' in text.replace(" ", "")  # shown as text
     assert not any("passwd" in u or "example.com" in u for u in seen)
@@ -119,7 +121,7 @@ def test_failed_rendering_leaves_previous_report_whole(tmp_path, monkeypatch):
 
     monkeypatch.setattr("checker.report.render_pdf", broken)
     with pytest.raises(RuntimeError):
-        write_report(pulse_run(3.6), out, ReportMeta(), None)
+        pulse_run(3.6).write_pdf(out)
     assert out.read_bytes() == b"%PDF previous"
     assert (tmp_path / "r.json").read_text() == "previous"
     assert not list(tmp_path.glob("*.part"))
@@ -127,7 +129,7 @@ def test_failed_rendering_leaves_previous_report_whole(tmp_path, monkeypatch):
 
 def test_letter_page_size(tmp_path):
     out = tmp_path / "letter.pdf"
-    write_report(pulse_run(2.0), out, ReportMeta(page_size="letter"), None)
+    pulse_run(2.0, labels=Labels(page_size="letter")).write_pdf(out)
     box = PdfReader(str(out)).pages[0].mediabox
     # US Letter is 8.5 x 11 in = 612 x 792 pt (ANSI/ASME Y14.1)
     assert (round(float(box.width)), round(float(box.height))) == (612, 792)

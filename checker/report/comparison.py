@@ -7,9 +7,11 @@ import datetime as _dt
 import numpy as np
 
 from .. import __version__
-from ..compare import MATCH_DISTANCE_M, MATCH_FRACTION, Comparison
-from ..documents import CAUTION, margin_text
+from ..caution import CAUTION, CAUTION_SHORT
+from ..compare import MATCH_DISTANCE_M, MATCH_FRACTION, ChangeState, Comparison
+from ..documents import margin_text
 from ..rules import seat_exposures
+from ..terminal import shorten
 from . import figures
 from .document import PAGE_SIZES, _env, _fmt
 from .pdf import ASSET_SCHEME, TemplatesOnlyFetcher, render_pdf
@@ -70,16 +72,16 @@ def comparison_pdf(comparison: Comparison, focus: dict, meta: dict) -> bytes:
         rows.setdefault(p["seat"], []).append(
             f"{p['old']:.2f} &rarr; {p['new']:.2f} ({p['change']:+.2f})")
     peaks = [{"seat": seat, "cells": cells} for seat, cells in rows.items()]
-    counts = {k: comparison.count(k) for k in ("new", "worse", "gone", "better", "same")}
+    counts = {k.value: comparison.count(k) for k in ChangeState}
     css = env.get_template("report.css").render(
         page_size=PAGE_SIZES[meta.get("page_size", "a4")],
-        footer_left="checker self-check - not a certification or an approval")
+        footer_left=f"checker: {CAUTION_SHORT}")
     limits = meta["limits"]
     html = env.get_template("compare.html.j2").render(
         css=css, project=meta["project"], old_name=meta["old_name"],
         new_name=meta["new_name"], date=_dt.date.today().isoformat(), version=__version__,
         limits_title=limits.title, illustrative=limits.illustrative, cases=meta["cases"],
-        caution=CAUTION, old_verdict=comparison.old_verdict,
+        caution=CAUTION, caution_short=CAUTION_SHORT, old_verdict=comparison.old_verdict,
         new_verdict=comparison.new_verdict, regressed=comparison.regressed, counts=counts,
         stalls=meta.get("stalls", []), changes=changes, peaks=peaks, elevations=elevations,
         focus_seat=focus["seat"], focus_case=focus["case"], histories=histories,
@@ -87,3 +89,37 @@ def comparison_pdf(comparison: Comparison, focus: dict, meta: dict) -> bytes:
         command=meta["command"], match_distance=f"{MATCH_DISTANCE_M:g}",
         match_fraction=f"{MATCH_FRACTION:g}")
     return render_pdf(html, TemplatesOnlyFetcher(assets=assets))
+
+
+def comparison_report_pdf(result) -> bytes:
+    """The PDF bytes of a revision comparison.
+
+    Parameters
+    ----------
+    result : checker.application.LayoutComparison
+        A finished comparison made with its focus signals (``plot_signals=True``).
+
+    Returns
+    -------
+    bytes
+        The PDF, rendered in memory (nothing is written).
+
+    Raises
+    ------
+    ValueError
+        When the comparison was made without the signals its figures need.
+    """
+    focus = result.focus
+    if focus is None:
+        raise ValueError("this comparison was made with plot_signals=False; it has no "
+                         "signals to draw")
+    return comparison_pdf(result.comparison, {
+        "seat": focus.seat, "case": focus.case,
+        "old": (focus.old, None, focus.old_ride),
+        "new": (focus.new, focus.new_signal, focus.new_ride)}, {
+        "project": shorten(result.labels.project, 200), "old_name": result.old_name,
+        "new_name": result.new_name, "limits": result.limits,
+        "cases": ", ".join(result.cases),
+        "inputs": [(f.path, f.sha256) for f in result.provenance.inputs],
+        "command": shorten(result.provenance.call, 4000), "page_size": result.labels.page_size,
+        "stalls": list(result.new_stalls)})

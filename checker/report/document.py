@@ -7,14 +7,15 @@ from __future__ import annotations
 
 import datetime as _dt
 import os
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
 import jinja2
 import numpy as np
 
 from .. import __version__
+from ..caution import CAUTION, CAUTION_SHORT
 from ..conditioning import onset_rate
-from ..documents import CAUTION, MARGIN_CONVENTION, STATION_NOTE, margin_text, with_unit
+from ..documents import MARGIN_CONVENTION, STATION_NOTE, margin_text, with_unit
 from ..events import Event, event_of_finding, explain_events, group_findings
 from ..limits import AXES, REST, contains
 from ..rules import Evaluation, seat_exposures
@@ -25,20 +26,57 @@ from .pdf import ASSET_SCHEME, TEMPLATES
 PAGE_SIZES = {"a4": "A4", "letter": "letter"}
 
 
-@dataclass
+METHOD = [
+    "Geometry: the centerline samples are joined by a degree-5 B-spline (scipy), "
+    "parameterized by chord length and re-sampled by arc length on a uniform station grid. "
+    "Tangent and curvature come from the spline's derivatives. The rider frame follows ISO "
+    "8855 (x forward, y left, z up through the spine); roll 0 is world up projected normal "
+    "to the tangent, its sign kept continuous, and carried across near-vertical tangents by "
+    "a rotation-minimizing frame (double reflection) with a smooth bridge.",
+    "Dynamics: all cars share one speed. The specific kinetic energy v^2/2 is integrated "
+    "against the lead car's station (Heun's method) with gravity at each car's own station, "
+    "rolling resistance proportional to each car's wheel load (including v^2 times "
+    "curvature), aerodynamic drag 0.5 rho CdA v^2 on the air speed, and the powered "
+    "sections (lift, launch, brakes) as clamps of the speed.",
+    "Rider signals: each seat is a fixed offset from its car's reference point; its "
+    "acceleration is the second time derivative of that point's path, including the frame's "
+    "rotation (rigid-body kinematics). The reported value is specific force a - g in rider "
+    "axes, in units of g0 = 9.80665 m/s^2: a rider at rest in a level seat reads Gz = +1.",
+    "Rules: signals are filtered as the limit set states. Duration limits compare the "
+    "exposure curve (for every duration, the highest level sustained at least that long) "
+    "with the limit curve; combined-axis limits test each filtered sample against the "
+    "envelope; onset limits compare the rate of change of the filtered signal.",
+]
+
+
+@dataclass(frozen=True)
 class ReportMeta:
+    """What the report says about the run besides its findings.
+
+    Attributes
+    ----------
+    project, layout, revision : labels printed on the title page.
+    page_size : ``"a4"`` or ``"letter"``.
+    command : the call that reproduces the report.
+    inputs : (file, SHA-256) of every input file.
+    parameters : (name, value with unit) of every parameter.
+    method : paragraphs of the method section.
+    stall : where the train stopped short, or None.
+    date : ISO date printed on the report (default today).
+    sweep : :class:`checker.sweep.Sweep` to add the governing and matrix tables, or None.
+    """
+
     project: str = "(not given)"
     layout: str = "(not given)"
     revision: str = "(not given)"
     page_size: str = "a4"
     command: str = "checker"
-    inputs: list[tuple[str, str]] = field(default_factory=list)
-    parameters: list[tuple[str, str]] = field(default_factory=list)
-    method: list[str] = field(default_factory=list)
-    review_items: list[str] = field(default_factory=list)
+    inputs: tuple[tuple[str, str], ...] = ()
+    parameters: tuple[tuple[str, str], ...] = ()
+    method: tuple[str, ...] = tuple(METHOD)
     stall: str | None = None
     date: str = ""
-    sweep: object | None = None  # checker.sweep.Sweep: adds the governing and matrix tables
+    sweep: object | None = None
     seat_pages: str = "governing"  # "all", "governing" (and seats that differ) or "none"
     recorded: bool = False  # a recorded history: measured-data method and caution
     sensitivity: object | None = None  # checker.sensitivity.Sensitivity: its table and figure
@@ -215,7 +253,7 @@ def _sweep_context(sweep) -> dict | None:
     seats, cases, cells = sweep.matrix()
     return {
         "cases": [{"n": i + 1, "name": o.case, "findings": len(o.evaluation.findings),
-                   "verdict": ("stall" if o.stall else o.evaluation.verdict),
+                   "verdict": ("stall" if o.stall else o.verdict),
                    "stall": o.stall or "", "top": f"{o.top_speed_m_s:.2f}"}
                   for i, o in enumerate(sweep.outcomes)],
         "matrix": [{"seat": s, "cells": [cells[(s, c)] for c in cases]} for s in seats],
@@ -399,7 +437,7 @@ def build_html(evaluation: Evaluation, signals: dict, ride, meta: ReportMeta,
     delays = [f.group_delay_s for f in findings if f.kind != "stall"]
     css = env.get_template("report.css").render(
         page_size=PAGE_SIZES[meta.page_size],
-        footer_left="checker self-check - not a certification or an approval")
+        footer_left=f"checker: {CAUTION_SHORT}")
     stall_messages = []
     for e in events:
         if e.kind == "stall":
@@ -410,12 +448,13 @@ def build_html(evaluation: Evaluation, signals: dict, ride, meta: ReportMeta,
         title=f"Self-check {meta.layout}", css=css, project=meta.project, layout=meta.layout,
         revision=meta.revision, date=meta.date or _dt.date.today().isoformat(),
         version=__version__, limits=_limits_context(limits), caution=CAUTION,
+        caution_short=CAUTION_SHORT,
         verdict=evaluation.verdict, events=event_rows, findings=rows,
         finding_count=len(findings), seat_count=len(seat_names), case_count=len(case_names),
-        seat_rows=seat_rows, review_items=list(evaluation.warnings) + meta.review_items,
+        seat_rows=seat_rows, review_items=list(evaluation.warnings),
         stats=ride_statistics(ride, evaluation), worst=_worst_rows(evaluation, signals),
         layout_svg=layout_svg, station_every=station_every, seat_sections=sections,
-        seat_pages=meta.seat_pages, method=meta.method, parameters=meta.parameters,
+        seat_pages=meta.seat_pages, method=list(meta.method), parameters=list(meta.parameters),
         inputs=[{"file": f, "sha256": h} for f, h in meta.inputs], command=meta.command,
         stalls=stall_messages, sweep=_sweep_context(meta.sweep), recorded=meta.recorded,
         margin_convention=MARGIN_CONVENTION, station_note=STATION_NOTE,

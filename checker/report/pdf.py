@@ -32,7 +32,6 @@ class TemplatesOnlyFetcher(URLFetcher):
         super().__init__(allowed_protocols={"file", ASSET_SCHEME}, allow_redirects=False)
         self.root = Path(root).resolve()
         self.assets = assets or {}
-        self.refused: list[str] = []
 
     def fetch(self, url, headers=None):  # noqa: D401 - weasyprint's signature
         if url.startswith(ASSET_SCHEME + ":") and url[len(ASSET_SCHEME) + 1:] in self.assets:
@@ -44,7 +43,6 @@ class TemplatesOnlyFetcher(URLFetcher):
             if path.is_file() and self.root in path.parents:
                 kind = mimetypes.guess_type(path.name)[0] or "application/octet-stream"
                 return URLFetcherResponse(url, path.read_bytes(), {"Content-Type": kind})
-        self.refused.append(url)
         raise ValueError(f"refused to fetch {url!r}: reports use only their own templates")
 
 

@@ -1,0 +1,1052 @@
+"""The operations a user runs, one function each, for the command line and for Python.
+
+:func:`check_layout`, :func:`check_history`, :func:`compare_layouts`, :func:`run_demo` (and
+:func:`simulate_ride`) load and validate their files, run the physics and the rules once, and
+return one frozen result carrying everything the documents need: the verdict, the findings
+(and the events grouped from them), the signals to plot, the input files with their SHA-256,
+every parameter, the tool version and the call that reproduces the result. A result writes
+its own JSON and PDF (:meth:`LayoutCheck.write_json`, :meth:`LayoutCheck.write_pdf`); the PDF
+always comes with its JSON sidecar. Nothing changes a result after it is made, and the
+document stage never runs physics again.
+
+The PDF room (matplotlib, weasyprint) loads on the first PDF written; see :func:`_report`.
+"""
+
+from __future__ import annotations
+
+import inspect
+import shlex
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass, replace
+from pathlib import Path
+from types import MappingProxyType
+
+from . import __version__
+from .aids import aids_summary
+from .caution import CAUTION
+from .compare import ChangeState, Comparison, compare_sweeps
+from .documents import (
+    BUNDLED_LIMITS,
+    change_text,
+    comparison_document,
+    evaluation_document,
+    summary_table,
+    sweep_document,
+    sweep_tables,
+    to_json,
+)
+from .errors import InputError
+from .events import events_of_run
+from .geometry import STATION_STEP_M
+from .history import load_record
+from .instrument import load_instrument
+from .limits import LimitSet, load_limits, sha256_of
+from .loadcases import STANDARD_CASES, LoadCase, apply_case, load_cases
+from .outputs import atomic_write_text, check_writable, commit
+from .paths import report_sidecar
+from .plausibility import filter_warnings, history_warnings
+from .resources import demo_folder
+from .ride import (
+    CheckRun,
+    RideOptions,
+    RideResult,
+    histories_frame,
+    load_inputs,
+    ride_parameters,
+    run_check,
+    run_ride,
+)
+from .rules import Evaluation, Finding, SeatResult, Verdict, evaluate
+from .sweep import Sweep, run_cases, run_layouts, sweep_check_run
+
+Progress = Callable[[int, int], None]
+
+DEMO_PROJECT = "Marrowvale Pleasure Gardens (fictional demo park)"
+DEMO_LAYOUT = "Thistle Comet (fictional demo layout)"
+DEMO_REVISIONS = (("A", "circular loop"), ("B", "teardrop loop"))
+
+
+# ---------------------------------------------------------------------------------------------
+# What every result carries
+
+
+@dataclass(frozen=True)
+class InputFile:
+    """One input file as recorded: its path as given and the SHA-256 of its bytes."""
+
+    path: str
+    sha256: str
+
+
+@dataclass(frozen=True)
+class Provenance:
+    """What made a result, for the record.
+
+    Attributes
+    ----------
+    inputs : every input file with its SHA-256 (track, train, operation, cases, limits and
+        the tables the limits name).
+    parameters : (name, value with unit) of every parameter of the run.
+    call : the call that reproduces the result: a shell-quoted command line when made by the
+        command line, a Python call when made from Python.
+    version : the tool's version.
+    """
+
+    inputs: tuple[InputFile, ...]
+    parameters: tuple[tuple[str, str], ...]
+    call: str
+    version: str = __version__
+
+
+@dataclass(frozen=True)
+class Labels:
+    """Names printed on the documents (they change no number)."""
+
+    project: str = "(not given)"
+    layout: str = "(not given)"
+    revision: str = "(not given)"
+    page_size: str = "a4"
+    seat_pages: str = "governing"  # seat pages of figures: "all", "governing" or "none"
+
+
+def _record(*paths: str | Path | None) -> tuple[InputFile, ...]:
+    return tuple(InputFile(str(p), sha256_of(p)) for p in paths if p is not None)
+
+
+def _limit_files(limits: LimitSet) -> tuple[InputFile, ...]:
+    return tuple(InputFile(f, h) for f, h in limits.files)
+
+
+def _python_call(function: Callable, arguments: Mapping) -> str:
+    """``checker.NAME(...)`` with the arguments that differ from their defaults."""
+    parts = []
+    for name, param in inspect.signature(function).parameters.items():
+        if name in ("call", "progress") or name not in arguments:
+            continue
+        value = arguments[name]
+        value = str(value) if isinstance(value, Path) else value
+        if param.kind is param.POSITIONAL_OR_KEYWORD and param.default is param.empty:
+            parts.append(repr(value))
+        elif value != param.default:
+            parts.append(f"{name}={value!r}")
+    return f"checker.{function.__name__}({', '.join(parts)})"
+
+
+def _write_pair(pdf_path: str | Path, pdf: Callable[[], bytes], json_path: str | Path | None,
+                json_text: str) -> tuple[Path, Path]:
+    """Render in memory first, then write the PDF and its JSON sidecar together (both or
+    neither, :func:`checker.outputs.commit`)."""
+    pdf_path = check_writable(pdf_path)
+    json_path = check_writable(report_sidecar(pdf_path, json_path))
+    pdf_bytes = pdf()
+    commit({json_path: json_text.encode("utf-8"), pdf_path: pdf_bytes})
+    return pdf_path, json_path
+
+
+def _report():
+    """The PDF room (matplotlib, jinja2, weasyprint), loaded on the first PDF written."""
+    from . import report
+
+    return report
+
+
+def _limits(limits: str | Path | None) -> LimitSet:
+    return load_limits(BUNDLED_LIMITS if limits is None else limits)
+
+
+def _cases(cases: str | Path | None) -> tuple[Path | None, list[LoadCase]]:
+    """The cases file (``"standard"`` names the shipped set) and its cases."""
+    if cases is None:
+        return None, [LoadCase("nominal")]
+    path = STANDARD_CASES if str(cases) == "standard" else Path(cases)
+    return path, load_cases(path)
+
+
+def _check_cases_fit(cases: list[LoadCase], cases_file: Path, train, operation,
+                     options: RideOptions) -> None:
+    """Fail early, naming the cases file, on a case that does not fit the train."""
+    for i, case in enumerate(cases):
+        try:
+            apply_case(train, operation, options, case)
+        except InputError as exc:
+            raise InputError(cases_file, exc.problem, exc.hint,
+                             key=f"case[{i + 1}].occupancy") from None
+
+
+def group_events(evaluation: Evaluation, ride: RideResult | None) -> tuple:
+    """The events of a check: findings grouped by place and time, explained
+    (:func:`checker.events.events_of_run`).
+
+    Parameters
+    ----------
+    evaluation : the rules' outcome.
+    ride : the simulated ride (places and sections), or None for a recorded history.
+
+    Returns
+    -------
+    tuple of checker.events.Event
+        The events, most severe first.
+    """
+    return tuple(events_of_run(evaluation, ride))
+
+
+# ---------------------------------------------------------------------------------------------
+# check and check-history
+
+
+@dataclass(frozen=True, eq=False)
+class LayoutCheck:
+    """A layout (or a recorded history) checked against a limit set: everything the
+    documents need, made once.
+
+    Attributes
+    ----------
+    evaluation : every seat (and load case) against every rule, with warnings and stalls.
+    events : findings grouped into events (see :func:`group_events`).
+    signals : {(seat, case): raw signal} for the figures [g0] (read-only).
+    ride : the simulated ride (geometry, motion) for the layout views, or None for a history.
+    sweep : every load case's outcome when load cases were run, else None.
+    labels : project, layout, revision and page size for the documents.
+    provenance : input files with SHA-256, parameters, tool version, reproducing call.
+    sensitivity : the parameter sensitivity of each rule's margin when asked for, else None.
+    """
+
+    evaluation: Evaluation
+    events: tuple
+    signals: Mapping
+    ride: RideResult | None
+    sweep: Sweep | None
+    labels: Labels
+    provenance: Provenance
+    sensitivity: object | None = None  # checker.sensitivity.Sensitivity when asked for
+
+    @property
+    def verdict(self) -> Verdict:
+        """FAIL when any rule is exceeded at any seat in any case, or the train stalls; else
+        PASS."""
+        return self.evaluation.verdict
+
+    @property
+    def findings(self) -> list[Finding]:
+        """Every finding, the most severe first."""
+        return self.evaluation.findings
+
+    @property
+    def warnings(self) -> tuple[str, ...]:
+        """Plausibility and sampling warnings (the run went on)."""
+        return self.evaluation.warnings
+
+    @property
+    def stall(self) -> str | None:
+        """Where the train stopped short of the end (every case that stalled), or None."""
+        return "; ".join(self.evaluation.stalls) or None
+
+    @property
+    def limits(self) -> LimitSet:
+        """The limit set checked against."""
+        return self.evaluation.limits
+
+    def summary(self) -> str:
+        """The terminal summary: a line per seat, the load-case tables, notes and caution."""
+        lines = [summary_table(self.evaluation, list(self.events)),
+                 aids_summary(self.evaluation, self.sensitivity)]
+        if self.sweep is not None:
+            lines.append(sweep_tables(self.sweep))
+        if self.limits.illustrative:
+            lines.append("note: the limit set is ILLUSTRATIVE; the verdict says nothing about "
+                         "compliance")
+        lines.append("caution: " + CAUTION)
+        return "\n".join(lines)
+
+    def document(self) -> dict:
+        """The JSON record (a dict of plain values, floats to 6 significant digits)."""
+        extra = {"stall": self.stall,
+                 "parameters": [{"name": n, "value": v} for n, v in self.provenance.parameters]}
+        if self.sweep is not None:
+            extra.update(sweep_document(self.sweep))
+        if self.sensitivity is not None:
+            extra["sensitivity"] = self.sensitivity.to_dict()
+        return evaluation_document(self.evaluation,
+                                   [(f.path, f.sha256) for f in self.provenance.inputs],
+                                   self.provenance.call, extra, list(self.events))
+
+    def write_json(self, path: str | Path) -> Path:
+        """Write the JSON record atomically.
+
+        Parameters
+        ----------
+        path : where to write it.
+
+        Returns
+        -------
+        Path
+            The path written.
+
+        Raises
+        ------
+        InputError
+            When the output's folder does not exist or the path is a folder.
+        """
+        return atomic_write_text(check_writable(path), to_json(self.document()))
+
+    def write_pdf(self, path: str | Path,
+                  json_path: str | Path | None = None) -> tuple[Path, Path]:
+        """Write the PDF report and its JSON sidecar, as a pair.
+
+        Parameters
+        ----------
+        path : where to write the PDF.
+        json_path : where to write the JSON sidecar (default: beside the PDF, ``.json``).
+
+        Returns
+        -------
+        tuple of Path
+            The PDF and the JSON written.
+
+        Raises
+        ------
+        InputError
+            When an output's folder does not exist or a path is a folder; nothing is
+            written then.
+        """
+        return _write_pair(path, lambda: _report().check_report_pdf(self), json_path,
+                           to_json(self.document()))
+
+
+def check_layout(track: str | Path, *, train: str | Path | None = None, ideal: bool = False,
+                 operation: str | Path | None = None, start_speed_m_s: float | None = None,
+                 limits: str | Path | None = None, cases: str | Path | None = None,
+                 case: str = "nominal", rate_hz: float = 200.0, units: str = "m",
+                 smoothing_m: float | None = None, step_m: float = STATION_STEP_M,
+                 sensitivity: bool = False, project: str = "(not given)",
+                 layout: str | None = None, revision: str = "(not given)",
+                 page_size: str = "a4", seat_pages: str = "governing",
+                 workers: int | None = None, scheduler: str | None = None,
+                 scheduler_timeout_s: float = 30.0, progress: Progress | None = None,
+                 call: str | None = None) -> LayoutCheck:
+    """Simulate a layout and check every seat against a limit set.
+
+    Parameters
+    ----------
+    track : centerline CSV (x, y, z [m or ft]; optional roll_deg or up_x, up_y, up_z).
+    train : train TOML; None (or ``ideal=True``) gives one rider on the centerline with no
+        rolling resistance and no drag.
+    ideal : force the ideal single rider even when ``train`` is given.
+    operation : operation TOML (start speed, lifts, launches, brakes); None = free rolling.
+    start_speed_m_s : speed at the start [m/s]; overrides the operation file.
+    limits : limits TOML; None uses the bundled ILLUSTRATIVE set.
+    cases : load-case TOML, or ``"standard"`` for the shipped set; None runs one case.
+    case : name of the single load case when ``cases`` is None.
+    rate_hz : output sample rate [Hz].
+    units : ``"m"`` or ``"ft"``, the track file's length unit.
+    smoothing_m : RMS tolerance for fitting noisy CAD samples [m]; 0 fits through every
+        sample; None: half the grid a rounded file's coordinates sit on.
+    step_m : station grid step of the simulation [m].
+    sensitivity : also rank how the ride's parameters move each rule's margin (16 more runs;
+        not with ``cases``).
+    project, layout, revision, page_size : labels for the documents (``layout`` defaults to
+        the track file's name; ``page_size`` is ``"a4"`` or ``"letter"``).
+    seat_pages : seat pages of figures in the PDF: ``"governing"`` (the governing seat of
+        each event and seats that differ), ``"all"`` (every seat with a finding) or
+        ``"none"``.
+    workers : local worker processes for the load cases (default: all cores).
+    scheduler : a Dask scheduler address (``tcp://host:port``) to run the cases on.
+    scheduler_timeout_s : how long to wait for the scheduler and its first worker [s].
+    progress : called with (done, total) as load cases finish.
+    call : the call to record as reproducing the result (the command line passes its own);
+        default: this Python call.
+
+    Returns
+    -------
+    LayoutCheck
+        The frozen result; a stall fails the verdict and is carried, not raised.
+
+    Raises
+    ------
+    InputError
+        For a bad or missing input file (naming the file, row or key, and what to do).
+    """
+    call = call or _python_call(check_layout, locals())
+    if sensitivity and cases:
+        raise InputError(None, "--sensitivity works about one ride's parameters, not a set of "
+                         "load cases", "run it without --cases (or with --case NAME only)")
+    limit_set = _limits(limits)
+    line, the_train, ops = load_inputs(track, train, ideal=ideal, operation=operation,
+                                       start_speed_m_s=start_speed_m_s, units=units)
+    options = RideOptions(rate_hz=rate_hz, smoothing_m=smoothing_m, step_m=step_m)
+    cases_file, case_list = _cases(cases)
+    parameters = [("track length unit", units), ("filter", limit_set.filter.describe())]
+    sweep = None
+    if cases_file is not None:
+        _check_cases_fit(case_list, cases_file, the_train, ops, options)
+        sweep = run_cases(line, the_train, ops, limit_set, options, case_list,
+                          workers=workers, scheduler=scheduler, progress=progress,
+                          scheduler_timeout_s=scheduler_timeout_s)
+        run = sweep_check_run(sweep, line, the_train, ops, limit_set, options, case_list)
+        parameters.append(("load cases", f"{cases} ({len(case_list)} cases: "
+                           + ", ".join(c.name for c in case_list) + ")"))
+    else:
+        run = run_check(line, the_train, ops, limit_set, options, case)
+    inputs = (_record(track, None if ideal else train, operation, cases_file)
+              + _limit_files(limit_set))
+    evaluation = replace(run.evaluation, warnings=tuple(filter_warnings(limit_set.filter))
+                         + run.evaluation.warnings)
+    ranked = None
+    if sensitivity:
+        from .sensitivity import run_sensitivity
+
+        ranked = run_sensitivity(line, the_train, ops, limit_set, options, workers=workers,
+                                 scheduler=scheduler, progress=progress)
+    return _layout_check(evaluation, run.signals, run.ride, sweep,
+                         Labels(project, layout or Path(track).stem, revision, page_size,
+                                seat_pages),
+                         Provenance(inputs, tuple(ride_parameters(run.ride) + parameters),
+                                    call), ranked)
+
+
+def _layout_check(evaluation: Evaluation, signals: Mapping, ride: RideResult | None,
+                  sweep: Sweep | None, labels: Labels, provenance: Provenance,
+                  sensitivity: object | None = None) -> LayoutCheck:
+    return LayoutCheck(evaluation, group_events(evaluation, ride),
+                       MappingProxyType(dict(signals)), ride, sweep, labels, provenance,
+                       sensitivity)
+
+
+def check_history(history: str | Path, *, units: str = "g", limits: str | Path | None = None,
+                  case: str = "nominal", instrument: str | Path | None = None,
+                  resample_hz: float | None = None, project: str = "(not given)",
+                  layout: str | None = None, revision: str = "(not given)",
+                  page_size: str = "a4", seat_pages: str = "governing",
+                  call: str | None = None) -> LayoutCheck:
+    """Check a recorded or exported acceleration history against a limit set.
+
+    Parameters
+    ----------
+    history : CSV with t [s], gx, gy, gz and optionally seat.
+    units : ``"g"`` (multiples of g0) or ``"m/s2"``, the unit of gx, gy, gz in the file.
+    limits : limits TOML; None uses the bundled ILLUSTRATIVE set.
+    case : name of the load case the record stands for.
+    instrument : instrument TOML describing a logger export (columns, units, mounting,
+        seats); None reads the plain format.
+    resample_hz : uniform rate [Hz] to re-sample irregular time stamps onto; None refuses
+        them, naming the rows.
+    project, layout, revision, page_size, seat_pages : as for :func:`check_layout`
+        (``layout`` defaults to the history file's name).
+    call : the call to record as reproducing the result; default: this Python call.
+
+    Returns
+    -------
+    LayoutCheck
+        The frozen result (without a ride: a record has no layout to draw).
+
+    Raises
+    ------
+    InputError
+        For a bad or missing input file.
+    """
+    call = call or _python_call(check_history, locals())
+    limit_set = _limits(limits)
+    logger = load_instrument(instrument) if instrument is not None else None
+    record = load_record(history, units, logger, resample_hz)
+    signals = record.signals
+    evaluation = evaluate(signals, limit_set, case)
+    evaluation = replace(evaluation, warnings=tuple(filter_warnings(limit_set.filter))
+                         + tuple(record.notes) + tuple(history_warnings(signals))
+                         + tuple(evaluation.warnings))
+    parameters = (("history units", units if logger is None else "from the instrument"),
+                  ("filter", limit_set.filter.describe()))
+    if record.method:
+        parameters += (("record conditioning", record.method),)
+    return _layout_check(evaluation, {(s.seat, case): s for s in signals}, None, None,
+                         Labels(project, layout or Path(history).stem, revision, page_size,
+                                seat_pages),
+                         Provenance(_record(history, instrument) + _limit_files(limit_set),
+                                    parameters, call))
+
+
+# ---------------------------------------------------------------------------------------------
+# compare
+
+
+@dataclass(frozen=True, eq=False)
+class ComparisonFocus:
+    """The seat and case the comparison's figures show, with both revisions' signals."""
+
+    seat: str
+    case: str
+    old: SeatResult
+    old_ride: RideResult
+    new: SeatResult
+    new_signal: object
+    new_ride: RideResult
+
+
+@dataclass(frozen=True, eq=False)
+class LayoutComparison:
+    """Two revisions of a layout run with the same train, cases and limits.
+
+    Attributes
+    ----------
+    comparison : peaks before and after, and every finding's change.
+    old, new : every load case of each revision.
+    old_file, new_file : the centerline files as given.
+    old_name, new_name : short names for the documents.
+    cases : the load cases' names.
+    limits : the limit set.
+    new_stalls : stalls of the new revision in cases where the old one did not stall.
+    focus : the governing seat and case with both revisions' signals for the figures, or
+        None when made without them.
+    labels, provenance : as for :class:`LayoutCheck`.
+    """
+
+    comparison: Comparison
+    old: Sweep
+    new: Sweep
+    old_file: str
+    new_file: str
+    old_name: str
+    new_name: str
+    cases: tuple[str, ...]
+    limits: LimitSet
+    new_stalls: tuple[str, ...]
+    focus: ComparisonFocus | None
+    labels: Labels
+    provenance: Provenance
+
+    @property
+    def regressed(self) -> bool:
+        """True when the new revision has a new or worse finding, or a new stall."""
+        return self.comparison.regressed or bool(self.new_stalls)
+
+    def summary(self) -> str:
+        """The terminal summary: verdicts, finding changes, peaks, regression, caution."""
+        c = self.comparison
+        lines = [f"old {self.old_name}: {c.old_verdict.upper()} ({len(self.old.findings)} "
+                 f"findings); new {self.new_name}: {c.new_verdict.upper()} "
+                 f"({len(self.new.findings)} findings)",
+                 "findings: " + ", ".join(f"{c.count(k)} {k}" for k in
+                                          ChangeState)]
+        for change in c.changes:
+            if change.status is ChangeState.SAME:
+                continue
+            lines.append("  " + change_text(change))
+        lines.append(f"{'seat':<14}" + "".join(f"{a + ' ' + k:>16}" for a in ("gx", "gy", "gz")
+                                               for k in ("min", "max")))
+        by_seat: dict = {}
+        for p in c.peaks:
+            by_seat.setdefault(p["seat"], []).append(f"{p['old']:6.2f}>{p['new']:6.2f}")
+        for seat, cells in by_seat.items():
+            lines.append(f"{seat:<14}" + "".join(f"{cell:>16}" for cell in cells))
+        lines.append("regression: " + ("YES (a new or worse finding)" if self.regressed
+                                       else "no"))
+        lines.append("caution: " + CAUTION)
+        return "\n".join(lines)
+
+    def document(self) -> dict:
+        """The JSON record of the comparison."""
+        return comparison_document(
+            self.comparison, self.limits, self.old_file, self.new_file,
+            len(self.old.findings), len(self.new.findings), self.regressed,
+            list(self.new_stalls), list(self.cases),
+            [(f.path, f.sha256) for f in self.provenance.inputs], self.provenance.call)
+
+    def write_json(self, path: str | Path) -> Path:
+        """Write the JSON record atomically; returns the path (see
+        :meth:`LayoutCheck.write_json`)."""
+        return atomic_write_text(check_writable(path), to_json(self.document()))
+
+    def write_pdf(self, path: str | Path,
+                  json_path: str | Path | None = None) -> tuple[Path, Path]:
+        """Write the comparison PDF and its JSON sidecar, as a pair.
+
+        Parameters
+        ----------
+        path : where to write the PDF.
+        json_path : where to write the JSON sidecar (default: beside the PDF, ``.json``).
+
+        Returns
+        -------
+        tuple of Path
+            The PDF and the JSON written.
+
+        Raises
+        ------
+        ValueError
+            When the comparison was made with ``plot_signals=False``.
+        InputError
+            When an output's folder does not exist or a path is a folder.
+        """
+        if self.focus is None:
+            raise ValueError("this comparison was made with plot_signals=False; it has no "
+                             "signals to draw")
+        return _write_pair(path, lambda: _report().comparison_report_pdf(self), json_path,
+                           to_json(self.document()))
+
+
+def compare_layouts(old: str | Path, new: str | Path, *, train: str | Path | None = None,
+                    ideal: bool = False, operation: str | Path | None = None,
+                    old_operation: str | Path | None = None,
+                    new_operation: str | Path | None = None,
+                    start_speed_m_s: float | None = None, limits: str | Path | None = None,
+                    cases: str | Path | None = None, rate_hz: float = 200.0,
+                    units: str = "m", smoothing_m: float | None = None,
+                    step_m: float = STATION_STEP_M,
+                    project: str = "(not given)", page_size: str = "a4",
+                    workers: int | None = None, scheduler: str | None = None,
+                    scheduler_timeout_s: float = 30.0, progress: Progress | None = None,
+                    plot_signals: bool = True,
+                    call: str | None = None) -> LayoutComparison:
+    """Run two revisions of a layout with the same train, cases and limits, and compare them.
+
+    Parameters
+    ----------
+    old, new : the two revisions' centerline CSV files.
+    train, ideal, start_speed_m_s, limits, cases, rate_hz, units, smoothing_m, workers,
+    scheduler, scheduler_timeout_s, progress : as for :func:`check_layout`, shared by both
+        revisions.
+    operation : operation TOML for both revisions.
+    old_operation, new_operation : operation TOML for one revision (overrides ``operation``).
+    project, page_size : labels for the documents.
+    plot_signals : also compute the governing seat's signals in both revisions, which the
+        PDF draws (one more ride per revision); False when no PDF will be written.
+    call : the call to record as reproducing the result; default: this Python call.
+
+    Returns
+    -------
+    LayoutComparison
+        The frozen result; ``regressed`` says whether the new revision got worse.
+
+    Raises
+    ------
+    InputError
+        For a bad or missing input file.
+    """
+    call = call or _python_call(compare_layouts, locals())
+    limit_set = _limits(limits)
+    old_ops_file = old_operation or operation
+    new_ops_file = new_operation or operation
+    old_line, the_train, old_ops = load_inputs(old, train, ideal=ideal, operation=old_ops_file,
+                                               start_speed_m_s=start_speed_m_s, units=units)
+    new_line, _, new_ops = load_inputs(new, train, ideal=ideal, operation=new_ops_file,
+                                       start_speed_m_s=start_speed_m_s, units=units)
+    options = RideOptions(rate_hz=rate_hz, smoothing_m=smoothing_m, step_m=step_m)
+    cases_file, case_list = _cases(cases)
+    if cases_file is not None:
+        _check_cases_fit(case_list, cases_file, the_train, old_ops, options)
+    old_sweep, new_sweep = run_layouts(
+        [(old_line, the_train, old_ops), (new_line, the_train, new_ops)], limit_set, options,
+        case_list, workers=workers, scheduler=scheduler, progress=progress,
+        scheduler_timeout_s=scheduler_timeout_s)
+    comparison = compare_sweeps(old_sweep, new_sweep, old_sweep.outcomes[0].track_length_m,
+                                new_sweep.outcomes[0].track_length_m)
+    old_stalls = {o.case for o in old_sweep.outcomes if o.stall}
+    new_stalls = tuple(f"new revision, case {o.case}: {o.stall}" for o in new_sweep.outcomes
+                       if o.stall and o.case not in old_stalls)
+    focus = None
+    if plot_signals:
+        governing = new_sweep.governing() or old_sweep.governing()
+        focus_case = governing[0].case if governing else case_list[0].name
+        focus_seat = governing[0].seat if governing else None
+        case_by_name = {c.name: c for c in case_list}
+        runs: list[CheckRun] = []
+        for line, ops in ((old_line, old_ops), (new_line, new_ops)):
+            tr, op, opt = apply_case(the_train, ops, options, case_by_name[focus_case])
+            runs.append(run_check(line, tr, op, limit_set, opt, focus_case))
+        seat = focus_seat or runs[1].evaluation.seats[0].seat
+        old_res, new_res = (next(s for s in r.evaluation.seats if s.seat == seat) for r in runs)
+        focus = ComparisonFocus(seat, focus_case, old_res, runs[0].ride, new_res,
+                                runs[1].signals[(seat, focus_case)], runs[1].ride)
+    inputs = (_record(old, new, None if ideal else train, old_ops_file,
+                      new_ops_file if new_ops_file != old_ops_file else None, cases_file)
+              + _limit_files(limit_set))
+    parameters = [("track length unit", units), ("filter", limit_set.filter.describe()),
+                  ("load cases", ", ".join(c.name for c in case_list)),
+                  ("output sample rate", f"{rate_hz:g} Hz"),
+                  ("smoothing tolerance", "automatic (half the coordinate grid)"
+                   if smoothing_m is None else f"{smoothing_m:g} m"),
+                  ("station step", f"{step_m:g} m")]
+    if start_speed_m_s is not None:
+        parameters.append(("start speed", f"{start_speed_m_s:g} m/s"))
+    return LayoutComparison(comparison, old_sweep, new_sweep, str(old), str(new),
+                            Path(old).stem, Path(new).stem, tuple(c.name for c in case_list),
+                            limit_set, new_stalls, focus, Labels(project, page_size=page_size),
+                            Provenance(inputs, tuple(parameters), call))
+
+
+# ---------------------------------------------------------------------------------------------
+# simulate and demo
+
+
+@dataclass(frozen=True, eq=False)
+class Simulation:
+    """A simulated ride without a check: every seat's unfiltered history.
+
+    Attributes
+    ----------
+    ride : geometry, motion, histories and plausibility warnings.
+    provenance : input files with SHA-256, parameters, tool version, reproducing call.
+    """
+
+    ride: RideResult
+    provenance: Provenance
+
+    @property
+    def stall(self) -> str | None:
+        """Where the train stopped short of the end, or None."""
+        return None if self.ride.motion.stall is None else str(self.ride.motion.stall)
+
+    def summary(self, path: str | Path) -> str:
+        """What was written to ``path``: seats, rows, ride time, smoothing."""
+        motion, rows = self.ride.motion, sum(len(h.t) for h in self.ride.histories)
+        lines = [f"wrote {path}: {len(self.ride.histories)} seats, {rows} rows, "
+                 f"ride time {motion.duration_s:.1f} s, {motion.end_reason}"]
+        sm = self.ride.geometry.smoothing
+        if sm is not None:
+            lines.append(f"smoothing {sm.tolerance_m:g} m: samples moved up to "
+                         f"{sm.max_deviation_m:.3f} m; curvature removed rms "
+                         f"{sm.rms_curvature_removed:.4f} 1/m, max "
+                         f"{sm.max_curvature_removed:.4f} 1/m at station "
+                         f"{sm.station_of_max_removed_m:.1f} m")
+        return "\n".join(lines)
+
+    def write_csv(self, path: str | Path) -> Path:
+        """Write every seat's history (one row per seat and sample) atomically."""
+        frame = histories_frame(self.ride.histories)
+        return atomic_write_text(check_writable(path),
+                                 frame.to_csv(index=False, float_format="%.6g"))
+
+
+def simulate_ride(track: str | Path, *, train: str | Path | None = None, ideal: bool = False,
+                  operation: str | Path | None = None, start_speed_m_s: float | None = None,
+                  rate_hz: float = 200.0, units: str = "m", smoothing_m: float | None = None,
+                  step_m: float = STATION_STEP_M, call: str | None = None) -> Simulation:
+    """Simulate a ride without checking it (parameters as for :func:`check_layout`).
+
+    Returns
+    -------
+    Simulation
+        The frozen result; a stall ends the histories where the speed reaches zero.
+
+    Raises
+    ------
+    InputError
+        For a bad or missing input file.
+    """
+    call = call or _python_call(simulate_ride, locals())
+    line, the_train, ops = load_inputs(track, train, ideal=ideal, operation=operation,
+                                       start_speed_m_s=start_speed_m_s, units=units)
+    ride = run_ride(line, the_train, ops, RideOptions(rate_hz=rate_hz, smoothing_m=smoothing_m,
+                                                      step_m=step_m))
+    return Simulation(ride, Provenance(_record(track, None if ideal else train, operation),
+                                       tuple(ride_parameters(ride)), call))
+
+
+@dataclass(frozen=True, eq=False)
+class BankAdvisory:
+    """A bank advice for a layout, with the banked track text and what reproduces it.
+
+    Attributes
+    ----------
+    advice : :class:`checker.bank.BankAdvice` (stations [m], given and advised bank [deg]).
+    track_text : the banked track as CSV text (x, y, z in the input's unit, roll_deg).
+    track : the track file advised on.
+    seats : how many seats the advice serves (1 for the centerline rider).
+    settings : roll-rate limit [deg/s], |Gy| tolerance [g], roll smoothing [s], page size.
+    provenance : input files with SHA-256, parameters, tool version, reproducing call.
+    """
+
+    advice: object
+    track_text: str
+    track: str
+    seats: int
+    settings: Mapping
+    provenance: Provenance
+
+    def summary(self) -> str:
+        """The terminal summary of the advice."""
+        d = self.advice.to_dict()
+        name = Path(self.track).name
+        riders = "centerline rider" if self.advice.ideal else f"{self.seats} seats"
+        return "\n".join([
+            f"advised bank for {name} ({riders}), roll rate <= "
+            f"{self.settings['roll_rate']:g} deg/s:",
+            f"  largest change from the given bank {d['max_change_deg']:.1f} deg; fastest roll "
+            f"{d['max_roll_rate_deg_s']:.1f} deg/s",
+            f"  worst |Gy| (unfiltered, any seat): given {d['max_abs_gy_given_g']:.3f} g, "
+            f"advised {d['max_abs_gy_advised_g']:.3f} g; where every seat can be met "
+            f"{d['max_abs_gy_where_rate_allows_g']:.3f} g",
+            f"  stations where the bank cannot meet every seat (rate limit or seats needing "
+            f"different banks): {d['rate_bound_length_m']:.1f} m"])
+
+    def write(self, output: str | Path, plot: str | Path, json_path: str | Path | None = None,
+              pdf_path: str | Path | None = None) -> list[Path]:
+        """Write the banked track, its SVG plot and, when named, the JSON and the PDF: all of
+        them or none (:func:`checker.outputs.commit`). Returns the paths written."""
+        from .report.aids_figures import bank_figure, bank_pdf
+
+        a = self.advice
+        riders = "centerline rider" if a.ideal else "every seat of the train"
+        svg = bank_figure(a.s, a.given_deg, a.advised_deg, a.target_deg, a.rate_bound,
+                          "Bank: given, advised, and the target")
+        files = {Path(output): self.track_text.encode(), Path(plot): svg.encode()}
+        if json_path:
+            files[Path(json_path)] = to_json({
+                "advice": a.to_dict(), "track": self.track, "output": str(output),
+                "caution": CAUTION, "command": self.provenance.call}).encode()
+        if pdf_path:
+            files[Path(pdf_path)] = bank_pdf(a, svg, {
+                "track": self.track, "output": str(output), "riders": riders,
+                "inputs": [(f.path, f.sha256) for f in self.provenance.inputs],
+                "command": self.provenance.call, "page_size": self.settings["page_size"],
+                "roll_rate": self.settings["roll_rate"],
+                "tolerance": self.settings["tolerance"],
+                "smoothing": self.settings["smoothing"]})
+        commit(files)
+        return list(files)
+
+
+def advise_bank_angle(track: str | Path, *, train: str | Path | None = None,
+                      ideal: bool = False, operation: str | Path | None = None,
+                      start_speed_m_s: float | None = None, rate_hz: float = 200.0,
+                      units: str = "m", smoothing_m: float | None = None,
+                      step_m: float = STATION_STEP_M, roll_rate_deg_s: float = 60.0,
+                      tolerance_g: float = 0.02, roll_smoothing_s: float = 0.6,
+                      page_size: str = "a4", call: str | None = None) -> BankAdvisory:
+    """Advise the bank angle that cancels the riders' lateral force within a roll-rate limit.
+
+    Parameters
+    ----------
+    track, train, ideal, operation, start_speed_m_s, rate_hz, units, smoothing_m, step_m :
+        as for :func:`check_layout`.
+    roll_rate_deg_s : highest roll rate any car may see [deg/s].
+    tolerance_g : |Gy| accepted at each seat when choosing the bank [g0].
+    roll_smoothing_s : moving-average window that softens the roll acceleration [s].
+    page_size : ``"a4"`` or ``"letter"`` for the PDF.
+    call : the call to record as reproducing the result; default: this Python call.
+
+    Returns
+    -------
+    BankAdvisory
+        The frozen advice; nothing is written until :meth:`BankAdvisory.write`.
+
+    Raises
+    ------
+    InputError
+        For a bad or missing input file.
+    """
+    from .bank import advise_bank, banked_table
+    from .track import FOOT_M
+
+    call = call or _python_call(advise_bank_angle, locals())
+    line, the_train, ops = load_inputs(track, train, ideal=ideal, operation=operation,
+                                       start_speed_m_s=start_speed_m_s, units=units)
+    advice = advise_bank(line, the_train, ops,
+                         RideOptions(rate_hz=rate_hz, step_m=step_m, smoothing_m=smoothing_m),
+                         roll_rate_limit_deg_s=roll_rate_deg_s, tolerance_g=tolerance_g,
+                         smoothing_s=roll_smoothing_s, ideal=ideal or train is None)
+    scale = FOOT_M if units == "ft" else 1.0
+    note = (f"bank advised by checker advise-bank from {Path(track).name}: roll rate <= "
+            f"{roll_rate_deg_s:g} deg/s, |Gy| tolerance {tolerance_g:g} g, "
+            + ("centerline rider" if advice.ideal else "every seat of the train"))
+    text = banked_table(line.points / scale, advice.advised_at_samples, note)
+    settings = MappingProxyType({"roll_rate": roll_rate_deg_s, "tolerance": tolerance_g,
+                                 "smoothing": roll_smoothing_s, "page_size": page_size})
+    parameters = (("roll rate limit", f"{roll_rate_deg_s:g} deg/s"),
+                  ("|Gy| tolerance", f"{tolerance_g:g} g"),
+                  ("roll smoothing", f"{roll_smoothing_s:g} s"))
+    return BankAdvisory(advice, text, str(track), len(the_train.seats) * the_train.car_count,
+                        settings,
+                        Provenance(_record(track, None if ideal else train, operation),
+                                   parameters, call))
+
+
+@dataclass(frozen=True, eq=False)
+class RideCorrelation:
+    """A recorded ride lined up with the simulation of the same layout.
+
+    Attributes
+    ----------
+    correlations : one :class:`checker.correlate.Correlation` per recorded seat.
+    notes : review items from loading the record and warnings from the simulation.
+    filter : the filter applied to both signals, described.
+    record_method : how the record was conditioned (time base, re-sampling).
+    labels : project and page size for the PDF; layout is the track file's name.
+    record_name : the record file's name.
+    provenance : input files with SHA-256, parameters, tool version, reproducing call.
+    """
+
+    correlations: tuple
+    notes: tuple[str, ...]
+    filter: str
+    record_method: str
+    labels: Labels
+    record_name: str
+    provenance: Provenance
+
+    def summary(self) -> str:
+        """A table of the per-axis differences, the filter note and the caution."""
+        lines = [f"{'recorded seat':<20}{'aligned by':<34}{'offset [s]':>11}"
+                 + "".join(f"{a + ' rms':>10}{a + ' max':>10}" for a in ("gx", "gy", "gz"))]
+        for c in self.correlations:
+            lines.append(f"{c.recorded_seat:<20}{c.method:<34}{c.offset_s:>11.3f}"
+                         + "".join(f"{a.rms_g:>10.3f}{a.peak_g:>10.3f}" for a in c.axes))
+        lines.append("differences are recorded minus simulated, both filtered: " + self.filter)
+        lines.append("caution: " + CAUTION)
+        return "\n".join(lines)
+
+    def document(self) -> dict:
+        """The JSON record."""
+        return {"kind": "correlation", "caution": CAUTION, "command": self.provenance.call,
+                "filter": self.filter, "record_conditioning": self.record_method,
+                "inputs": [{"file": f.path, "sha256": f.sha256}
+                           for f in self.provenance.inputs],
+                "review_items": list(self.notes),
+                "correlations": [c.to_dict() for c in self.correlations]}
+
+    def write_json(self, path: str | Path) -> Path:
+        """Write the JSON record atomically; returns the path written."""
+        return atomic_write_text(check_writable(path), to_json(self.document()))
+
+    def write_pdf(self, path: str | Path) -> Path:
+        """Write the PDF with the figures atomically; returns the path written."""
+        from .outputs import atomic_write_bytes
+        from .report.correlation import correlation_pdf
+
+        path = check_writable(path)
+        pdf = correlation_pdf(list(self.correlations), {
+            "project": self.labels.project, "record_name": self.record_name,
+            "track_name": self.labels.layout, "filter": self.filter,
+            "record_method": self.record_method, "notes": list(self.notes),
+            "inputs": [(f.path, f.sha256) for f in self.provenance.inputs],
+            "command": self.provenance.call, "page_size": self.labels.page_size})
+        atomic_write_bytes(path, pdf)
+        return path
+
+
+def correlate_ride(record: str | Path, track: str | Path, *, record_units: str = "g",
+                   instrument: str | Path | None = None, resample_hz: float | None = None,
+                   train: str | Path | None = None, ideal: bool = False,
+                   operation: str | Path | None = None, start_speed_m_s: float | None = None,
+                   rate_hz: float = 200.0, units: str = "m", smoothing_m: float | None = None,
+                   step_m: float = STATION_STEP_M, seat: str | None = None,
+                   limits: str | Path | None = None, project: str = "(not given)",
+                   page_size: str = "a4", call: str | None = None) -> RideCorrelation:
+    """Line a recorded ride up with the simulation of the same layout.
+
+    Parameters
+    ----------
+    record : recorded history CSV (plain format, or described by ``instrument``).
+    track : the layout's centerline CSV.
+    record_units : ``"g"`` or ``"m/s2"`` for a plain-format record.
+    instrument, resample_hz : as for :func:`check_history`.
+    train, ideal, operation, start_speed_m_s, rate_hz, units, smoothing_m, step_m : as for
+        :func:`check_layout`.
+    seat : simulated seat to compare every recorded seat with (default: the same name).
+    limits : limits TOML whose filter is applied to both signals (default: the bundled set).
+    project, page_size : labels for the PDF.
+    call : the call to record as reproducing the result; default: this Python call.
+
+    Returns
+    -------
+    RideCorrelation
+        Per recorded seat: the time offset and the per-axis RMS and largest differences.
+
+    Raises
+    ------
+    InputError
+        For a bad input file, a recorded seat with no simulated match, or a record that
+        cannot be aligned with the simulation.
+    """
+    from .correlate import correlate_record
+
+    call = call or _python_call(correlate_ride, locals())
+    limit_set = _limits(limits)
+    logger = load_instrument(instrument) if instrument is not None else None
+    loaded = load_record(record, record_units, logger, resample_hz)
+    line, the_train, ops = load_inputs(track, train, ideal=ideal, operation=operation,
+                                       start_speed_m_s=start_speed_m_s, units=units)
+    ride = run_ride(line, the_train, ops, RideOptions(rate_hz=rate_hz, step_m=step_m,
+                                                      smoothing_m=smoothing_m))
+    notes = tuple(loaded.notes) + tuple(ride.warnings)
+    try:
+        found = correlate_record(loaded.signals, ride.histories, limit_set.filter, seat)
+    except KeyError as exc:
+        names = ", ".join(h.seat for h in ride.histories[:8])
+        raise InputError(record, f"no simulated seat named {exc.args[0]!r}",
+                         f"give --seat NAME (simulated seats: {names}, ...)") from None
+    except ValueError as exc:
+        raise InputError(record, str(exc), "check that the record is of this layout "
+                         "and operation") from None
+    inputs = (_record(record, instrument, track, None if ideal else train, operation)
+              + _limit_files(limit_set))
+    return RideCorrelation(tuple(found), notes, limit_set.filter.describe(), loaded.method,
+                           Labels(project, Path(track).name, page_size=page_size),
+                           Path(record).name,
+                           Provenance(inputs, tuple(ride_parameters(ride)), call))
+
+
+@dataclass(frozen=True, eq=False)
+class DemoRun:
+    """Both revisions of the fictional demo layout checked against the bundled
+    ILLUSTRATIVE limits.
+
+    Attributes
+    ----------
+    revisions : (revision letter, what changed, its check) for revisions A and B.
+    """
+
+    revisions: tuple[tuple[str, str, LayoutCheck], ...]
+
+    def write_reports(self, folder: str | Path) -> list[tuple[Path, Path]]:
+        """Write each revision's PDF and JSON into ``folder`` (made when missing).
+
+        Returns
+        -------
+        list of (Path, Path)
+            The PDF and JSON of each revision.
+
+        Raises
+        ------
+        InputError
+            When the folder cannot be made.
+        """
+        out = Path(folder)
+        try:
+            out.mkdir(parents=True, exist_ok=True)
+        except OSError as exc:
+            raise InputError(out, f"cannot create the output folder ({exc.strerror})",
+                             "choose another --out folder") from None
+        return [check.write_pdf(out / f"thistle_comet_rev{rev}.pdf")
+                for rev, _, check in self.revisions]
+
+
+def run_demo(*, page_size: str = "a4", seat_pages: str = "governing") -> DemoRun:
+    """Check both revisions of the bundled demo layout (a fictional park and layout).
+
+    Parameters
+    ----------
+    page_size : ``"a4"`` or ``"letter"`` for the reports.
+    seat_pages : seat pages of figures, as for :func:`check_layout`.
+
+    Returns
+    -------
+    DemoRun
+        Revision A (circular loop) fails at the bottom of its loop; revision B (teardrop
+        loop) passes. Each revision's call is the ``checker check`` command that
+        reproduces it.
+    """
+    here = demo_folder()
+    train = here / "thistle_comet_train.toml"
+    revisions = []
+    for rev, what in DEMO_REVISIONS:
+        track = here / f"thistle_comet_rev{rev}.csv"
+        ops = here / f"thistle_comet_rev{rev}.operation.toml"
+        call = shlex.join(["checker", "check", str(track), "--train", str(train),
+                           "--operation", str(ops), "--project", DEMO_PROJECT,
+                           "--layout-name", DEMO_LAYOUT, "--revision", f"{rev} ({what})",
+                           "--page-size", page_size, "--seat-pages", seat_pages])
+        revisions.append((rev, what, check_layout(
+            track, train=train, operation=ops, project=DEMO_PROJECT, layout=DEMO_LAYOUT,
+            revision=f"{rev} ({what})", page_size=page_size, seat_pages=seat_pages,
+            call=call)))
+    return DemoRun(tuple(revisions))
