@@ -182,6 +182,11 @@ class Fields:
             return Fields(self.path, {}, self.key(name))
         return Fields(self.path, self.table[name], self.key(name))
 
+    def check(self, name: str, ok: bool, problem: str, hint: str = "") -> None:
+        """Raise the one-line error for key ``name`` unless ``ok``."""
+        if not ok:
+            raise self.error(name, problem, hint)
+
     def done(self) -> None:
         unknown = sorted(set(self.table) - self.used)
         if unknown:

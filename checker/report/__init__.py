@@ -73,7 +73,8 @@ def check_report_pdf(result) -> bytes:
                                                                   20 * DISPLAY_CHARS),
                       inputs=tuple((f.path, f.sha256) for f in record.inputs),
                       parameters=record.parameters, method=tuple(method), stall=result.stall,
-                      sweep=result.sweep, seat_pages=labels.seat_pages, recorded=recorded)
+                      sweep=result.sweep, seat_pages=labels.seat_pages, recorded=recorded,
+                      sensitivity=result.sensitivity)
     html, assets = build_html(result.evaluation, result.signals, result.ride, meta,
                               list(result.events))
     return render_pdf(html, TemplatesOnlyFetcher(assets=assets))
