@@ -26,6 +26,7 @@ STEP = 0.5  # sample spacing along the track [m], like a CAD export
 LOSS = 0.008  # lumped rolling and air losses for the speed estimate [g per metre travelled]
 HERE = Path(__file__).resolve().parent
 HEART_M = 1.05  # heart height above the rails of the demo train's seats [m]
+LOOP_OFFSET_M = 2.4  # sideways offset of a loop's exit from its entry [m] (train width + gap)
 
 
 @dataclass
@@ -154,6 +155,20 @@ class Builder:
             self.step(rate, yaw)
             climb += rate * STEP
         self.pitch -= 2 * math.pi
+    def offset_sideways(self, first: int, offset_m: float) -> None:
+        """Move the rows from ``first`` on sideways (to the left of the entry heading) by a
+        smooth fraction of ``offset_m`` that follows the turn through the element, f(u) =
+        u - sin(2 pi u) / (2 pi) with u the element's share of its length: the entry and exit
+        of a loop pass beside each other instead of through each other, with no kink."""
+        last = len(self.rows) - 1
+        left = (-math.sin(self.heading), math.cos(self.heading))
+        for i in range(first, len(self.rows)):
+            u = min(1.0, (i - first + 1) / (last - first + 1))
+            shift = offset_m * (u - math.sin(2 * math.pi * u) / (2 * math.pi))
+            x, y, z, roll = self.rows[i]
+            self.rows[i] = (x + shift * left[0], y + shift * left[1], z, roll)
+        self.x, self.y = self.rows[-1][0], self.rows[-1][1]
+
     def _half_rates(self, peak_gz: float, top_gz: float, ramp_m: float = 14.0):
         """Pitch rates [rad/m] for the rising half of a loop shaped so that the rider feels
         a target Gz at the estimated speed: dtheta/ds = g (Gz - cos theta) / v^2. Returns the
@@ -209,8 +224,10 @@ def build(shape: str) -> Builder:
     b.pitch_to(0.0, radius=34.0, ramp=18.0)
     b.straight(12.0)
     b.mark("loop_start")
+    first = len(b.rows)
     b.loop(shape, height=23.0)
     b.mark("loop_end")
+    b.offset_sideways(first, LOOP_OFFSET_M)
     b.straight(10.0)
     b.mark("turn")
     b.turn(-180.0, radius=30.0, ramp=36.0)  # banked right-hand turn
