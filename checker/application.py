@@ -907,20 +907,21 @@ class RideCorrelation:
         """Write the JSON record atomically; returns the path written."""
         return atomic_write_text(check_writable(path), to_json(self.document()))
 
-    def write_pdf(self, path: str | Path) -> Path:
-        """Write the PDF with the figures atomically; returns the path written."""
-        from .outputs import atomic_write_bytes
+    def write_pdf(self, path: str | Path,
+                  json_path: str | Path | None = None) -> tuple[Path, Path]:
+        """Write the PDF with the figures and its JSON sidecar as a pair (both or neither);
+        returns the PDF and the JSON written."""
         from .report.correlation import correlation_pdf
 
-        path = check_writable(path)
-        pdf = correlation_pdf(list(self.correlations), {
-            "project": self.labels.project, "record_name": self.record_name,
-            "track_name": self.labels.layout, "filter": self.filter,
-            "record_method": self.record_method, "notes": list(self.notes),
-            "inputs": [(f.path, f.sha256) for f in self.provenance.inputs],
-            "command": self.provenance.call, "page_size": self.labels.page_size})
-        atomic_write_bytes(path, pdf)
-        return path
+        def render() -> bytes:
+            return correlation_pdf(list(self.correlations), {
+                "project": self.labels.project, "record_name": self.record_name,
+                "track_name": self.labels.layout, "filter": self.filter,
+                "record_method": self.record_method, "notes": list(self.notes),
+                "inputs": [(f.path, f.sha256) for f in self.provenance.inputs],
+                "command": self.provenance.call, "page_size": self.labels.page_size})
+
+        return _write_pair(path, render, json_path, to_json(self.document()))
 
 
 def correlate_ride(record: str | Path, track: str | Path, *, record_units: str = "g",

@@ -404,8 +404,9 @@ def _cmd_advise_bank(args: argparse.Namespace, app, call: str) -> int:
 
 
 def _cmd_correlate(args: argparse.Namespace, app, call: str) -> int:
+    sidecar = report_sidecar(args.pdf, args.json) if args.pdf else args.json
     check_run_paths([args.record, args.track, args.train, args.operation, args.limits,
-                     args.instrument], [("--pdf", args.pdf), ("--json", args.json)])
+                     args.instrument], [("--pdf", args.pdf), ("--json", sidecar)])
     _note_limits(args, app)
     result = app.correlate_ride(
         args.record, args.track, record_units=args.record_units, instrument=args.instrument,
@@ -416,10 +417,11 @@ def _cmd_correlate(args: argparse.Namespace, app, call: str) -> int:
     for note in result.notes:
         print(f"warning: {note}", file=sys.stderr)
     print(result.summary())
-    if args.json:
-        print(f"wrote {result.write_json(args.json)}")
     if args.pdf:
-        print(f"wrote {result.write_pdf(args.pdf)}")
+        pdf, sidecar = result.write_pdf(args.pdf, args.json)
+        print(f"wrote {pdf} and {sidecar}")
+    elif args.json:
+        print(f"wrote {result.write_json(args.json)}")
     return EXIT_OK
 
 

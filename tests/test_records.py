@@ -209,6 +209,15 @@ def test_correlate_command_writes_json_and_pdf(tmp_path, capsys):
     assert "car1-r1L" in capsys.readouterr().out
 
 
+def test_correlate_pdf_alone_writes_its_json_sidecar(tmp_path):
+    out_pdf = tmp_path / "alone.pdf"
+    code = main(["correlate", str(RECORD), str(TRACK), "--train", str(TRAIN), "--operation",
+                 str(OPS), "--rate", "100", "--pdf", str(out_pdf)])
+    assert code == 0
+    assert out_pdf.read_bytes()[:4] == b"%PDF"
+    assert json.loads((tmp_path / "alone.json").read_text())["correlations"]
+
+
 def test_check_history_reads_a_logger_file_and_refuses_a_bad_instrument(tmp_path, capsys):
     rng = np.random.default_rng(9)
     t = np.arange(0.0, 6.0, 0.01) + rng.uniform(-0.002, 0.002, 600)
