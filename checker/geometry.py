@@ -2,7 +2,8 @@
 
 Pure numerics: takes arrays, returns a :class:`TrackGeometry` of arrays on a uniform grid of
 stations ``s`` [m]. The centerline is a degree-5 B-spline through (or, with a smoothing
-tolerance, near) the samples, parameterized by chord length and re-sampled by arc length.
+tolerance, near) the samples, parameterized by chord length refined to the curve's own arc
+length, and re-sampled by arc length.
 
 Frame conventions (ISO 8855 vehicle axes, see DEVELOPERS.md): ``tangent`` x forward, ``left``
 y to the rider's left, ``up`` z from seat to head. The level reference ``up0`` is world up

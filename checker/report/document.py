@@ -28,7 +28,9 @@ PAGE_SIZES = {"a4": "A4", "letter": "letter"}
 
 METHOD = [
     "Geometry: the centerline samples are joined by a degree-5 B-spline (scipy), "
-    "parameterized by chord length and re-sampled by arc length on a uniform station grid. "
+    "parameterized by its own arc length (chord length refined twice), fitted within half "
+    "the coordinate grid of a rounded file unless a smoothing tolerance is given, and "
+    "re-sampled on a uniform station grid. "
     "Tangent and curvature come from the spline's derivatives. The rider frame follows ISO "
     "8855 (x forward, y left, z up through the spine); roll 0 is world up projected normal "
     "to the tangent, its sign kept continuous, and carried across near-vertical tangents by "
