@@ -42,7 +42,7 @@ from .history import load_record
 from .instrument import load_instrument
 from .limits import LimitSet, load_limits, sha256_of
 from .loadcases import STANDARD_CASES, LoadCase, apply_case, load_cases
-from .outputs import atomic_write_text, check_writable, commit
+from .outputs import atomic_write_bytes, atomic_write_text, check_writable, commit
 from .paths import report_sidecar
 from .plausibility import filter_warnings, history_warnings
 from .resources import demo_folder
@@ -50,7 +50,7 @@ from .ride import (
     CheckRun,
     RideOptions,
     RideResult,
-    histories_frame,
+    histories_csv,
     load_inputs,
     ride_parameters,
     run_check,
@@ -130,6 +130,11 @@ def _python_call(function: Callable, arguments: Mapping) -> str:
         elif value != param.default:
             parts.append(f"{name}={value!r}")
     return f"checker.{function.__name__}({', '.join(parts)})"
+
+
+def _write_json(path: str | Path, document: dict) -> Path:
+    """Write a result's JSON record atomically; returns the path written."""
+    return atomic_write_text(check_writable(path), to_json(document))
 
 
 def _write_pair(pdf_path: str | Path, pdf: Callable[[], bytes], json_path: str | Path | None,
@@ -287,7 +292,7 @@ class LayoutCheck:
         InputError
             When the output's folder does not exist or the path is a folder.
         """
-        return atomic_write_text(check_writable(path), to_json(self.document()))
+        return _write_json(path, self.document())
 
     def write_pdf(self, path: str | Path,
                   json_path: str | Path | None = None) -> tuple[Path, Path]:
@@ -553,7 +558,7 @@ class LayoutComparison:
     def write_json(self, path: str | Path) -> Path:
         """Write the JSON record atomically; returns the path (see
         :meth:`LayoutCheck.write_json`)."""
-        return atomic_write_text(check_writable(path), to_json(self.document()))
+        return _write_json(path, self.document())
 
     def write_pdf(self, path: str | Path,
                   json_path: str | Path | None = None) -> tuple[Path, Path]:
@@ -711,9 +716,7 @@ class Simulation:
 
     def write_csv(self, path: str | Path) -> Path:
         """Write every seat's history (one row per seat and sample) atomically."""
-        frame = histories_frame(self.ride.histories)
-        return atomic_write_text(check_writable(path),
-                                 frame.to_csv(index=False, float_format="%.6g"))
+        return atomic_write_bytes(check_writable(path), histories_csv(self.ride.histories))
 
 
 def simulate_ride(track: str | Path, *, train: str | Path | None = None, ideal: bool = False,
@@ -905,7 +908,7 @@ class RideCorrelation:
 
     def write_json(self, path: str | Path) -> Path:
         """Write the JSON record atomically; returns the path written."""
-        return atomic_write_text(check_writable(path), to_json(self.document()))
+        return _write_json(path, self.document())
 
     def write_pdf(self, path: str | Path,
                   json_path: str | Path | None = None) -> tuple[Path, Path]:

@@ -63,6 +63,27 @@ def name_option(max_chars: int = 200) -> Callable[[str], str]:
     return parse
 
 
+def megabytes_from_env(name: str, upper: float, example: int) -> float | None:
+    """A size [MB] from environment variable ``name`` (None when unset or empty).
+
+    Raises
+    ------
+    InputError
+        When the value is not a number above 0 and below ``upper``.
+    """
+    text = os.environ.get(name, "").strip()
+    if not text:
+        return None
+    try:
+        value = float(text)
+    except ValueError:
+        value = float("nan")
+    if not 0 < value < upper:
+        raise InputError(name, f"environment variable value {text[:20]!r} is not a size in "
+                         "megabytes", f"set it to a number such as {example} or unset it")
+    return value
+
+
 def machine_memory_bytes() -> int | None:
     try:
         return os.sysconf("SC_PAGE_SIZE") * os.sysconf("SC_PHYS_PAGES")
@@ -81,16 +102,9 @@ def share_memory(runs: int) -> None:
 def memory_cap_bytes() -> int | None:
     """The memory one ride may take: ``CHECKER_MAX_MEMORY_MB``, else a fraction of the
     machine's memory, shared by the rides running at once (None: unknown)."""
-    text = os.environ.get(MEMORY_ENV, "").strip()
-    if text:
-        try:
-            value = float(text)
-        except ValueError:
-            value = float("nan")
-        if not 0 < value < 1e9:
-            raise InputError(MEMORY_ENV, f"environment variable value {text[:20]!r} is not "
-                             "a size in megabytes", "set it to a number such as 4000 or unset it")
-        return int(value * 1e6 / _parallel["runs"])
+    megabytes = megabytes_from_env(MEMORY_ENV, 1e9, example=4000)
+    if megabytes is not None:
+        return int(megabytes * 1e6 / _parallel["runs"])
     total = machine_memory_bytes()
     return int(total * DEFAULT_MEMORY_FRACTION / _parallel["runs"]) if total else None
 

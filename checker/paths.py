@@ -20,6 +20,7 @@ import stat
 from collections.abc import Iterable
 from pathlib import Path
 
+from .bounds import megabytes_from_env
 from .errors import InputError
 
 MAX_INPUT_ENV = "CHECKER_MAX_INPUT_MB"
@@ -28,17 +29,8 @@ DEFAULT_MAX_INPUT_MB = 256.0
 
 def max_input_bytes() -> int:
     """The largest input file read [bytes]: ``CHECKER_MAX_INPUT_MB`` or the default."""
-    text = os.environ.get(MAX_INPUT_ENV, "").strip()
-    if not text:
-        return int(DEFAULT_MAX_INPUT_MB * 1e6)
-    try:
-        value = float(text)
-    except ValueError:
-        value = float("nan")
-    if not 0 < value < 1e7:
-        raise InputError(MAX_INPUT_ENV, f"environment variable value {text[:20]!r} is not a "
-                         "size in megabytes", "set it to a number such as 500 or unset it")
-    return int(value * 1e6)
+    megabytes = megabytes_from_env(MAX_INPUT_ENV, 1e7, example=500)
+    return int((DEFAULT_MAX_INPUT_MB if megabytes is None else megabytes) * 1e6)
 
 
 def _kind(mode: int) -> str:
