@@ -163,9 +163,12 @@ def contains(vertices: np.ndarray, points: np.ndarray) -> np.ndarray:
 
     path = MplPath(np.vstack([vertices, vertices[:1]]), closed=True)
     inside = path.contains_points(points)
-    out = np.flatnonzero(~inside)
+    tol = 1e-9 * max(1.0, float(np.abs(vertices).max()))
+    low, high = vertices.min(axis=0) - tol, vertices.max(axis=0) + tol
+    px, py = points[:, 0], points[:, 1]
+    near_box = (px >= low[0]) & (px <= high[0]) & (py >= low[1]) & (py <= high[1])
+    out = np.flatnonzero(~inside & near_box)
     if out.size:  # points reported outside but on the boundary count as inside
-        tol = 1e-9 * max(1.0, float(np.abs(vertices).max()))
         for a in range(0, out.size, 4096):  # in chunks: the temporaries are (chunk, vertices)
             part = out[a:a + 4096]
             inside[part] = _boundary_distance(vertices, points[part]) <= tol

@@ -224,21 +224,37 @@ def verdict_of(*failures: bool) -> Verdict:
     return Verdict.FAIL if any(failures) else Verdict.PASS
 
 
-def sustained_windows(x: np.ndarray,
-                      widest: int | None = None) -> tuple[np.ndarray, np.ndarray]:
-    """For each sample, the first and last index of the longest window around it in which
-    every sample is >= it. ``widest``: a bound on any window's width when known (fewer
-    sparse-table levels), default the length."""
-    x = np.asarray(x, dtype=float)
-    n = len(x)
-    bound = n if widest is None else min(n, max(int(widest), 1))
-    table = [x]
-    while (1 << len(table)) <= bound:
-        prev, half = table[-1], 1 << (len(table) - 1)
-        table.append(np.minimum(prev[:-half], prev[half:]))
+class SustainedWindows:
+    """Answers, for any sample, the first and last index of the longest window around it in
+    which every sample is >= it, from a range-minimum sparse table built once.
 
-    def reach(values: np.ndarray, tables: list[np.ndarray]) -> np.ndarray:
-        pos = np.arange(1, n + 1)  # next index to test, going right
+    Parameters
+    ----------
+    x : (n,) ndarray
+        The signal, in the rule's own direction [g0]; -inf marks a barrier.
+    widest : int, optional
+        A bound on any window's width when known (fewer table levels); default n.
+
+    References
+    ----------
+    The range-minimum sparse table and binary lifting of M. A. Bender and M. Farach-Colton,
+    "The LCA problem revisited", LATIN 2000, LNCS 1776, pp. 88-94.
+    """
+
+    def __init__(self, x: np.ndarray, widest: int | None = None):
+        self.x = np.asarray(x, dtype=float)
+        n = len(self.x)
+        bound = n if widest is None else min(n, max(int(widest), 1))
+        table = [self.x]
+        while (1 << len(table)) <= bound:
+            prev, half = table[-1], 1 << (len(table) - 1)
+            table.append(np.minimum(prev[:-half], prev[half:]))
+        self.table = table
+        self.reversed = [t[::-1] for t in table]
+
+    def _reach(self, start: np.ndarray, values: np.ndarray, tables: list) -> np.ndarray:
+        n = len(self.x)
+        pos = start + 1  # next index to test, going right
         for level in range(len(tables) - 1, -1, -1):
             span = 1 << level
             fits = pos + span <= n
@@ -248,10 +264,22 @@ def sustained_windows(x: np.ndarray,
             pos = np.where(ok, pos + span, pos)
         return pos - 1
 
-    right = reach(x, table)
-    reversed_tables = [t[::-1] for t in table]
-    left = n - 1 - reach(x[::-1], reversed_tables)[::-1]
-    return left, right
+    def __call__(self, query: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """First and last index [samples] of the window of each sample in ``query``."""
+        at = np.asarray(query, dtype=np.intp)
+        n, values = len(self.x), self.x[at]
+        right = self._reach(at, values, self.table)
+        left = n - 1 - self._reach(n - 1 - at, values, self.reversed)
+        return left, right
+
+
+def sustained_windows(x: np.ndarray, widest: int | None = None,
+                      query: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray]:
+    """For each sample (or each index in ``query``), the first and last index of the longest
+    window around it in which every sample is >= it (:class:`SustainedWindows`).
+    ``widest``: a bound on any window's width when known, default the length."""
+    x = np.asarray(x, dtype=float)
+    return SustainedWindows(x, widest)(np.arange(len(x)) if query is None else query)
 
 
 def exposure_durations(count_samples: int, dt: float,
@@ -388,14 +416,40 @@ def _kept_in_block(x: np.ndarray, floor: float, sign: float,
     return idx, above[idx]
 
 
-def _windows_of_kept(keep: np.ndarray, real: np.ndarray,
-                     values: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+def _windows_of_kept(keep: np.ndarray, real: np.ndarray, values: np.ndarray,
+                     allowed=None, dt: float = 0.0,
+                     margin: float = 0.0) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Sustained windows of the kept samples above the floor, barriers as -inf (no window
-    crosses a barrier, so the longest run between barriers bounds the widths)."""
+    crosses a barrier, so the longest run between barriers bounds the widths).
+
+    With ``allowed`` (signed-positive allowed level [g0] against duration [s], non-increasing)
+    only the samples that can come within ``margin`` of it are answered: a sample's window
+    lies inside its run above the floor, so a sample below ``allowed(run) - margin`` can
+    never get closer, whatever its window.
+    """
     r = np.flatnonzero(real)
-    widest = max(b - a + 1 for a, b in _index_runs(r)) if r.size else 1
-    left, right = sustained_windows(np.where(real, values, -np.inf), widest)
-    return keep[r], keep[left[r]], keep[right[r]]
+    if r.size == 0:
+        return keep[:0], keep[:0], keep[:0]
+    first, last = _index_run_bounds(r)
+    widest = int(np.max(last - first)) + 1
+    query = r
+    if allowed is not None:
+        run_of = np.repeat(np.arange(len(first)), last - first + 1)
+        run_len = (r[last] - r[first] + 1)[run_of]
+        query = r[values[r] > allowed(run_len * dt) - margin]
+        if query.size == 0:
+            return keep[:0], keep[:0], keep[:0]
+    left, right = sustained_windows(np.where(real, values, -np.inf), widest, query)
+    return keep[query], keep[left], keep[right]
+
+
+def _positive(rule: DurationLimit):
+    """The rule's allowed level in its own direction (positive) [g0] against duration [s],
+    or None when it is not non-increasing (the loader refuses such tables; a rule built in
+    Python might not be), in which case no sample may be skipped."""
+    if np.any(np.diff(np.abs(rule.levels_g)) > 0):
+        return None
+    return lambda duration_s: rule.sign * rule.allowed(duration_s)
 
 
 def windows_above(x: np.ndarray, floor: float,
@@ -413,6 +467,110 @@ def windows_above(x: np.ndarray, floor: float,
         empty = np.zeros(0, dtype=np.intp)
         return empty, empty, empty
     return _windows_of_kept(keep, real, sign * x[keep])
+
+
+def duration_margin(x: np.ndarray, dt: float, rule: DurationLimit) -> float:
+    """Worst margin of a duration rule over a signal [g0]: the least, over the samples, of
+    the level allowed for the time the sample's level is held less that level, in the
+    rule's own direction (negative where the rule is exceeded).
+
+    Parameters
+    ----------
+    x : (n,) ndarray
+        Filtered signal of the rule's axis [g0], uniformly sampled.
+    dt : float
+        Sample step [s].
+    rule : DurationLimit
+        The rule (allowed level against duration, non-increasing).
+
+    Returns
+    -------
+    float
+        The margin [g0]; equal to the most negative finding margin where the rule fails.
+
+    Notes
+    -----
+    Exact, without the window of every sample. The highest sample, and windows aligned on
+    blocks as long as the table's corners, give a first bound b;
+    only samples above the table's lowest level less b can beat it, so the others become
+    barriers. Over what is left, the margin equals the least over window lengths k of
+    allowed(k) - E(k), E the exposure (largest window minimum), found by branch and bound
+    on k (:func:`_margin_over_durations`).
+    """
+    signed = rule.sign * np.asarray(x, dtype=float)
+    if signed.size == 0:
+        return float("inf")
+    top = int(np.argmax(signed))
+    peak = signed[top]
+    lower = np.flatnonzero(signed < peak)  # the peak's plateau ends at the next lower sample
+    at = np.searchsorted(lower, top)
+    lo = int(lower[at - 1]) + 1 if at > 0 else 0
+    hi = int(lower[at]) - 1 if at < len(lower) else len(signed) - 1
+    best = float(rule.sign * rule.allowed(np.array([(hi - lo + 1) * dt]))[0] - peak)
+    n = len(signed)
+    for k in {int(np.ceil(d / dt - 1e-9)) for d in rule.durations_s} | {8, 64, 512}:
+        if 1 < k <= n:  # windows aligned on blocks of k: their best minimum is a bound
+            held = float(signed[: n // k * k].reshape(-1, k).min(axis=1).max())
+            best = min(best, float(rule.sign * rule.allowed(np.array([k * dt]))[0]) - held)
+    floor = float(np.min(rule.sign * rule.levels_g)) - best  # below it a sample does better
+    keep, real = _kept_in_block(signed, floor, 1.0, False)
+    r = np.flatnonzero(real)
+    if r.size == 0:
+        return best
+    first, last = _index_run_bounds(r)
+    compressed = np.where(real, signed[keep], -np.inf)
+    widest = int(np.max(last - first)) + 1
+    if _positive(rule) is None:  # a table that allows more for longer: every window
+        left, right = SustainedWindows(compressed, widest)(r)
+        held = (right - left + 1) * dt
+        return min(best, float(np.min(rule.sign * rule.allowed(held) - signed[keep[r]])))
+    # past the table's last corner the allowed level stays put while the exposure can only
+    # fall: no longer window can do worse than that corner's
+    last_corner = max(int(np.ceil(float(rule.durations_s[-1]) / dt - 1e-9)), 1)
+    longest = min(widest, last_corner)
+    return min(best, _margin_over_durations(SustainedWindows(compressed, longest), longest,
+                                            dt, rule, best))
+
+
+def _margin_over_durations(windows: SustainedWindows, longest: int, dt: float,
+                           rule: DurationLimit, best: float) -> float:
+    """The same margin as min over window lengths k of allowed(k dt) - E(k), E the exposure
+    (largest window minimum) of the compressed signal, by branch and bound on k: E at k
+    needs one pass over the sparse table, and between two evaluated lengths k1 < k2 no
+    length does better than allowed(k2 dt) - E(k1) (both are non-increasing in k)."""
+    x, table = windows.x, windows.table
+    count = len(x)
+
+    def exposure(k: int) -> float:
+        level = k.bit_length() - 1
+        if level >= len(table) or k > count:  # longer than any run between barriers
+            return -np.inf
+        t = table[level]
+        return float(np.max(np.minimum(t[: count - k + 1], t[k - (1 << level): count
+                                                               - (1 << level) + 1])))
+
+    def allowed(k: int) -> float:
+        return float(rule.sign * rule.allowed(np.array([k * dt]))[0])
+
+    top = longest  # no longer window matters
+    grid = {1, top} | {int(k) for k in np.unique(np.rint(np.geomspace(1, top, 24)))}
+    for d in rule.durations_s:  # the table's corners, and either side of them
+        k = int(np.ceil(d / dt - 1e-9))
+        grid |= {min(max(k + j, 1), top) for j in (-1, 0, 1)}
+    known = {k: exposure(k) for k in sorted(grid)}
+    best = min([best] + [allowed(k) - e for k, e in known.items() if np.isfinite(e)])
+    gaps = sorted(known)
+    stack = [(a, b) for a, b in zip(gaps[:-1], gaps[1:]) if b > a + 1]
+    while stack:
+        a, b = stack.pop()
+        if not np.isfinite(known[a]) or allowed(b) - known[a] >= best:
+            continue
+        mid = (a + b) // 2
+        known[mid] = exposure(mid)
+        if np.isfinite(known[mid]):
+            best = min(best, allowed(mid) - known[mid])
+        stack += [(lo, hi) for lo, hi in ((a, mid), (mid, b)) if hi > lo + 1]
+    return best
 
 
 def _duration_findings(x: np.ndarray, dt: float, rule: DurationLimit, ctx: _Context,
@@ -562,14 +720,18 @@ def _onset_findings(idx: np.ndarray, rate: np.ndarray, axis: str, limit: float,
     return findings
 
 
+def _index_run_bounds(idx: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Positions in ``idx`` (sorted sample indices) of the first and of the last sample of
+    each run of consecutive samples, as two arrays."""
+    cut = np.flatnonzero(np.diff(idx) != 1)
+    return np.concatenate([[0], cut + 1]), np.append(cut, len(idx) - 1)
+
+
 def _index_runs(idx: np.ndarray) -> list[tuple[int, int]]:
-    """Positions in ``idx`` (sorted sample indices) of the first and last of each run of
-    consecutive samples."""
+    """:func:`_index_run_bounds` as a list of (first, last) pairs."""
     if len(idx) == 0:
         return []
-    cut = np.flatnonzero(np.diff(idx) != 1)
-    starts = np.concatenate([[0], cut + 1])
-    ends = np.append(cut, len(idx) - 1)
+    starts, ends = _index_run_bounds(idx)
     return [(int(a), int(b)) for a, b in zip(starts, ends)]
 
 
@@ -660,10 +822,13 @@ def _join(parts: list, dtype) -> np.ndarray:
 
 
 def evaluate_seat(seat, limits: LimitSet, case: str = "nominal",
-                  keep_signals: bool = True) -> SeatResult:
+                  keep_signals: bool = True, aids: bool = True) -> SeatResult:
     """All rules for one rider signal (an object with ``seat``, ``t`` [s], ``g`` (n, 3) [g0]
     and optionally ``s`` [m] and ``position`` (n, 3) [m]). With ``keep_signals`` the result
-    keeps the filtered signal and the times (for figures and :func:`seat_exposures`).
+    keeps the filtered signal and the times (for figures and :func:`seat_exposures`). With
+    ``aids`` it also carries the design aids' summaries (every rule's worst margin, the
+    rider's flights, the restraint zones); without, only what the rules need (the flights
+    only when the limits set a free travel, since they are then a rule).
 
     The filtered signal is scanned once in cache-sized blocks (:class:`_Scan`); the findings
     are then made from the few samples each rule singled out.
@@ -676,8 +841,8 @@ def evaluate_seat(seat, limits: LimitSet, case: str = "nominal",
     findings: list[Finding] = []
     for rule, (keep, real) in zip(limits.duration, scan.kept):
         x = filtered[:, AXIS_INDEX[rule.axis]]
-        windows = (_windows_of_kept(keep, real, rule.sign * x[keep]) if real.any()
-                   else (keep[:0],) * 3)
+        windows = (_windows_of_kept(keep, real, rule.sign * x[keep], _positive(rule), dt)
+                   if real.any() else (keep[:0],) * 3)
         findings += _duration_findings(x, dt, rule, ctx, windows)
     sustained = {}
     for env, check in zip(limits.combined, scan.outside):
@@ -693,25 +858,32 @@ def evaluate_seat(seat, limits: LimitSet, case: str = "nominal",
     for onset, (idx, rate) in zip(limits.onset, scan.over):
         findings += _onset_findings(idx, rate, onset.axis, onset.limit_g_per_s, ctx, dt)
     worst = {axis: (float(scan.low[i]), float(scan.high[i])) for i, axis in enumerate(AXES)}
-    from .sensitivity import rule_margins
     from .uplift import seat_uplift, uplift_findings
-    from .zones import seat_zones
 
-    uplift = seat_uplift(filtered[:, 2], t, ctx.s, limits.uplift_free_travel_m)
-    findings += uplift_findings(uplift, ctx)
-    zones = (seat_zones(filtered[:, 0], filtered[:, 2], t, limits.zones, ctx.s, ctx.position)
-             if limits.zones else None)
+    uplift = None
+    if aids or limits.uplift_free_travel_m is not None:
+        uplift = seat_uplift(filtered[:, 2], t, ctx.s, limits.uplift_free_travel_m)
+        findings += uplift_findings(uplift, ctx)
+    zones, margins = None, {}
+    if aids:
+        from .sensitivity import rule_margins
+        from .zones import seat_zones
+
+        zones = (seat_zones(filtered[:, 0], filtered[:, 2], t, limits.zones, ctx.s,
+                            ctx.position) if limits.zones else None)
+        margins = rule_margins(filtered, dt, limits, t, uplift, sustained)
     return SeatResult(seat.seat, case, worst, tuple(findings),
                       filtered if keep_signals else None, t if keep_signals else None,
-                      uplift, zones, rule_margins(filtered, dt, limits, t, uplift, sustained))
+                      uplift, zones, margins)
 
 
 def evaluate(seats, limits: LimitSet, case: str = "nominal",
-             keep_signals: bool = True) -> Evaluation:
+             keep_signals: bool = True, aids: bool = True) -> Evaluation:
     """Every rule of ``limits`` for every rider signal in ``seats``. Without
-    ``keep_signals`` the filtered signals are not kept (for sweeps); exposure curves are
+    ``keep_signals`` the filtered signals are not kept (for sweeps); without ``aids`` the
+    design aids' summaries are left out (the findings are the same); exposure curves are
     made on request by :func:`seat_exposures`."""
     seats = list(seats)
     warnings = check_filter_rate(limits, sample_rate(seats[0].t)) if seats else []
-    return Evaluation(limits, tuple(evaluate_seat(s, limits, case, keep_signals)
+    return Evaluation(limits, tuple(evaluate_seat(s, limits, case, keep_signals, aids)
                                     for s in seats), tuple(warnings))

@@ -28,6 +28,7 @@ import numpy as np
 from .conditioning import onset_rate
 from .limits import AXES, REST, LimitSet, outside_fraction
 from .loadcases import LoadCase
+from .rules import duration_margin
 
 
 @dataclass(frozen=True)
@@ -103,26 +104,11 @@ class Sensitivity:
                 "skipped": dict(self.skipped), "rows": [r.to_dict() for r in self.rows]}
 
 
-def _duration_margin(x: np.ndarray, dt: float, rule) -> float:
-    """min over samples of (allowed(held) - level), in the rule's direction. Only samples
-    that can beat the margin of the highest sample are windowed (windows_above)."""
-    from .rules import windows_above
-
-    signed = rule.sign * x
-    top = int(np.argmax(signed))
-    peak = signed[top]
-    lo, hi = top, top
-    while lo > 0 and signed[lo - 1] >= peak:
-        lo -= 1
-    while hi < len(signed) - 1 and signed[hi + 1] >= peak:
-        hi += 1
-    best = float(rule.sign * rule.allowed(np.array([(hi - lo + 1) * dt]))[0] - peak)
-    floor = float(np.min(rule.sign * rule.levels_g)) - best  # below it a sample does better
-    samples, left, right = windows_above(signed, floor)
-    if samples.size:
-        allowed = rule.sign * rule.allowed((right - left + 1) * dt)
-        best = min(best, float(np.min(allowed - signed[samples])))
-    return best
+def _star_shaped(steps: np.ndarray) -> bool:
+    """Whether the polygon whose vertices turn by ``steps`` [rad] about a point winds once
+    around it without turning back (every ray from the point crosses it once)."""
+    return bool((np.all(steps > 0) or np.all(steps < 0))
+                and abs(abs(steps.sum()) - 2 * np.pi) <= 1e-6)
 
 
 def ray_fraction(vertices: np.ndarray, center: np.ndarray, points: np.ndarray) -> np.ndarray:
@@ -131,7 +117,7 @@ def ray_fraction(vertices: np.ndarray, center: np.ndarray, points: np.ndarray) -
     a = vertices - center
     ang = np.arctan2(a[:, 1], a[:, 0])
     steps = np.angle(np.exp(1j * np.diff(np.append(ang, ang[0]))))
-    if not (np.all(steps > 0) or np.all(steps < 0)) or abs(abs(steps.sum()) - 2 * np.pi) > 1e-6:
+    if not _star_shaped(steps):
         return outside_fraction(vertices, center, points)
     if steps[0] < 0:  # walk the polygon counter-clockwise
         a = a[::-1]
@@ -149,10 +135,24 @@ def ray_fraction(vertices: np.ndarray, center: np.ndarray, points: np.ndarray) -
 
 
 def _polygon_margin(pair: np.ndarray, env) -> float:
+    """-100 x the largest outside fraction of the samples [% of the envelope]. For a polygon
+    that is star-shaped about the rest point, a sample at distance d from it has a fraction
+    between d / r_max - 1 and d / r_min - 1 (r_min, r_max: nearest edge, farthest vertex),
+    so only the samples that can beat the farthest sample's lower bound are traced."""
     center = np.array([REST[env.axes[0]], REST[env.axes[1]]])
     away = np.any(np.abs(pair - center) > 1e-12, axis=1)
     if not away.any():
         return 100.0
+    rel = env.vertices - center
+    ang = np.arctan2(rel[:, 1], rel[:, 0])
+    if _star_shaped(np.angle(np.exp(1j * np.diff(np.append(ang, ang[0]))))):
+        dist = np.hypot(pair[:, 0] - center[0], pair[:, 1] - center[1])
+        edge = np.roll(rel, -1, axis=0) - rel
+        along = np.clip(-np.sum(rel * edge, axis=1) / np.sum(edge * edge, axis=1), 0.0, 1.0)
+        r_min = float(np.min(np.hypot(*(rel + along[:, None] * edge).T)))
+        r_max = float(np.max(np.hypot(rel[:, 0], rel[:, 1])))
+        if r_min > 0:
+            away &= dist >= (dist.max() / r_max) * r_min * (1 - 1e-9)
     return -100.0 * float(np.max(ray_fraction(env.vertices, center, pair[away])))
 
 
@@ -170,7 +170,7 @@ def rule_margins(filtered: np.ndarray, dt: float, limits: LimitSet, t: np.ndarra
     if len(filtered) == 0:
         return out
     for rule in limits.duration:
-        out[f"duration {rule.name}"] = _duration_margin(filtered[:, idx[rule.axis]], dt, rule)
+        out[f"duration {rule.name}"] = duration_margin(filtered[:, idx[rule.axis]], dt, rule)
     for env in limits.combined:
         pair = filtered[:, [idx[env.axes[0]], idx[env.axes[1]]]]
         if env.source == "sustained":

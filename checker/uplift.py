@@ -73,6 +73,39 @@ def _peak_in_step(v: float, d: float, a0: float, a1: float, h: float) -> tuple[f
     return best, at
 
 
+def _states(v: float, d: float, acc: np.ndarray, t: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Relative speed [m/s] and displacement [m] at every sample of ``t`` from (v, d) at
+    t[0], the acceleration [m/s^2] linear between samples (as :func:`_step`, summed)."""
+    h = np.diff(t)
+    speed = v + np.concatenate([[0.0], np.cumsum(0.5 * (acc[:-1] + acc[1:]) * h)])
+    rise = speed[:-1] * h + (2.0 * acc[:-1] + acc[1:]) * h * h / 6.0
+    return speed, d + np.concatenate([[0.0], np.cumsum(rise)])
+
+
+def _peaks_in_steps(v: np.ndarray, d: np.ndarray, a0: np.ndarray, a1: np.ndarray,
+                    t: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """:func:`_peak_in_step` for many steps at once: each step's highest d [m] and its
+    offset [s] from the step's start."""
+    h = np.diff(t)
+    c2, c1, c0 = (a1 - a0) / (2.0 * h), a0, v
+    best, at = d.copy(), np.zeros_like(d)
+    flat = np.abs(c2) < 1e-15
+    with np.errstate(divide="ignore", invalid="ignore"):
+        linear = np.where(flat & (np.abs(c1) > 1e-15), -c0 / c1, np.nan)
+        disc = c1 * c1 - 4.0 * c2 * c0
+        root = np.sqrt(np.where(disc >= 0, disc, np.nan))
+        candidates = (np.where(flat, linear, (-c1 + root) / (2.0 * c2)),
+                      np.where(flat, np.nan, (-c1 - root) / (2.0 * c2)))
+    for x in candidates:
+        inside = (x > 0.0) & (x < h)
+        xs = np.where(inside, x, 0.0)
+        dx = d + v * xs + a0 * xs * xs / 2.0 + (a1 - a0) * xs ** 3 / (6.0 * h)
+        higher = inside & (dx > best)
+        best = np.where(higher, dx, best)
+        at = np.where(higher, xs, at)
+    return best, at
+
+
 def _landing_in_step(v: float, d: float, a0: float, a1: float, h: float) -> float:
     """Offset within a step at which d returns to zero (bisection on the exact cubic)."""
     def pos(x: float) -> float:
@@ -129,21 +162,33 @@ def uplift_events(gz: np.ndarray, t: np.ndarray, station: np.ndarray | None = No
         carry = None
         v, d = _step(0.0, 0.0, a0, acc[i0], t[i0] - t0) if t[i0] > t0 else (0.0, 0.0)
         peak, t_peak, k, landed, t_end = d, t[i0], i0, False, t[-1]
+        chunk = 64
         while k + 1 < n:
+            # a stretch of steps at once: states by running sums, the landing the first step
+            # that ends at or below the seat, the peaks of every step up to it
+            m_steps = min(chunk, n - 1 - k)
+            chunk *= 2
+            v_all, d_all = _states(v, d, acc[k:k + m_steps + 1], t[k:k + m_steps + 1])
+            down = np.flatnonzero(d_all[1:] <= 0.0)
+            upto = int(down[0]) + 1 if down.size else m_steps
+            top, at = _peaks_in_steps(v_all[:upto], d_all[:upto], acc[k:k + upto],
+                                      acc[k + 1:k + upto + 1], t[k:k + upto + 1])
+            best = int(np.argmax(top))
+            if top[best] > peak:
+                peak, t_peak = float(top[best]), float(t[k + best] + at[best])
+            if not down.size:
+                v, d, k = float(v_all[-1]), float(d_all[-1]), k + m_steps
+                continue
+            k += upto - 1
+            v, d = float(v_all[upto - 1]), float(d_all[upto - 1])
             h = t[k + 1] - t[k]
-            top, at = _peak_in_step(v, d, acc[k], acc[k + 1], h)
-            if top > peak:
-                peak, t_peak = top, t[k] + at
-            v1, d1 = _step(v, d, acc[k], acc[k + 1], h)
-            if d1 <= 0.0:
-                x = _landing_in_step(v, d, acc[k], acc[k + 1], h)
-                t_end, landed = t[k] + x, True
-                a_land = acc[k] + (acc[k + 1] - acc[k]) * x / h
-                if a_land > 0.0 and x < h:  # Gz < 0 as the seat catches up
-                    carry = (t_end, a_land, k + 1)
-                k += 1
-                break
-            v, d, k = v1, d1, k + 1
+            x = _landing_in_step(v, d, acc[k], acc[k + 1], h)
+            t_end, landed = t[k] + x, True
+            a_land = acc[k] + (acc[k + 1] - acc[k]) * x / h
+            if a_land > 0.0 and x < h:  # Gz < 0 as the seat catches up
+                carry = (t_end, a_land, k + 1)
+            k += 1
+            break
         if d > peak and not landed:
             peak, t_peak = d, t[k]
         if not landed:

@@ -175,3 +175,47 @@ def test_exposures_only_on_request_at_plotted_durations():
     assert up.levels_g[(up.durations_s > 2.0)] == pytest.approx(1.0)
     lean = evaluate([RecordedSignal("s", t, g)], limits, keep_signals=False).seats[0]
     assert rules.seat_exposures(lean, limits) == {}
+
+
+@settings(max_examples=120, deadline=None)
+@given(st.lists(st.sampled_from([-1.5, -0.5, 0.0, 0.4, 1.0, 1.3, 1.8, 2.2, 2.7, 3.5]),
+                min_size=24, max_size=240), st.booleans())
+def test_skipping_samples_that_cannot_fail_changes_no_finding(values, jitter):
+    # Duration rules answer only the samples above the level allowed for their whole run
+    # above the floor; answering every sample above the floor must give the same findings.
+    sig = _signal(values, jitter)
+    limits = limits_for_scan()
+    pruned = [f.to_dict() for f in evaluate([sig], limits, aids=False).findings]
+    original = rules._positive
+    try:
+        rules._positive = lambda rule: None
+        every = [f.to_dict() for f in evaluate([sig], limits, aids=False).findings]
+    finally:
+        rules._positive = original
+    assert pruned == every
+
+
+def _margin_brute_force(x: np.ndarray, dt: float, rule: DurationLimit) -> float:
+    """Definition: min over samples of allowed(held) - level, each sample's window grown
+    one sample at a time while the neighbours are at least its level."""
+    signed = rule.sign * x
+    best = np.inf
+    for i, v in enumerate(signed):
+        lo, hi = i, i
+        while lo > 0 and signed[lo - 1] >= v:
+            lo -= 1
+        while hi < len(signed) - 1 and signed[hi + 1] >= v:
+            hi += 1
+        allowed = rule.sign * rule.allowed(np.array([(hi - lo + 1) * dt]))[0]
+        best = min(best, allowed - v)
+    return float(best)
+
+
+@settings(max_examples=150, deadline=None)
+@given(st.lists(st.floats(-3, 4, allow_nan=False), min_size=1, max_size=120),
+       st.sampled_from([0, 1, 2]))
+def test_duration_margin_equals_its_definition(values, which):
+    rule = limits_for_scan().duration[which]
+    x = np.asarray(values)
+    assert rules.duration_margin(x, 1 / RATE, rule) == pytest.approx(
+        _margin_brute_force(x, 1 / RATE, rule), abs=1e-12)

@@ -92,6 +92,23 @@ def test_fast_ray_fraction_equals_the_general_routine():
     np.testing.assert_allclose(ray_fraction(notched, c, pts), outside_fraction(notched, c, pts))
 
 
+def test_polygon_margin_skips_only_samples_that_cannot_be_the_worst():
+    """The distance pre-test of the envelope margin against every sample traced through
+    checker.limits.outside_fraction (checked against shapely in test_rules)."""
+    from checker.limits import CombinedEnvelope, outside_fraction
+    from checker.sensitivity import _polygon_margin
+
+    rng = np.random.default_rng(11)
+    theta = np.linspace(0, 2 * np.pi, 40, endpoint=False)
+    for _ in range(40):
+        radius = rng.uniform(0.3, 3.0, 40)
+        star = np.column_stack([radius * np.cos(theta), 1.0 + radius * np.sin(theta)])
+        pts = rng.normal(0, rng.uniform(0.1, 2.0), (300, 2)) + [0, 1]
+        env = CombinedEnvelope("star", ("gy", "gz"), star)
+        expected = -100.0 * np.max(outside_fraction(star, np.array([0.0, 1.0]), pts))
+        assert _polygon_margin(pts, env) == pytest.approx(expected, rel=1e-9, abs=1e-9)
+
+
 def test_margins_agree_with_the_findings_they_summarize():
     """A rule's margin is the worst over the ride: where a rule is exceeded it equals the
     most negative finding margin (same definition, computed another way)."""
