@@ -24,7 +24,21 @@ SAME_SEVERITY = 0.005  # severity change below which a matched finding counts as
 
 class ChangeState(TextEnum):
     """How a finding changed from the old revision to the new (in the order documents list
-    them)."""
+    them).
+
+    Attributes
+    ----------
+    NEW : str
+        ``"new"``: only in the new revision.
+    WORSE : str
+        ``"worse"``: paired, severity up by more than SAME_SEVERITY.
+    GONE : str
+        ``"gone"``: only in the old revision.
+    BETTER : str
+        ``"better"``: paired, severity down by more than SAME_SEVERITY.
+    SAME : str
+        ``"same"``: paired, severity within SAME_SEVERITY.
+    """
 
     NEW = "new"
     WORSE = "worse"
