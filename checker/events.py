@@ -3,16 +3,14 @@
 A reviewer reads events, not findings: 24 seats passing the bottom of one loop give 24
 findings of the same rule but one thing to fix.
 
-What "the same place" means here
---------------------------------
-Two findings of the same rule are at the same place when their station ranges (from the
-station at the start of the exceedance to the station at its end, of the seat's car) overlap
-or lie within one train length (at least :data:`MIN_GAP_M`) of each other, whatever their
-seat and load case. The test is applied transitively: findings chain into one event while
-each next one starts within a train length of the event's stations so far. One train
-length, because every car passes the same element, and an effect of the whole train (the
-rear pulled over a crest, a powered section acting while any car is on it) shows in each car
-up to a train length apart. A stall is reported at the lead car's station for every seat,
+*What "the same place" means here.* Two findings of the same rule are at the same place when
+their station ranges (from the station at the start of the exceedance to the station at its
+end, of the seat's car) overlap or lie within one train length (at least :data:`MIN_GAP_M`) of
+each other, whatever their seat and load case. The test is applied transitively: findings chain
+into one event while each next one starts within a train length of the event's stations so far.
+One train length, because every car passes the same element, and an effect of the whole train
+(the rear pulled over a crest, a powered section acting while any car is on it) shows in each
+car up to a train length apart. A stall is reported at the lead car's station for every seat,
 so a case's stall is one event.
 
 Recorded data carry no station: there, findings of the same rule are the same place when
