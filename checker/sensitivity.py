@@ -146,7 +146,8 @@ class Sensitivity:
     Attributes
     ----------
     rows : tuple of SensitivityRow
-        In the order of the nominal seats' margins (the limit set's rule order).
+        Each rule at its governing seat in the limit set's rule order, then the other seats
+        that govern an event of the nominal run.
     parameters : tuple of Parameter
         The parameters considered.
     base : dict
