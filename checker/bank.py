@@ -45,7 +45,42 @@ MIN_SPEED_M_S = 0.5  # below this the roll rate is no constraint worth tracking
 
 @dataclass(frozen=True)
 class BankAdvice:
-    """Given and advised bank on the station grid, and what the advice achieves."""
+    """Given and advised bank on the station grid, and what the advice achieves.
+
+    Attributes
+    ----------
+    s : (n,) ndarray
+        Station grid [m].
+    given_deg : (n,) ndarray
+        Bank of the input track [deg].
+    target_deg : (n,) ndarray
+        Unsmoothed bank cancelling Gy, the middle of the seats' angles, from the last
+        iteration [deg].
+    advised_deg : (n,) ndarray
+        Rate-limited, smoothed advice, as the re-fitted track carries it [deg].
+    sample_stations : (m,) ndarray
+        Station of each input sample [m].
+    advised_at_samples : (m,) ndarray
+        Advice at the input samples, what the output file carries [deg].
+    roll_rate_limit_deg_s : float
+        Roll-rate limit the advice was made for [deg/s].
+    max_roll_rate_deg_s : float
+        Highest roll rate of the advice, |d(theta)/ds| times the fastest car's speed on the
+        given track [deg/s].
+    rate_bound : (n,) ndarray of bool
+        Where the bank cannot meet every seat's tolerance (rate limit, or seats that need
+        different banks), by more than 0.5 deg.
+    max_abs_gy_given : float
+        Worst seat's |Gy|, unfiltered, whole ride, on the given bank [g0].
+    max_abs_gy_advised : float
+        The same, simulated on the advised bank [g0].
+    max_abs_gy_where_allowed : float
+        The same, at stations where the advice meets every seat; nan if none [g0].
+    iterations : int
+        Simulate-and-correct passes asked for.
+    ideal : bool
+        True when the train was the centerline rider.
+    """
 
     s: np.ndarray  # station grid [m]
     given_deg: np.ndarray  # bank of the input track [deg]
@@ -64,6 +99,15 @@ class BankAdvice:
     ideal: bool
 
     def to_dict(self) -> dict:
+        """The summary numbers as JSON fields.
+
+        Returns
+        -------
+        fields : dict
+            Rate limit and highest roll rate [deg/s], worst |Gy| given, advised and where
+            the rate allows [g0], length where the advice is rate-bound [m], largest change
+            of bank [deg], iterations and whether the rider was the centerline rider.
+        """
         return {"roll_rate_limit_deg_s": self.roll_rate_limit_deg_s,
                 "max_roll_rate_deg_s": self.max_roll_rate_deg_s,
                 "max_abs_gy_given_g": self.max_abs_gy_given,
@@ -90,7 +134,21 @@ def _on_grid(result, grid: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
 
 
 def fastest_speed(result, grid: np.ndarray) -> np.ndarray:
-    """The highest speed [m/s] of any car at each station."""
+    """The highest speed of any car at each station.
+
+    Parameters
+    ----------
+    result : RideResult
+        A simulated ride.
+    grid : (n,) ndarray
+        Stations [m].
+
+    Returns
+    -------
+    speed : (n,) ndarray
+        Highest speed of any car whose reference point passes the station; 0 where none
+        does [m/s].
+    """
     m = result.motion
     best = np.zeros(len(grid))
     for k in range(m.car_count):
@@ -102,8 +160,34 @@ def fastest_speed(result, grid: np.ndarray) -> np.ndarray:
 
 def rate_limited(lower: np.ndarray, upper: np.ndarray, tau: np.ndarray,
                  rate: float) -> np.ndarray:
-    """Midpoint of the largest ``rate``-Lipschitz function (in ``tau``) under ``upper`` and
-    the smallest one over ``lower``; +-inf bounds are free. NaN when nothing is bounded."""
+    """Midpoint of the Lipschitz envelopes of two bounds.
+
+    The largest ``rate``-Lipschitz function (in ``tau``) under ``upper`` is
+    min_j(upper_j + rate |tau - tau_j|), the smallest over ``lower`` is
+    max_j(lower_j - rate |tau - tau_j|); both are computed with running minima and maxima in
+    O(n). Their midpoint is ``rate``-Lipschitz too.
+
+    Parameters
+    ----------
+    lower, upper : (n,) ndarray
+        Admissible bank at each station; -inf / +inf where a station is free [deg].
+    tau : (n,) ndarray
+        Non-decreasing time-like coordinate, integral of ds / v_max [s].
+    rate : float
+        Roll-rate limit [deg/s].
+
+    Returns
+    -------
+    bank : (n,) ndarray
+        The midpoint [deg]; all nan when either envelope is not finite everywhere (some
+        bound is missing on a whole side).
+
+    References
+    ----------
+    E. J. McShane, "Extension of range of functions", Bull. Amer. Math. Soc. 40, 1934, and
+    H. Whitney, "Analytic extensions of differentiable functions defined in closed sets",
+    Trans. Amer. Math. Soc. 36, 1934 (the extremal Lipschitz extensions; from memory).
+    """
     rt = rate * tau
     with np.errstate(invalid="ignore"):
         up = np.minimum(np.minimum.accumulate(upper - rt) + rt,
@@ -116,8 +200,26 @@ def rate_limited(lower: np.ndarray, upper: np.ndarray, tau: np.ndarray,
 
 
 def smooth_in_time(values: np.ndarray, tau: np.ndarray, window_s: float) -> np.ndarray:
-    """Two passes of a centred moving average over ``window_s`` in ``tau`` (keeps any
-    Lipschitz bound; ends held)."""
+    """Two passes of a centred moving average over a window in ``tau``.
+
+    The values are re-sampled on a uniform grid in ``tau`` (at most 2,000,001 points), the
+    ends held constant, and interpolated back. A moving average keeps any Lipschitz bound.
+
+    Parameters
+    ----------
+    values : (n,) ndarray
+        Values at ``tau`` (e.g. bank [deg]).
+    tau : (n,) ndarray
+        Increasing time-like coordinate [s].
+    window_s : float
+        Width of the moving average [s]; <= 0, or not shorter than the span of ``tau``,
+        returns ``values`` unchanged.
+
+    Returns
+    -------
+    smoothed : (n,) ndarray
+        Smoothed values at ``tau``, in the unit of ``values``.
+    """
     if window_s <= 0 or tau[-1] - tau[0] <= window_s:
         return values
     step = min(window_s / 20.0, max(float(np.min(np.diff(tau))), 1e-4))
@@ -180,17 +282,39 @@ def advise_bank(centerline, train, operation, options: RideOptions | None = None
 
     Parameters
     ----------
-    centerline : :class:`checker.track.Centerline` (its roll or up vectors are the given bank)
-    train, operation, options : as for :func:`checker.ride.run_ride`
-    roll_rate_limit_deg_s : highest roll rate a car may see [deg/s]
-    tolerance_g : |Gy| [g0] accepted at each seat when choosing the bank
-    smoothing_s : moving-average window in time [s] that softens the roll acceleration
-    iterations : simulate-and-correct passes
-    ideal : True when ``train`` is the centerline rider (recorded in the result)
+    centerline : Centerline
+        The layout; its roll or up vectors are the given bank.
+    train : Train
+        Cars and seats (as for :func:`checker.ride.run_ride`).
+    operation : Operation
+        Start speed and powered sections.
+    options : RideOptions or None
+        Numerical options; None for the defaults.
+    roll_rate_limit_deg_s : float
+        Highest roll rate a car may see [deg/s].
+    tolerance_g : float
+        |Gy| accepted at each seat when choosing the bank [g0].
+    smoothing_s : float
+        Moving-average window in time that softens the roll acceleration [s].
+    iterations : int
+        Simulate-and-correct passes.
+    ideal : bool
+        True when ``train`` is the centerline rider (recorded in the result).
 
     Returns
     -------
-    :class:`BankAdvice`
+    advice : BankAdvice
+
+    Raises
+    ------
+    InputError
+        As :func:`checker.ride.run_ride` (track too short, sections off the track, memory
+        cap).
+
+    References
+    ----------
+    E. J. McShane, "Extension of range of functions", Bull. Amer. Math. Soc. 40, 1934 (the
+    Lipschitz envelopes of :func:`rate_limited`; from memory).
     """
     options = options or RideOptions()
     given = run_ride(centerline, train, operation, options)
@@ -240,7 +364,23 @@ def advise_bank(centerline, train, operation, options: RideOptions | None = None
 
 
 def banked_table(points_in_file_units: np.ndarray, roll_deg: np.ndarray, note: str) -> str:
-    """CSV text: a comment line, then x, y, z (as in the input file) and roll_deg."""
+    """The banked centerline as CSV text.
+
+    Parameters
+    ----------
+    points_in_file_units : (m, 3) ndarray
+        Centerline samples in the input file's own length unit (m or ft).
+    roll_deg : (m,) ndarray
+        Bank at each sample, ISO 8855 sign [deg]; |roll| below 5e-7 is written as 0.
+    note : str
+        Text of the leading comment line (one line).
+
+    Returns
+    -------
+    text : str
+        ``# note``, the header ``x,y,z,roll_deg``, one row per sample (coordinates to 10
+        significant digits, roll to 6 decimals), a final newline.
+    """
     lines = [f"# {note}", "x,y,z,roll_deg"]
     for (x, y, z), r in zip(points_in_file_units.tolist(), roll_deg.tolist()):
         lines.append(f"{x:.10g},{y:.10g},{z:.10g},{0.0 if abs(r) < 5e-7 else r:.6f}")

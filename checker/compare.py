@@ -24,7 +24,21 @@ SAME_SEVERITY = 0.005  # severity change below which a matched finding counts as
 
 class ChangeState(TextEnum):
     """How a finding changed from the old revision to the new (in the order documents list
-    them)."""
+    them).
+
+    Attributes
+    ----------
+    NEW : str
+        ``"new"``: only in the new revision.
+    WORSE : str
+        ``"worse"``: paired, severity up by more than SAME_SEVERITY.
+    GONE : str
+        ``"gone"``: only in the old revision.
+    BETTER : str
+        ``"better"``: paired, severity down by more than SAME_SEVERITY.
+    SAME : str
+        ``"same"``: paired, severity within SAME_SEVERITY.
+    """
 
     NEW = "new"
     WORSE = "worse"
@@ -35,7 +49,20 @@ class ChangeState(TextEnum):
 
 @dataclass(frozen=True)
 class FindingChange:
-    """One finding in either revision, paired by place where both have it."""
+    """One finding in either revision, paired by place where both have it.
+
+    Attributes
+    ----------
+    status : ChangeState
+        New, worse, gone, better or same (by the change of severity).
+    old : Finding or None
+        The finding in the old revision; None when it is new.
+    new : Finding or None
+        The finding in the new revision; None when it is gone.
+    matched_by : str
+        How the pair was matched: ``"position (3.2 m)"``, ``"station fraction (0.012)"``,
+        ``"time (0.10 s)"``, or empty when unpaired.
+    """
 
     status: ChangeState
     old: Finding | None
@@ -44,19 +71,35 @@ class FindingChange:
 
     @property
     def rule(self) -> str:
+        """The rule of the finding (new revision's when both exist)."""
         return (self.new or self.old).rule
 
     @property
     def seat(self) -> str:
+        """The seat of the finding."""
         return (self.new or self.old).seat
 
     @property
     def case(self) -> str:
+        """The load case of the finding."""
         return (self.new or self.old).case
 
 
 @dataclass
 class Comparison:
+    """Two revisions of a layout compared.
+
+    Attributes
+    ----------
+    old_verdict, new_verdict : str
+        Verdict of each revision (``"pass"`` or ``"fail"``).
+    peaks : list of dict
+        Per seat present in both, axis and kind (``"min"``/``"max"``): ``old``, ``new`` and
+        ``change`` of the filtered peak over all cases [g0].
+    changes : list of FindingChange
+        Every finding's change, in the order of :class:`ChangeState`, most severe first.
+    """
+
     old_verdict: str
     new_verdict: str
     peaks: list[dict]  # seat, axis, kind (min/max), old, new, change [g0]
@@ -64,9 +107,21 @@ class Comparison:
 
     @property
     def regressed(self) -> bool:
+        """True when any finding is new or worse in the new revision."""
         return any(c.status in (ChangeState.NEW, ChangeState.WORSE) for c in self.changes)
 
     def count(self, status: str) -> int:
+        """Number of changes with a status.
+
+        Parameters
+        ----------
+        status : str or ChangeState
+            ``"new"``, ``"worse"``, ``"gone"``, ``"better"`` or ``"same"``.
+
+        Returns
+        -------
+        count : int
+        """
         return sum(1 for c in self.changes if c.status == status)
 
 
@@ -87,7 +142,26 @@ def _distance(a: Finding, b: Finding, old_len: float, new_len: float) -> tuple[f
 
 def match_findings(old: list[Finding], new: list[Finding], old_len: float,
                    new_len: float) -> list[FindingChange]:
-    """Pair findings of the same rule, seat and case by place; classify each pair."""
+    """Pair findings of the same rule, seat and case by place; classify each pair.
+
+    Pairs are taken greedily, closest first: by world position within MATCH_DISTANCE_M,
+    else by relative station within MATCH_FRACTION, else (both without stations, recorded
+    data) by time of the worst point. A pair whose severity changed by at most
+    SAME_SEVERITY is "same".
+
+    Parameters
+    ----------
+    old, new : list of Finding
+        Findings of the old and the new revision.
+    old_len, new_len : float
+        Track length of each revision, for the relative stations [m].
+
+    Returns
+    -------
+    changes : list of FindingChange
+        Every finding of both lists once, ordered new, worse, gone, better, same, and by
+        severity (most severe first) within each.
+    """
     groups: dict[tuple, tuple[list, list]] = {}
     for f in old:
         groups.setdefault((f.rule, f.seat, f.case), ([], []))[0].append(f)
@@ -125,7 +199,21 @@ def match_findings(old: list[Finding], new: list[Finding], old_len: float,
 
 def compare_sweeps(old: Sweep, new: Sweep, old_length_m: float,
                    new_length_m: float) -> Comparison:
-    """Peaks per seat and axis before and after, and every finding's change."""
+    """Peaks per seat and axis before and after, and every finding's change.
+
+    Parameters
+    ----------
+    old, new : Sweep
+        Every load case of each revision.
+    old_length_m, new_length_m : float
+        Track length of each revision [m].
+
+    Returns
+    -------
+    comparison : Comparison
+        Peaks for the seats present in both revisions, and the finding changes of
+        :func:`match_findings`.
+    """
     before, after = peak_summary(old), peak_summary(new)
     peaks = []
     for seat in after:

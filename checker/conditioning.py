@@ -8,6 +8,10 @@ START_WINDOW_S of the signal, so that neither a rider at rest nor a noisy or unr
 first sample makes a start-up transient. ``zero-phase`` runs sosfiltfilt instead (forward and
 backward).
 ``kind = "none"`` compares the signal as given (for data filtered elsewhere).
+
+References
+----------
+S. Butterworth, "On the theory of filter amplifiers", Wireless Engineer 7, 1930, pp. 536-541.
 """
 
 from __future__ import annotations
@@ -22,7 +26,25 @@ START_WINDOW_S = 0.1  # the filter starts at rest on the median over this first 
 
 @dataclass(frozen=True)
 class FilterSpec:
-    """Low-pass filter settings: Butterworth ``order`` poles, corner [Hz], pass kind."""
+    """Low-pass filter settings: Butterworth ``order`` poles, corner [Hz], pass kind.
+
+    Attributes
+    ----------
+    kind : {"butterworth", "none"}
+        Butterworth low-pass, or no filter.
+    order : int
+        Number of poles of the designed filter [-]. A zero-phase run applies it twice, so its
+        magnitude response is the square (-6 dB at the corner, twice the roll-off).
+    corner_hz : float
+        Corner (-3 dB) frequency of the designed filter [Hz].
+    passes : {"single", "zero-phase"}
+        One causal pass (``sosfilt``), or forward and backward (``sosfiltfilt``).
+
+    References
+    ----------
+    S. Butterworth, "On the theory of filter amplifiers", Wireless Engineer 7, 1930,
+    pp. 536-541.
+    """
 
     kind: str = "butterworth"
     order: int = 4
@@ -30,6 +52,12 @@ class FilterSpec:
     passes: str = "single"  # "single" (causal) or "zero-phase"
 
     def describe(self) -> str:
+        """The filter and how it starts, in words for a report's method text.
+
+        Returns
+        -------
+        text : str
+        """
         if self.kind == "none":
             return "no filter (the signal is compared as given)"
         how = "single causal pass" if self.passes == "single" else "zero-phase (forward-backward)"
@@ -38,7 +66,17 @@ class FilterSpec:
 
 
 def start_method(spec: FilterSpec) -> str:
-    """How the filter starts, in words for a report's method text."""
+    """How the filter starts, in words for a report's method text.
+
+    Parameters
+    ----------
+    spec : FilterSpec
+        The filter settings.
+
+    Returns
+    -------
+    text : str
+    """
     if spec.kind == "none":
         return "no filter"
     if spec.passes == "zero-phase":
@@ -49,12 +87,54 @@ def start_method(spec: FilterSpec) -> str:
 
 
 def design_sos(spec: FilterSpec, rate_hz: float) -> np.ndarray:
-    """Second-order sections of the filter at sample rate ``rate_hz`` [Hz]."""
+    """Second-order sections of the Butterworth low-pass at a sample rate.
+
+    Parameters
+    ----------
+    spec : FilterSpec
+        Order and corner [Hz].
+    rate_hz : float
+        Sample rate; the corner must lie below rate_hz / 2 [Hz].
+
+    Returns
+    -------
+    sos : (ceil(order / 2), 6) ndarray
+        Second-order sections (``scipy.signal.butter(..., output="sos")``).
+
+    Raises
+    ------
+    ValueError
+        From scipy when the corner is not below the Nyquist frequency.
+
+    References
+    ----------
+    S. Butterworth, "On the theory of filter amplifiers", Wireless Engineer 7, 1930,
+    pp. 536-541.
+    """
     return signal.butter(spec.order, spec.corner_hz, btype="lowpass", fs=rate_hz, output="sos")
 
 
 def lowpass(values: np.ndarray, rate_hz: float, spec: FilterSpec) -> np.ndarray:
-    """Filter each column of ``values`` (n,) or (n, k) along time."""
+    """Filter each column of a signal along time.
+
+    A single pass starts in the filter's steady state at the median of the first
+    START_WINDOW_S of each column; a zero-phase pass uses ``sosfiltfilt`` (odd-reflection
+    padding at both ends).
+
+    Parameters
+    ----------
+    values : (n,) or (n, k) array_like
+        Signal, uniformly sampled (e.g. specific force [g0]).
+    rate_hz : float
+        Sample rate [Hz].
+    spec : FilterSpec
+        The filter settings.
+
+    Returns
+    -------
+    filtered : ndarray
+        Same shape and unit as ``values``; a copy when ``spec.kind == "none"``.
+    """
     x = np.asarray(values, dtype=float)
     if spec.kind == "none":
         return x.copy()
@@ -70,14 +150,40 @@ def lowpass(values: np.ndarray, rate_hz: float, spec: FilterSpec) -> np.ndarray:
 
 
 def onset_rate(values: np.ndarray, t: np.ndarray) -> np.ndarray:
-    """Rate of change d values / dt [units/s], second-order central differences."""
+    """Rate of change of a signal, by second-order central differences (``numpy.gradient``).
+
+    Parameters
+    ----------
+    values : (n,) or (n, k) array_like
+        Signal (e.g. filtered specific force [g0]).
+    t : (n,) array_like or float
+        Sample times, or the uniform sample interval [s].
+
+    Returns
+    -------
+    rate : ndarray
+        d(values)/dt, same shape as ``values`` [unit of values per s, e.g. g0/s]; one-sided
+        first-order differences at the two ends.
+    """
     return np.gradient(np.asarray(values, dtype=float), np.asarray(t, dtype=float), axis=0)
 
 
 def group_delay_s(spec: FilterSpec, rate_hz: float) -> float:
-    """Low-frequency group delay of the filter [s]: how long after the motion its filtered
-    peak appears (about 0.083 s for the 4-pole 5 Hz Butterworth). Zero for a zero-phase or
-    no filter.
+    """Low-frequency group delay of the filter: how long after the motion its filtered peak
+    appears.
+
+    Parameters
+    ----------
+    spec : FilterSpec
+        The filter settings.
+    rate_hz : float
+        Sample rate [Hz].
+
+    Returns
+    -------
+    delay : float
+        Group delay at 0.1 % of the corner frequency [s]: about 0.083 s for the 4-pole 5 Hz
+        Butterworth; 0 for a zero-phase pass or no filter.
 
     References
     ----------

@@ -32,7 +32,19 @@ AXES = ("gx", "gy", "gz")
 
 @dataclass(frozen=True)
 class AxisDifference:
-    """Recorded minus simulated on one axis over the overlap [g0]; time in simulation [s]."""
+    """Recorded minus simulated on one axis over the overlap.
+
+    Attributes
+    ----------
+    axis : str
+        ``"gx"``, ``"gy"`` or ``"gz"``.
+    rms_g : float
+        RMS of the difference over the overlap [g0].
+    peak_g : float
+        Largest absolute difference [g0].
+    t_peak_s : float
+        Where it occurs, in simulation time [s].
+    """
 
     axis: str
     rms_g: float
@@ -42,7 +54,30 @@ class AxisDifference:
 
 @dataclass(frozen=True)
 class Correlation:
-    """How a record lines up with its simulation and how far apart they are."""
+    """How a record lines up with its simulation and how far apart they are.
+
+    Attributes
+    ----------
+    recorded_seat : str
+        Name of the recorded signal.
+    simulated_seat : str
+        Name of the simulated seat it was compared with.
+    method : str
+        ``"station"`` or ``"cross-correlation of filtered Gz"``.
+    offset_s : float
+        Record time = simulation time + offset_s [s].
+    peak_correlation : float
+        Normalized cross-correlation at the chosen lag, -1..1; nan when aligned by station
+        [-].
+    t : (n,) ndarray
+        Common time base on the overlap, simulation time [s].
+    recorded : (n, 3) ndarray
+        Filtered record on ``t`` [g0].
+    simulated : (n, 3) ndarray
+        Filtered simulation on ``t`` [g0].
+    axes : tuple of AxisDifference
+        Differences per axis, gx, gy, gz.
+    """
 
     recorded_seat: str
     simulated_seat: str
@@ -56,9 +91,18 @@ class Correlation:
 
     @property
     def overlap_s(self) -> float:
+        """Length of the overlap [s]; 0 with fewer than two samples."""
         return float(self.t[-1] - self.t[0]) if len(self.t) > 1 else 0.0
 
     def to_dict(self) -> dict:
+        """The alignment and differences as JSON fields (no arrays).
+
+        Returns
+        -------
+        fields : dict
+            Seats, method, offset [s], peak correlation [-], overlap [s] and per axis
+            ``axis``, ``rms_g``, ``peak_g`` [g0] and ``t_peak_s`` [s].
+        """
         return {"recorded_seat": self.recorded_seat, "simulated_seat": self.simulated_seat,
                 "method": self.method, "offset_s": self.offset_s,
                 "peak_correlation": self.peak_correlation, "overlap_s": self.overlap_s,
@@ -76,11 +120,37 @@ def _on_grid(t: np.ndarray, g: np.ndarray, grid: np.ndarray) -> np.ndarray:
 def cross_correlation_offset(t_rec: np.ndarray, gz_rec: np.ndarray, t_sim: np.ndarray,
                              gz_sim: np.ndarray, max_lag_s: float | None = None
                              ) -> tuple[float, float]:
-    """Offset [s] with record time = simulation time + offset, and the peak correlation.
+    """Time offset between a record and a simulation by cross-correlation.
 
     Both signals are put on the simulation's step (linear interpolation), their means
     removed, and cross-correlated (scipy.signal.correlate, full mode); the best lag is
     refined by a parabola through the peak and its two neighbours.
+
+    Parameters
+    ----------
+    t_rec : (n,) ndarray
+        Record times, increasing [s].
+    gz_rec : (n,) ndarray
+        Recorded (filtered) Gz [g0].
+    t_sim : (m,) ndarray
+        Simulation times, increasing [s]; their median step is the common step.
+    gz_sim : (m,) ndarray
+        Simulated (filtered) Gz [g0].
+    max_lag_s : float or None
+        Largest offset the search may return [s]; None = any.
+
+    Returns
+    -------
+    offset_s : float
+        Record time = simulation time + offset_s [s].
+    peak : float
+        Normalized cross-correlation at the integer peak lag, -1..1; nan when either
+        signal is constant [-].
+
+    References
+    ----------
+    J. S. Bendat and A. G. Piersol, Random Data: Analysis and Measurement Procedures, Wiley
+    (time-delay estimation by cross-correlation; from memory).
     """
     step = float(np.median(np.diff(t_sim)))
     rec_grid = t_rec[0] + step * np.arange(int(np.floor((t_rec[-1] - t_rec[0]) / step)) + 1)
@@ -115,11 +185,39 @@ def correlate_signals(recorded_seat: str, t_rec: np.ndarray, g_rec: np.ndarray,
 
     Parameters
     ----------
-    t_rec, g_rec : record time [s] and specific force (n, 3) [g0], uniform steps.
-    t_sim, g_sim : simulated time [s] and specific force (m, 3) [g0], uniform steps.
-    spec : the limit set's filter, applied to both before comparing.
-    s_rec, s_sim : stations [m] of the car; with both, alignment is by station.
-    max_lag_s : largest offset the cross-correlation may find [s]; None = any.
+    recorded_seat : str
+        Name of the recorded signal.
+    t_rec : (n,) ndarray
+        Record times, uniform steps [s].
+    g_rec : (n, 3) ndarray
+        Recorded specific force (Gx, Gy, Gz) [g0].
+    simulated_seat : str
+        Name of the simulated seat.
+    t_sim : (m,) ndarray
+        Simulated times, uniform steps [s].
+    g_sim : (m, 3) ndarray
+        Simulated specific force [g0].
+    spec : FilterSpec
+        The limit set's filter, applied to both (each at its own rate) before comparing.
+    s_rec : (n,) ndarray or None
+        Record stations of the car [m].
+    s_sim : (m,) ndarray or None
+        Simulated stations of the car, non-decreasing [m]; with both, alignment is by
+        station (median of the paired time differences).
+    max_lag_s : float or None
+        Largest offset the cross-correlation may find [s]; None = any.
+
+    Returns
+    -------
+    correlation : Correlation
+        Offset, peak correlation, the filtered signals on the overlap (simulation time) and
+        the per-axis differences (recorded minus simulated).
+
+    Raises
+    ------
+    ValueError
+        The record's stations do not overlap the simulation's (fewer than two samples), or
+        the signals do not overlap in time once aligned.
     """
     f_rec = lowpass(np.asarray(g_rec, float), _rate(t_rec), spec)
     f_sim = lowpass(np.asarray(g_sim, float), _rate(t_sim), spec)
@@ -155,9 +253,32 @@ def correlate_record(signals, histories, spec: FilterSpec, seat: str | None = No
                      max_lag_s: float | None = None) -> list[Correlation]:
     """Each recorded signal against the simulated seat of the same name (or ``seat``).
 
-    ``signals``: recorded signals (``seat``, ``t``, ``g``, optional ``s``); ``histories``:
-    simulated seat histories (``seat``, ``t``, ``g``, ``s``). Raises KeyError naming the
-    simulated seats when a recorded seat has no match and ``seat`` is not given.
+    A recorded signal split at gaps (``"<seat> part <k>"``) is matched by its base name.
+
+    Parameters
+    ----------
+    signals : sequence of RecordedSignal
+        Recorded signals (``seat``, ``t`` [s], ``g`` (n, 3) [g0], optional ``s`` [m]).
+    histories : sequence of SeatHistory
+        Simulated seat histories (``seat``, ``t`` [s], ``g`` [g0], ``s`` [m]).
+    spec : FilterSpec
+        The limit set's filter.
+    seat : str or None
+        Simulated seat to compare every record with; None to match by name.
+    max_lag_s : float or None
+        Largest offset the cross-correlation may find [s]; None = any.
+
+    Returns
+    -------
+    correlations : list of Correlation
+        One per recorded signal, in order.
+
+    Raises
+    ------
+    KeyError
+        With the missing simulated seat's name, when no simulated seat has that name.
+    ValueError
+        As :func:`correlate_signals` (no overlap).
     """
     by_name = {h.seat: h for h in histories}
     out = []

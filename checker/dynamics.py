@@ -9,11 +9,12 @@ kinetic energy e = v^2 / 2 [J/kg] against the lead car's station s [m], is
             + F / M                                             (launch force)
 
 with s_j = s - (j - 1) * spacing (Coulomb friction model; drag as 0.5 rho CdA v^2). It is
-integrated in space with Heun's method on the geometry's station grid; powered sections clamp e
-(lift: not below the chain speed; brake: down to a target at a bounded deceleration; launch:
-force or a controlled exit speed). Time follows from dt = 2 ds / (v_k + v_{k+1}), exact for
-constant acceleration over a step and finite from rest. The space-marching kernel is one
-sequential loop in plain Python.
+integrated in space with Heun's method (the explicit trapezoidal rule, second order; Suli and
+Mayers, An Introduction to Numerical Analysis, 2003) on the geometry's station grid; powered
+sections clamp e (lift: not below the chain speed; brake: down to a target at a bounded
+deceleration; launch: force or a controlled exit speed). Time follows from dt = 2 ds / (v_k +
+v_{k+1}), exact for constant acceleration over a step and finite from rest. The space-marching
+kernel is one sequential loop in plain Python.
 """
 
 from __future__ import annotations
@@ -36,7 +37,28 @@ RAN_TO_END, STOPPED_BY_BRAKE, STALLED = 0, 1, 2
 
 @dataclass(frozen=True)
 class RideMotion:
-    """The train's motion on the station grid of its lead car."""
+    """The train's motion on the station grid of its lead car.
+
+    Attributes
+    ----------
+    s : (n,) ndarray
+        Lead car station, from the train's length onward [m]; when the train came to rest the
+        last entry is the (interpolated) station of rest.
+    t : (n,) ndarray
+        Time since the start [s].
+    v : (n,) ndarray
+        Speed of the train (all cars alike) [m/s].
+    a_t : (n,) ndarray
+        Tangential acceleration dv/dt = d(v^2/2)/ds [m/s^2].
+    car_spacing_m : float
+        Distance between successive car reference points [m].
+    car_count : int
+        Number of cars [-].
+    end_reason : str
+        How the run ended, in words (end of track, stopped by a brake, stalled).
+    stall : TrainStalled or None
+        Set when the train came to rest outside a stopping brake (a record, not raised).
+    """
 
     s: np.ndarray  # lead car station [m]
     t: np.ndarray  # time [s]
@@ -49,6 +71,7 @@ class RideMotion:
 
     @property
     def duration_s(self) -> float:
+        """Time of the last sample [s]."""
         return float(self.t[-1])
 
 
@@ -225,8 +248,19 @@ def _section_arrays(stations: np.ndarray, operation: Operation, track_length: fl
 
 
 def attitude(up_z: float) -> str:
-    """Riders' attitude from the world-up component of the rider z axis: ``"upright"``
-    within 45 degrees of world up, ``"inverted"`` beyond 135 degrees, else ``"on its side"``."""
+    """Riders' attitude from the world-up component of the rider z axis.
+
+    Parameters
+    ----------
+    up_z : float
+        World-up (z) component of the unit rider up axis [-].
+
+    Returns
+    -------
+    attitude : {"upright", "on its side", "inverted"}
+        ``"upright"`` within 45 degrees of world up, ``"inverted"`` beyond 135 degrees, else
+        ``"on its side"``.
+    """
     if up_z >= math.cos(math.radians(45.0)):
         return "upright"
     if up_z <= -math.cos(math.radians(45.0)):
@@ -267,6 +301,43 @@ def simulate_motion(
     at ``operation.start_speed_m_s``, and runs until the lead car reaches the track's end or a
     stopping brake brings it to rest. Where it comes to rest anywhere else, the motion up to
     that point is returned with ``stall`` set (a :class:`TrainStalled` record, not raised).
+
+    The energy equation of the module docstring is integrated in space with Heun's method
+    (explicit trapezoidal rule) on the geometry's station grid; the rolling-resistance load,
+    which depends on the energy, is linearized about a guess of the whole path and the march
+    repeated until it no longer changes (a Newton iteration on the path). Time follows from
+    dt = 2 ds / (v_k + v_{k+1}).
+
+    Parameters
+    ----------
+    geometry : TrackGeometry
+        Track geometry; its station step is the marching step [m].
+    train : Train
+        Cars, masses and resistances.
+    operation : Operation
+        Start speed and powered sections.
+    head_wind_m_s : float
+        Wind against the direction of travel, added to the speed in the drag term [m/s].
+
+    Returns
+    -------
+    motion : RideMotion
+        Station, time, speed and tangential acceleration of the lead car; ``stall`` set when
+        the train came to rest outside a stopping brake.
+
+    Raises
+    ------
+    InputError
+        A powered section lies outside the track or overlaps another
+        (:meth:`Operation.check_against`).
+    ValueError
+        The train is at least as long as the track.
+
+    References
+    ----------
+    E. Suli and D. F. Mayers, An Introduction to Numerical Analysis, Cambridge University
+    Press, 2003 (Heun's method, the improved Euler method).
+    J. C. Butcher, Numerical Methods for Ordinary Differential Equations, 2nd ed., Wiley, 2008.
     """
     operation.check_against(geometry.length)
     if train.length_m >= geometry.length:  # run_ride refuses this first, naming the track file

@@ -3,16 +3,14 @@
 A reviewer reads events, not findings: 24 seats passing the bottom of one loop give 24
 findings of the same rule but one thing to fix.
 
-What "the same place" means here
---------------------------------
-Two findings of the same rule are at the same place when their station ranges (from the
-station at the start of the exceedance to the station at its end, of the seat's car) overlap
-or lie within one train length (at least :data:`MIN_GAP_M`) of each other, whatever their
-seat and load case. The test is applied transitively: findings chain into one event while
-each next one starts within a train length of the event's stations so far. One train
-length, because every car passes the same element, and an effect of the whole train (the
-rear pulled over a crest, a powered section acting while any car is on it) shows in each car
-up to a train length apart. A stall is reported at the lead car's station for every seat,
+*What "the same place" means here.* Two findings of the same rule are at the same place when
+their station ranges (from the station at the start of the exceedance to the station at its
+end, of the seat's car) overlap or lie within one train length (at least :data:`MIN_GAP_M`) of
+each other, whatever their seat and load case. The test is applied transitively: findings chain
+into one event while each next one starts within a train length of the event's stations so far.
+One train length, because every car passes the same element, and an effect of the whole train
+(the rear pulled over a crest, a powered section acting while any car is on it) shows in each
+car up to a train length apart. A stall is reported at the lead car's station for every seat,
 so a case's stall is one event.
 
 Recorded data carry no station: there, findings of the same rule are the same place when
@@ -35,7 +33,39 @@ MIN_GAP_M = 5.0  # the same place is never narrower than this, even for a one-ca
 
 @dataclass(frozen=True)
 class Event:
-    """One rule exceeded at one place. ``members`` index the findings it was built from."""
+    """One rule exceeded at one place.
+
+    ``unit``, ``severity``, ``peak``, ``limit`` and ``margin`` are those of the governing
+    finding.
+
+    Attributes
+    ----------
+    id : str
+        ``"E1"``, ``"E2"``, ... worst first.
+    rule : str
+        The rule exceeded (e.g. ``"duration +Gz"``).
+    kind : str
+        Finding kind (duration, combined, onset, stall, uplift).
+    axis : str
+        Axis or axis pair of the rule (empty for a stall).
+    s_start_m, s_end_m : float or None
+        Station range of its findings (of each seat's car) [m]; None for recorded data.
+    t_start, t_end : float
+        Time range of its findings over all cases [s].
+    seats : tuple of str
+        Seats with a finding in the event, sorted.
+    cases : tuple of str
+        Load cases with a finding in the event, sorted.
+    governing : Finding
+        The most severe finding.
+    members : tuple of int
+        Indices of the findings it was built from, in the sequence given to
+        :func:`group_findings`.
+    place : str
+        The element there, in words (:mod:`checker.places`); empty until explained.
+    remedy : Remedy or None
+        A computed first-estimate remedy (:mod:`checker.remedies`), or None.
+    """
 
     id: str  # "E1", "E2", ... worst first
     rule: str
@@ -54,22 +84,27 @@ class Event:
 
     @property
     def unit(self) -> str:
+        """Unit of peak, limit and margin (the governing finding's ``unit``)."""
         return self.governing.unit
 
     @property
     def severity(self) -> float:
+        """Exceedance relative to the limit of the governing finding [-]; inf for a stall."""
         return self.governing.severity
 
     @property
     def peak(self) -> float:
+        """Peak of the governing finding, in its ``peak_unit`` (g0, g0/s, m/s or m)."""
         return self.governing.peak_g
 
     @property
     def limit(self) -> float:
+        """Limit of the governing finding, in its ``peak_unit``."""
         return self.governing.limit_g
 
     @property
     def margin(self) -> float:
+        """Limit minus value of the governing finding in ``unit``; negative = exceeded."""
         return self.governing.margin
 
     @property
@@ -94,13 +129,18 @@ def group_findings(findings: Sequence[Finding], train_length_m: float = 0.0) -> 
 
     Parameters
     ----------
-    findings : every finding of a run (any seats and load cases).
-    train_length_m : distance from the first to the last car's reference point [m].
+    findings : sequence of Finding
+        Every finding of a run (any seats and load cases).
+    train_length_m : float
+        Distance from the first to the last car's reference point [m]; the gap that still
+        counts as the same place is the larger of this and :data:`MIN_GAP_M`.
 
     Returns
     -------
-    Events, worst first (stalls, then by severity), numbered E1, E2, ...; every finding
-    belongs to exactly one event.
+    events : list of Event
+        Worst first (stalls, whose severity is infinite, then by severity), numbered E1,
+        E2, ...; every finding belongs to exactly one event. Places and remedies are not yet
+        filled in (:func:`explain_events`).
     """
     by_rule: dict[str, list[int]] = {}
     for i, f in enumerate(findings):
@@ -156,7 +196,20 @@ def _renumber(event: Event, n: int) -> Event:
 
 
 def event_of_finding(events: Sequence[Event], count: int) -> list[str]:
-    """The event id of each of ``count`` findings, in the order they were grouped."""
+    """The event id of each finding, in the order they were grouped.
+
+    Parameters
+    ----------
+    events : sequence of Event
+        Events from :func:`group_findings`.
+    count : int
+        Number of findings that were grouped.
+
+    Returns
+    -------
+    ids : list of str
+        Event id of finding i at position i (empty for a finding in no event).
+    """
     ids = [""] * count
     for e in events:
         for i in e.members:
@@ -166,9 +219,28 @@ def event_of_finding(events: Sequence[Event], count: int) -> list[str]:
 
 def explain_events(events: Sequence[Event], geometry=None, sections: tuple = (),
                    seat_height_m: float | None = None) -> list[Event]:
-    """Events with the element there in words (:mod:`checker.places`) and a remedy computed
-    from the physics (:mod:`checker.remedies`). Without geometry (recorded data) the place
-    is the time range and there is no computed remedy."""
+    """Events with the element there in words and a remedy computed from the physics.
+
+    Without geometry (recorded data), or for an event without stations, the place reads
+    "recorded data (no track geometry)" and there is no computed remedy.
+
+    Parameters
+    ----------
+    events : sequence of Event
+        Events from :func:`group_findings`.
+    geometry : TrackGeometry or None
+        Track geometry; None for recorded data.
+    sections : tuple
+        The operation's powered sections (:mod:`checker.operation`).
+    seat_height_m : float or None
+        Highest seat offset above the car reference point, for the remedies [m].
+
+    Returns
+    -------
+    events : list of Event
+        The same events with ``place`` (:func:`checker.places.element_at`) and ``remedy``
+        (:func:`checker.remedies.remedy_for`) filled in.
+    """
     from .places import element_at
     from .remedies import remedy_for
 
@@ -184,9 +256,21 @@ def explain_events(events: Sequence[Event], geometry=None, sections: tuple = (),
 
 
 def events_of_run(evaluation, ride=None) -> list[Event]:
-    """The explained events of a checked run: ``evaluation`` (its findings, in their
-    worst-first order) and ``ride`` (a :class:`checker.ride.RideResult`, or None for
-    recorded data)."""
+    """The explained events of a checked run.
+
+    Parameters
+    ----------
+    evaluation : Evaluation
+        The checked run; its findings are grouped in their worst-first order.
+    ride : RideResult or None
+        The simulated ride (train length, geometry, sections, seat heights); None for
+        recorded data (events by time, no places or remedies).
+
+    Returns
+    -------
+    events : list of Event
+        Worst first, with places and remedies.
+    """
     findings = evaluation.findings
     if ride is None:
         return explain_events(group_findings(findings))

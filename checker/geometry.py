@@ -7,8 +7,9 @@ length, and re-sampled by arc length.
 
 Frame conventions (ISO 8855 vehicle axes, see DEVELOPERS.md): ``tangent`` x forward, ``left``
 y to the rider's left, ``up`` z from seat to head. The level reference ``up0`` is world up
-projected onto the plane normal to the tangent, its sign kept continuous, carried across
-(near-)vertical tangents by parallel transport. Roll turns ``up0`` about the tangent, positive
+projected onto the plane normal to the tangent, its sign kept continuous, measured as an angle
+against a rotation-minimizing frame (parallel transport) and bridged smoothly across
+(near-)vertical tangents, where it is undefined. Roll turns ``up0`` about the tangent, positive
 right side down.
 
 The frame's angular velocity per unit length, in frame components, is
@@ -33,10 +34,10 @@ from scipy.optimize import brentq
 from scipy.sparse.linalg import splu
 
 WORLD_UP = np.array([0.0, 0.0, 1.0])
-# Tangents within this angle of vertical carry the level reference across by a smooth,
-# twist-minimal bridge; SMOOTHING_LENGTH_M sets how gently the reference may turn [m].
 STATION_STEP_M = 0.2  # default station grid step [m] of every ride
 QUINTIC_MIN_SAMPLES = 6  # a degree-5 spline needs 6 samples; fewer get a cubic
+# Tangents within this angle of vertical carry the level reference across by a smooth,
+# twist-minimal bridge; SMOOTHING_LENGTH_M sets how gently the reference may turn [m].
 BLEND_START_DEG = 10.0
 SMOOTHING_LENGTH_M = 1.5
 # Passes that replace the chord-length parameter by the fitted curve's arc length.
@@ -57,6 +58,22 @@ class SmoothingReport:
     """What a smoothing tolerance changed: sample deviation [m], curvature removed [1/m].
 
     Also used for the curvature-noise probe (what a fit within NOISE_PROBE_M would remove).
+    Curvature removed is the absolute difference, at the input samples, between the
+    curvature of a reference curve (the exact interpolant, or for the probe the fit used) and
+    that of the smoothed curve.
+
+    Attributes
+    ----------
+    tolerance_m : float
+        RMS distance the smoothed curve was allowed to keep from the samples [m].
+    max_deviation_m : float
+        Largest distance of the smoothed curve from a sample, at the sample's parameter [m].
+    rms_curvature_removed : float
+        RMS over the samples of the curvature removed [1/m].
+    max_curvature_removed : float
+        Largest curvature removed at a sample [1/m].
+    station_of_max_removed_m : float
+        Station of that sample [m].
     """
 
     tolerance_m: float
@@ -68,7 +85,41 @@ class SmoothingReport:
 
 @dataclass(frozen=True)
 class TrackGeometry:
-    """The centerline and rider frame on a uniform station grid (all SI)."""
+    """The centerline and rider frame on a uniform station grid (all SI).
+
+    Frame axes follow ISO 8855 (x forward, y left, z up from seat to head); ``omega`` gives
+    every frame vector e the derivative de/ds = omega x e (see the module docstring).
+
+    Attributes
+    ----------
+    s : (n,) ndarray
+        Station (arc length from the first sample), uniform grid [m].
+    position : (n, 3) ndarray
+        Centerline point at each station, world axes [m].
+    tangent : (n, 3) ndarray
+        Unit tangent in the travel direction [-].
+    left : (n, 3) ndarray
+        Unit vector to the rider's left, banked by ``roll_deg`` [-].
+    up : (n, 3) ndarray
+        Unit vector from seat to head, banked by ``roll_deg`` [-].
+    curvature_vector : (n, 3) ndarray
+        Curvature vector dT/ds in world axes [1/m].
+    omega : (n, 3) ndarray
+        Frame angular velocity per metre (twist, pitch, yaw), frame components [rad/m].
+    domega : (n, 3) ndarray
+        Its derivative d(omega)/ds [rad/m^2].
+    roll_deg : (n,) ndarray
+        Bank against the level reference, ISO 8855 sign (positive = right side down) [deg].
+    torsion : (n,) ndarray
+        Frenet torsion of the centerline; nan where the curve is straight [1/m].
+    sample_stations : (m,) ndarray
+        Station of each input sample [m].
+    smoothing : SmoothingReport or None
+        What the smoothing tolerance changed; None when the samples were interpolated.
+    noise : SmoothingReport or None
+        What a fit within NOISE_PROBE_M would remove (curvature-noise probe); None when the
+        probe did not run (smoothing at or above NOISE_PROBE_M, or fewer than 8 samples).
+    """
 
     s: np.ndarray  # station [m], uniform, shape (n,)
     position: np.ndarray  # [m], (n, 3)
@@ -86,18 +137,36 @@ class TrackGeometry:
 
     @property
     def length(self) -> float:
+        """Track length, the last station [m]."""
         return float(self.s[-1])
 
     @property
     def step(self) -> float:
+        """Station grid step [m]."""
         return float(self.s[1] - self.s[0])
 
     @property
     def curvature(self) -> np.ndarray:
+        """Curvature magnitude |curvature_vector| at each station, shape (n,) [1/m]."""
         return np.linalg.norm(self.curvature_vector, axis=1)
 
     def sample(self, stations: np.ndarray, *names: str) -> list[np.ndarray]:
-        """Linear interpolation of the named grid arrays at ``stations`` [m] (clipped)."""
+        """Linear interpolation of the named grid arrays at given stations.
+
+        Parameters
+        ----------
+        stations : array_like
+            Stations to sample at, clipped to [0, length] [m]; shape (k,).
+        *names : str
+            Names of the grid attributes to sample (e.g. ``"position"``, ``"omega"``).
+
+        Returns
+        -------
+        values : list of ndarray
+            One array per name, shape (k,) for 1-D attributes and (k, c) for (n, c) ones, in
+            the attribute's own unit. Unit vectors are interpolated component-wise and are
+            not re-normalized.
+        """
         x = np.clip(np.asarray(stations, dtype=float), 0.0, self.length)
         out = []
         for name in names:  # column by column in C (np.interp): faster than gathering rows
@@ -118,8 +187,28 @@ def rotation_minimizing_up(points: np.ndarray, tangent: np.ndarray,
                            first_up: np.ndarray) -> np.ndarray:
     """A rotation-minimizing (zero-twist) normal field along a sampled curve.
 
-    Double reflection method: Wang, Juettler, Zheng and Liu, "Computation of rotation
-    minimizing frames", ACM Transactions on Graphics 27(1), 2008.
+    Each step reflects the current normal in the bisector plane of the chord, then in the
+    plane that maps the reflected tangent onto the next tangent (double reflection); the
+    result is re-orthogonalized against the next tangent and normalized.
+
+    Parameters
+    ----------
+    points : (n, 3) ndarray
+        Curve points; successive points must differ [m].
+    tangent : (n, 3) ndarray
+        Unit tangent at each point [-].
+    first_up : (3,) ndarray
+        Unit normal at the first point, perpendicular to ``tangent[0]`` [-].
+
+    Returns
+    -------
+    up : (n, 3) ndarray
+        Unit normal at each point, transported with (approximately) zero twist [-].
+
+    References
+    ----------
+    W. Wang, B. Juettler, D. Zheng and Y. Liu, "Computation of rotation minimizing frames",
+    ACM Transactions on Graphics 27(1), article 2, 2008.
     """
     n = len(points)
     out = np.empty((n, 3))
@@ -185,6 +274,27 @@ def level_reference(points: np.ndarray, tangent: np.ndarray, s: np.ndarray) -> n
     direction elsewhere and bridges the vertical stretches with a smooth, twist-minimal
     transition. The sign ambiguity of the level direction (up or down the plane) is resolved
     by continuity: the angle is unwrapped with period pi.
+
+    Parameters
+    ----------
+    points : (n, 3) ndarray
+        Centerline position at each grid station [m].
+    tangent : (n, 3) ndarray
+        Unit tangent at each grid station [-].
+    s : (n,) ndarray
+        Stations, uniform grid [m].
+
+    Returns
+    -------
+    up0 : (n, 3) ndarray
+        Unit level reference normal to the tangent (roll zero) [-]. Where no station is
+        more than BLEND_START_DEG away from vertical, it is the rotation-minimizing normal
+        started from a fixed horizontal seed.
+
+    References
+    ----------
+    W. Wang, B. Juettler, D. Zheng and Y. Liu, "Computation of rotation minimizing frames",
+    ACM Transactions on Graphics 27(1), 2008 (the reference frame the angle is measured in).
     """
     level = WORLD_UP - tangent[:, 2:3] * tangent
     horizontal = np.linalg.norm(level, axis=1)
@@ -346,14 +456,41 @@ def build_geometry(
 ) -> TrackGeometry:
     """Arc-length geometry and rider frame from centerline samples.
 
+    The curve is a degree-5 B-spline (cubic below QUINTIC_MIN_SAMPLES samples) interpolating
+    the samples, its parameter the chord length refined to the interpolant's own arc length
+    (ARC_LENGTH_PASSES passes); with ``smoothing_m`` > 0 a penalized B-spline (P-spline) whose
+    penalty weight follows from the discrepancy principle. Arc length is integrated by
+    Gauss-Legendre quadrature (3 points on sub-intervals of at most ``step_m / 2``), inverted
+    by a cubic Hermite interpolant of u(s), and the curve re-sampled on a uniform station grid.
+    Roll at the samples is interpolated by a cubic spline in s. The level reference comes from
+    :func:`level_reference`.
+
     Parameters
     ----------
-    points : (n, 3) samples [m] in travel order.
-    roll_deg : (n,) bank at each sample [deg], ISO 8855 sign; or None.
-    up : (n, 3) explicit up vectors at each sample; overrides roll; or None.
-    smoothing_m : RMS distance [m] the curve may keep from the samples (0 = interpolate).
-        The fit is then the penalized spline of :func:`_penalized_fit`.
-    step_m : station grid step [m].
+    points : (n, 3) array_like
+        Centerline samples in travel order [m].
+    roll_deg : (n,) array_like or None
+        Bank at each sample, ISO 8855 sign (positive = right side down) [deg]; None for zero.
+    up : (n, 3) array_like or None
+        Explicit up vector at each sample [-]; overrides ``roll_deg``; None to use roll.
+    smoothing_m : float
+        RMS distance the curve may keep from the samples (0 = interpolate) [m].
+    step_m : float
+        Station grid step [m]; the grid has at least 4 stations.
+
+    Returns
+    -------
+    geometry : TrackGeometry
+        Positions, rider frame, curvature, angular velocity, roll and torsion on the grid,
+        with the smoothing report and the curvature-noise probe.
+
+    References
+    ----------
+    C. de Boor, A Practical Guide to Splines, Springer, 1978 (B-splines).
+    P. H. C. Eilers and B. D. Marx, "Flexible smoothing with B-splines and penalties",
+    Statistical Science 11(2), 1996 (the P-spline used with ``smoothing_m`` > 0).
+    G. H. Golub and J. H. Welsch, "Calculation of Gauss quadrature rules", Mathematics of
+    Computation 23, 1969 (Gauss-Legendre nodes and weights).
     """
     points = np.asarray(points, dtype=float)
     spline, interp, u = _fit_centerline(points, smoothing_m)

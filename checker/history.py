@@ -44,6 +44,23 @@ REST_MAGNITUDE_G = 0.1  # |f| within this of 1 g: at rest or moving steadily
 
 @dataclass(frozen=True)
 class RecordedSignal:
+    """One seat's recorded signal (or one part of it between gaps).
+
+    Attributes
+    ----------
+    seat : str
+        Seat name; ``"<seat> part <k>"`` for the k-th part of a record split at gaps.
+    t : (n,) ndarray
+        Time, increasing, uniform steps (re-sampled if asked) [s].
+    g : (n, 3) ndarray
+        Specific force (Gx, Gy, Gz) in rider axes [g0].
+    s : (n,) ndarray or None
+        Station of the seat's car [m], when the file has ``s``, ``x``, ``y``, ``z`` and the
+        part was not re-sampled.
+    position : (n, 3) ndarray or None
+        Rider's world position [m], under the same conditions.
+    """
+
     seat: str
     t: np.ndarray  # [s]
     g: np.ndarray  # (n, 3) [g0]
@@ -55,13 +72,42 @@ MAX_SEAT_NAME_CHARS = 200  # a name, not a pasted file
 
 
 def load_history(path: str | Path, units: str = "g") -> list[RecordedSignal]:
-    """The signals of a history CSV in the plain format (see the module docstring)."""
+    """The signals of a history CSV in the plain format (see the module docstring).
+
+    Parameters
+    ----------
+    path : str or Path
+        History CSV (columns ``t``, ``gx``, ``gy``, ``gz``, optional ``seat``).
+    units : {"g", "m/s2"}
+        Unit of the acceleration columns.
+
+    Returns
+    -------
+    signals : list of RecordedSignal
+        As :func:`load_record` (without re-sampling); its notes are dropped.
+
+    Raises
+    ------
+    InputError
+        As :func:`load_record`.
+    """
     return load_record(path, units).signals
 
 
 @dataclass(frozen=True)
 class Record:
-    """The signals of a record and what loading found (review items)."""
+    """The signals of a record and what loading found (review items).
+
+    Attributes
+    ----------
+    signals : list of RecordedSignal
+        Per seat (and part between gaps), in order of first appearance.
+    notes : tuple of str
+        Review items: zero offsets, gaps that split the record, parts left out, re-sampling.
+    method : str
+        How the record was conditioned (instrument, re-sampling), for reports; empty for a
+        plain file read as is.
+    """
 
     signals: list[RecordedSignal]
     notes: tuple[str, ...] = ()
@@ -74,10 +120,32 @@ def load_record(path: str | Path, units: str = "g", instrument: Instrument | Non
 
     Parameters
     ----------
-    path : CSV file.
-    units : ``"g"`` or ``"m/s2"`` for the plain format (an instrument states its own).
-    instrument : column layout, units and mounting of a logger export; None = plain format.
-    resample_hz : uniform rate [Hz] to re-sample irregular stamps onto; None = refuse them.
+    path : str or Path
+        CSV file.
+    units : {"g", "m/s2"}
+        Acceleration unit of the plain format (an instrument states its own).
+    instrument : Instrument or None
+        Column layout, units and mounting of a logger export; None = plain format.
+    resample_hz : float or None
+        Uniform rate to re-sample irregular stamps onto [Hz]; None = refuse them.
+
+    Returns
+    -------
+    record : Record
+        The signals in rider axes [g0] with times [s], the review items and the method.
+
+    Raises
+    ------
+    InputError
+        Unknown ``units``; an unreadable or malformed CSV (missing column, bad cell, bad
+        seat name); a seat with fewer than MIN_SAMPLES samples; time that does not
+        increase; an irregular step without ``resample_hz``; or no part between gaps long
+        enough to check (naming file, row and column).
+
+    References
+    ----------
+    S. Butterworth, "On the theory of filter amplifiers", Wireless Engineer 7, 1930,
+    pp. 536-541 (the anti-alias low-pass of :func:`resample`).
     """
     path = Path(path)
     if units not in ("g", "m/s2"):
@@ -201,12 +269,39 @@ def _refuse_irregular(path: Path, t: np.ndarray, lines: np.ndarray, column: str)
 
 
 def resample(t: np.ndarray, g: np.ndarray, rate_hz: float):
-    """Re-sample (t, g) onto a uniform grid at ``rate_hz`` [Hz]; returns (t, g, note).
+    """Re-sample a signal onto a uniform grid.
 
     Linear interpolation; when ``rate_hz`` is below the record's own rate (1 / median step),
     the signal is first put on a uniform grid at its own rate and low-pass filtered
-    (4-pole Butterworth, zero phase, corner ANTI_ALIAS_FRACTION x rate_hz / 2) so that what
-    the new rate cannot carry does not fold back (Nyquist-Shannon sampling theorem).
+    (4th-order Butterworth applied forward and backward by ``scipy.signal.sosfiltfilt``: zero
+    phase, corner ANTI_ALIAS_FRACTION x rate_hz / 2) so that what the new rate cannot carry
+    does not fold back (Nyquist-Shannon sampling theorem). A signal too short for
+    ``sosfiltfilt``'s padding is not filtered.
+
+    Parameters
+    ----------
+    t : (n,) ndarray
+        Time stamps, increasing [s].
+    g : (n, k) ndarray
+        Signal at the stamps (e.g. specific force [g0]).
+    rate_hz : float
+        New sample rate [Hz].
+
+    Returns
+    -------
+    t : (m,) ndarray
+        Uniform times from ``t[0]`` at 1 / rate_hz [s].
+    g : (m, k) ndarray
+        Signal at the new times, in the unit of ``g``.
+    note : str
+        What was found (median step, largest gap, jitter) and done, for the review items.
+
+    References
+    ----------
+    S. Butterworth, "On the theory of filter amplifiers", Wireless Engineer 7, 1930,
+    pp. 536-541.
+    C. E. Shannon, "Communication in the presence of noise", Proc. IRE 37, 1949 (sampling
+    theorem).
     """
     dt = np.diff(t)
     step = float(np.median(dt))

@@ -47,7 +47,32 @@ DEFAULT_ZERO_TOLERANCE_G = 0.05
 
 @dataclass(frozen=True)
 class Instrument:
-    """A validated instrument description (see the module docstring)."""
+    """A validated instrument description (see the module docstring).
+
+    Attributes
+    ----------
+    time_column : str
+        Name of the time column.
+    time_scale : float
+        Factor from the file's time unit to seconds (1 or 1e-3) [s/unit].
+    groups : tuple of (str, (str, str, str))
+        Per seat: its name and the logger x, y, z acceleration columns.
+    accel_scale : float
+        Factor from the file's acceleration unit to g0 (1, or 1/g0 for m/s^2) [g0/unit].
+    mounting : tuple of (int, float)
+        For logger x, y, z: the rider axis index (0 x, 1 y, 2 z) and sign it points along.
+    seat_column : str or None
+        Column naming the seat of each row when seats are interleaved.
+    ignore : tuple of str
+        Columns to ignore.
+    max_gap_s : float or None
+        Longest gap that may be re-sampled across [s]; None: ten median steps
+        (``checker.history.GAP_STEPS``).
+    zero_tolerance_g : float
+        Offset at rest beyond which a review item is raised [g0].
+    source : str
+        File the description came from.
+    """
 
     time_column: str = "t"
     time_scale: float = 1.0  # to seconds
@@ -62,13 +87,31 @@ class Instrument:
     source: str = "<default>"
 
     def to_rider(self, logger_g: np.ndarray) -> np.ndarray:
-        """Logger readings (n, 3) in the file's unit -> rider-axis specific force [g0]."""
+        """Logger readings to rider-axis specific force.
+
+        Parameters
+        ----------
+        logger_g : (n, 3) ndarray
+            Readings along logger x, y, z, in the file's acceleration unit.
+
+        Returns
+        -------
+        g : (n, 3) ndarray
+            Specific force (Gx, Gy, Gz) in rider axes [g0].
+        """
         out = np.empty_like(logger_g, dtype=float)
         for i, (axis, sign) in enumerate(self.mounting):
             out[:, axis] = sign * logger_g[:, i] * self.accel_scale
         return out
 
     def describe(self) -> str:
+        """The instrument in one line, for the record.
+
+        Returns
+        -------
+        text : str
+            Source, time column and unit, mounting, and the gap that splits a record.
+        """
         names = ["x", "y", "z"]
         mapping = ", ".join(f"logger {names[i]} = rider {'-' if sign < 0 else '+'}{names[a]}"
                             for i, (a, sign) in enumerate(self.mounting))
@@ -89,7 +132,24 @@ def _axis(fields: Fields, name: str) -> tuple[int, float]:
 
 
 def load_instrument(path: str | Path) -> Instrument:
-    """Load and validate an instrument TOML file; unknown keys are errors."""
+    """Load and validate an instrument TOML file; unknown keys are errors.
+
+    Parameters
+    ----------
+    path : str or Path
+        The instrument file (format in the module docstring).
+
+    Returns
+    -------
+    instrument : Instrument
+
+    Raises
+    ------
+    InputError
+        For a missing file, bad TOML, an unknown key, a unit or axis not understood, column
+        lists that are not three distinct names, two seat groups with one name, two logger
+        axes mounted on the same rider axis, or a value out of range (naming the key).
+    """
     path = Path(path)
     doc = Fields(path, load_toml(path))
     time = doc.sub("time")

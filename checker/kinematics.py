@@ -28,7 +28,25 @@ from .train import Seat
 
 @dataclass(frozen=True)
 class SeatHistory:
-    """Unfiltered history of one rider position, sampled uniformly in time."""
+    """Unfiltered history of one rider position, sampled uniformly in time.
+
+    Attributes
+    ----------
+    seat : str
+        Rider position label ``"car<k>-<seat name>"``, e.g. ``"car1-1L"``.
+    car : int
+        1-based car number, lead car 1 [-].
+    t : (n,) ndarray
+        Time, uniform from 0 [s].
+    s : (n,) ndarray
+        Station of the car's reference point [m].
+    v : (n,) ndarray
+        Speed of the train [m/s].
+    g : (n, 3) ndarray
+        Specific force (Gx, Gy, Gz) in rider axes (ISO 8855: forward, left, up) [g0].
+    position : (n, 3) ndarray
+        Rider's position in world axes [m].
+    """
 
     seat: str
     car: int  # 1-based car number
@@ -40,26 +58,68 @@ class SeatHistory:
 
 
 def sample_times(motion: RideMotion, rate_hz: float) -> np.ndarray:
-    """Uniform output times [s] from 0 to the end of the ride."""
+    """Uniform output times from 0 to the end of the ride.
+
+    Parameters
+    ----------
+    motion : RideMotion
+        The train's motion; its ``duration_s`` bounds the times.
+    rate_hz : float
+        Sampling rate [Hz].
+
+    Returns
+    -------
+    times : (m,) ndarray
+        k / rate_hz for k = 0 .. floor(duration * rate_hz) [s].
+    """
     count = int(np.floor(motion.duration_s * rate_hz + 1e-9)) + 1
     return np.arange(count) / rate_hz
 
 
 def lead_station_at(motion: RideMotion, times: np.ndarray) -> np.ndarray:
-    """Lead car station [m] at the given times: cubic Hermite through (t, s, v)."""
+    """Lead car station at the given times: cubic Hermite through (t, s, v).
+
+    Parameters
+    ----------
+    motion : RideMotion
+        The train's motion (times, stations and speeds are the Hermite data).
+    times : (m,) ndarray
+        Times [s].
+
+    Returns
+    -------
+    stations : (m,) ndarray
+        Lead car station (not clipped; times outside the motion extrapolate) [m].
+    """
     return CubicHermiteSpline(motion.t, motion.s, motion.v)(times)
 
 
 def seat_specific_force(omega: np.ndarray, domega: np.ndarray, frame_z: np.ndarray,
                         v: np.ndarray, a_t: np.ndarray, offset: np.ndarray) -> np.ndarray:
-    """Specific force [g0] in rider axes for seat offsets.
+    """Specific force in rider axes for seat offsets.
 
-    omega, domega : (..., n, 3) frame angular velocity per metre and its derivative
-        [rad/m, rad/m^2]
-    frame_z : (..., n, 3) world-z component of (tangent, left, up)
-    v, a_t : (n,) speed [m/s] and tangential acceleration [m/s^2]
-    offset : (3,) seat offset (forward, left, up) [m], or (seats, 3) for several seats:
-        the result is then (seats, ..., n, 3)
+    Rigid-body kinematics of the seat path R = c + d_i e_i (module docstring): acceleration
+    R'' v^2 + R' dv/dt, minus gravity, in frame components, divided by g0.
+
+    Parameters
+    ----------
+    omega : (..., n, 3) ndarray
+        Frame angular velocity per metre (twist, pitch, yaw) [rad/m].
+    domega : (..., n, 3) ndarray
+        Its derivative along the track [rad/m^2].
+    frame_z : (..., n, 3) ndarray
+        World-z component of (tangent, left, up) [-].
+    v : (n,) ndarray
+        Speed [m/s].
+    a_t : (n,) ndarray
+        Tangential acceleration dv/dt [m/s^2].
+    offset : (3,) or (seats, 3) array_like
+        Seat offset (forward, left, up) from the car reference point [m].
+
+    Returns
+    -------
+    g : (..., n, 3) or (seats, ..., n, 3) ndarray
+        Specific force (Gx, Gy, Gz) [g0]; a rider at rest in a level seat reads (0, 0, 1).
     """
     d = np.asarray(offset, dtype=float)
     lead = d.shape[:-1]
@@ -84,9 +144,28 @@ def seat_specific_force(omega: np.ndarray, domega: np.ndarray, frame_z: np.ndarr
 
 def rider_histories(geometry: TrackGeometry, motion: RideMotion, seats: tuple[Seat, ...],
                     rate_hz: float = 200.0) -> list[SeatHistory]:
-    """Histories of every seat of every car, sampled at ``rate_hz``: the track quantities of
-    every car in one interpolation, then all the seats of a car in one vectorized pass (car
-    by car: the arrays stay in cache)."""
+    """Histories of every seat of every car, sampled uniformly in time.
+
+    The track quantities of every car are taken in one interpolation, then all the seats of a
+    car in one vectorized pass (car by car: the arrays stay in cache). Speed is interpolated
+    through the energy v^2/2, which is smooth in s.
+
+    Parameters
+    ----------
+    geometry : TrackGeometry
+        Track geometry and rider frame.
+    motion : RideMotion
+        The train's motion.
+    seats : tuple of Seat
+        The seats of one car (every car alike).
+    rate_hz : float
+        Sampling rate [Hz].
+
+    Returns
+    -------
+    histories : list of SeatHistory
+        Car by car (lead car first), seat by seat in the given order.
+    """
     times = sample_times(motion, rate_hz)
     lead = np.clip(lead_station_at(motion, times), motion.s[0], motion.s[-1])
     # speed from the energy variable e = v^2/2, which the integrator carries and which is

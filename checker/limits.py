@@ -35,6 +35,21 @@ class DurationLimit:
     The allowed level at a duration below the first point is the first level; beyond the last
     point the last level holds. ``linear`` interpolates in duration, ``log`` in log(duration),
     ``step`` keeps each level until the next point's duration.
+
+    Attributes
+    ----------
+    axis : str
+        ``"gx"``, ``"gy"`` or ``"gz"``.
+    sign : int
+        +1: the limit bounds the signal from above (positive levels); -1: from below
+        (negative levels; for gy, -1 is the rider's right).
+    durations_s : (m,) ndarray
+        Sustained durations, increasing, >= 0 [s].
+    levels_g : (m,) ndarray
+        Allowed level at each duration, signed as ``sign``, |level| not growing with
+        duration [g0].
+    interpolation : {"linear", "log", "step"}
+        How the level is read between the points.
     """
 
     axis: str
@@ -45,12 +60,24 @@ class DurationLimit:
 
     @property
     def name(self) -> str:
+        """Display name, e.g. ``"+Gz"``, ``"-Gz"``, ``"Gy left"``, ``"Gy right"``."""
         if self.axis == "gy":
             return "Gy left" if self.sign > 0 else "Gy right"
         return ("+" if self.sign > 0 else "-") + self.axis.capitalize()
 
     def allowed(self, duration_s: np.ndarray) -> np.ndarray:
-        """Allowed level [g0] (signed) at each duration [s]."""
+        """Allowed level at each duration.
+
+        Parameters
+        ----------
+        duration_s : array_like
+            Durations [s].
+
+        Returns
+        -------
+        level : ndarray
+            Allowed level, signed as ``sign``, same shape as ``duration_s`` [g0].
+        """
         d = np.asarray(duration_s, dtype=float)
         x, y = self.durations_s, self.levels_g
         if len(x) == 1:
@@ -66,7 +93,22 @@ class DurationLimit:
 
 @dataclass(frozen=True)
 class CombinedEnvelope:
-    """An allowed region in the plane of two axes, as a closed polygon [g0]."""
+    """An allowed region in the plane of two axes, as a closed polygon [g0].
+
+    Attributes
+    ----------
+    name : str
+        Envelope name, e.g. ``"x-z envelope"``.
+    axes : tuple of (str, str)
+        The plane: ``("gx", "gz")``, ``("gy", "gz")`` or ``("gx", "gy")``.
+    vertices : (m, 2) ndarray
+        Polygon vertices in order around the boundary, not repeating the first [g0]. An
+        ellipse is a 144-vertex polygon on it (quadrant-wise half-axes from the duration
+        limits); for ``"sustained"`` the ellipse at 0 s, the outer bound drawn in figures.
+    source : {"polygon", "ellipse", "sustained"}
+        How the envelope was given; ``"sustained"`` is checked per sample with the
+        admissible levels for the duration held (:mod:`checker.sustained`).
+    """
 
     name: str
     axes: tuple[str, str]
@@ -80,6 +122,17 @@ class Zone:
 
     ``order`` ranks the zones from least (1) to most restraint; a visit counts only when the
     filtered trace stays inside for at least ``dwell_s`` [s].
+
+    Attributes
+    ----------
+    name : str
+        Zone name.
+    order : int
+        Rank, 1 = least restraint, unique in a limit set.
+    vertices : (m, 2) ndarray
+        Polygon vertices (gx, gz) in order around the zone [g0].
+    dwell_s : float
+        Shortest stay inside that counts as reaching the zone [s].
     """
 
     name: str
@@ -90,12 +143,54 @@ class Zone:
 
 @dataclass(frozen=True)
 class OnsetLimit:
+    """Limit on the rate of change of one filtered axis.
+
+    Attributes
+    ----------
+    axis : str
+        ``"gx"``, ``"gy"`` or ``"gz"``.
+    limit_g_per_s : float
+        Largest allowed |d(G)/dt| [g0/s].
+    """
+
     axis: str
     limit_g_per_s: float
 
 
 @dataclass(frozen=True)
 class LimitSet:
+    """A validated limit set (one TOML file and the tables it names).
+
+    Attributes
+    ----------
+    title : str
+        ``meta.title``.
+    represents : str
+        What the set stands for, as the file says (``meta.represents``).
+    revision : str
+        ``meta.revision``.
+    illustrative : bool
+        True for an example set that stands for no code or standard.
+    filter : FilterSpec
+        Low-pass filter applied to the signals before the rules.
+    duration : tuple of DurationLimit
+        At most one per axis and direction.
+    combined : tuple of CombinedEnvelope
+        Combined-axis envelopes.
+    onset : tuple of OnsetLimit
+        Onset-rate limits.
+    path : str
+        The limits file.
+    sha256 : str
+        SHA-256 of the limits file (hex).
+    files : tuple of (str, str)
+        (path, sha256) of the file and each table it reads.
+    zones : tuple of Zone
+        Restraint diagram, by increasing order; empty when none.
+    uplift_free_travel_m : float or None
+        ``[uplift] free_travel_m``: the rise off the seat a restraint allows [m].
+    """
+
     title: str
     represents: str
     revision: str
@@ -112,6 +207,23 @@ class LimitSet:
 
 
 def sha256_of(path: str | Path) -> str:
+    """SHA-256 of a file's bytes.
+
+    Parameters
+    ----------
+    path : str or Path
+        An input file (read through ``checker.paths.read_input_bytes``).
+
+    Returns
+    -------
+    digest : str
+        64 hex digits.
+
+    Raises
+    ------
+    InputError
+        When the file cannot be read as an input (missing, not regular, over the size cap).
+    """
     return hashlib.sha256(read_input_bytes(path)).hexdigest()
 
 
@@ -133,7 +245,19 @@ def _segments_cross(p1, p2, q1, q2) -> bool:
 
 
 def polygon_problem(vertices: np.ndarray) -> str | None:
-    """Why the closed polygon is unusable (fewer than 3 vertices, self-intersecting), or None."""
+    """Why a closed polygon is unusable, or None.
+
+    Parameters
+    ----------
+    vertices : (m, 2) ndarray
+        Vertices in order; repeated consecutive vertices and a closing repeat are ignored.
+
+    Returns
+    -------
+    problem : str or None
+        "has k distinct vertices ...", "is self-intersecting (edge i crosses edge j)" or
+        "has zero area"; None for a usable polygon.
+    """
     v = np.asarray(vertices, dtype=float)
     keep = np.ones(len(v), dtype=bool)
     keep[1:] = np.any(np.abs(np.diff(v, axis=0)) > 1e-12, axis=1)  # drop repeated vertices
@@ -157,8 +281,22 @@ def polygon_problem(vertices: np.ndarray) -> str | None:
 
 
 def contains(vertices: np.ndarray, points: np.ndarray) -> np.ndarray:
-    """Points (n, 2) inside or on the closed polygon (even-odd rule; the boundary, within a
-    relative 1e-9, counts as inside). matplotlib.path does the point-in-polygon test."""
+    """Which points lie inside or on a closed polygon.
+
+    ``matplotlib.path.Path.contains_points`` does the point-in-polygon test; points it puts
+    outside but within a relative 1e-9 of the boundary count as inside.
+
+    Parameters
+    ----------
+    vertices : (m, 2) ndarray
+        Polygon vertices in order, not repeating the first [g0].
+    points : (n, 2) ndarray
+        Points to test [g0].
+
+    Returns
+    -------
+    inside : (n,) ndarray of bool
+    """
     from matplotlib.path import Path as MplPath
 
     path = MplPath(np.vstack([vertices, vertices[:1]]), closed=True)
@@ -187,8 +325,24 @@ def _boundary_distance(vertices: np.ndarray, points: np.ndarray) -> np.ndarray:
 
 
 def outside_fraction(vertices: np.ndarray, center: np.ndarray, points: np.ndarray) -> np.ndarray:
-    """How far each point lies beyond the boundary, along the ray from ``center``, as a
-    fraction of the envelope's extent in that direction (0 on the boundary)."""
+    """How far each point lies beyond the boundary, along the ray from ``center``.
+
+    Parameters
+    ----------
+    vertices : (m, 2) ndarray
+        Polygon vertices in order [g0].
+    center : (2,) ndarray
+        Point inside the polygon the rays start from (the rest point) [g0].
+    points : (n, 2) ndarray
+        Points [g0].
+
+    Returns
+    -------
+    fraction : (n,) ndarray
+        |p - c| / |boundary - c| - 1 along the ray through each point: 0 on the boundary,
+        positive outside (0.2 = 20 % beyond), negative inside; inf when the ray meets no
+        edge [-].
+    """
     p = np.asarray(points, dtype=float) - center
     a = vertices - center
     b = np.roll(vertices, -1, axis=0) - center
@@ -302,7 +456,28 @@ def _ellipse(duration: tuple[DurationLimit, ...], axes: tuple[str, str], at_s: f
 
 
 def load_limits(path: str | Path) -> LimitSet:
-    """Load and validate a limits TOML file and the CSV tables it names."""
+    """Load and validate a limits TOML file and the CSV tables it names.
+
+    Parameters
+    ----------
+    path : str or Path
+        The limits file (format in the README); tables are read relative to its folder,
+        never outside it.
+
+    Returns
+    -------
+    limits : LimitSet
+        With the SHA-256 of the file and of every table.
+
+    Raises
+    ------
+    InputError
+        For a missing file, bad TOML, an unknown key, a value out of range, a table outside
+        the limits file's folder or missing, durations not increasing, levels of the wrong
+        sign or growing with duration, a rest reading that breaks a limit, two limits for
+        one axis and direction, an unusable polygon, an envelope without the rest point,
+        zones sharing an order, or no limits at all (naming the key).
+    """
     path = Path(path)
     doc = Fields(path, load_toml(path))
     base = path.parent

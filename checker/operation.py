@@ -37,14 +37,32 @@ SECTION_KINDS = ("lift", "launch", "brake")
 
 @dataclass(frozen=True)
 class _Span:
-    """Where a powered section acts: stations [m] as written (negative = from the track's
-    end)."""
+    """Where a powered section acts: stations as written (negative = from the track's end).
+
+    Attributes
+    ----------
+    start_m : float
+        Station where the section begins; negative counts back from the track's end [m].
+    end_m : float
+        Station where the section ends; negative counts back from the track's end [m].
+    """
 
     start_m: float
     end_m: float
 
     def resolved(self, track_length_m: float) -> tuple[float, float]:
-        """Start and end station [m] on a track of the given length [m]."""
+        """Start and end station on a track of the given length.
+
+        Parameters
+        ----------
+        track_length_m : float
+            Length of the track [m].
+
+        Returns
+        -------
+        start_m, end_m : float
+            The section's stations, negative ones counted back from the end [m].
+        """
         def at(x: float) -> float:
             return x + track_length_m if x < 0 else x
         return at(self.start_m), at(self.end_m)
@@ -52,23 +70,60 @@ class _Span:
 
 @dataclass(frozen=True)
 class Lift(_Span):
-    """A chain or cable lift: holds the train at ``speed_m_s`` [m/s] at least, bringing a
-    slower train up to it at ``engage_accel_m_s2`` [m/s^2]."""
+    """A chain or cable lift: holds the train at ``speed_m_s`` at least, bringing a slower
+    train up to it at ``engage_accel_m_s2``.
+
+    Attributes
+    ----------
+    start_m, end_m : float
+        Stations of the section (see ``_Span``) [m].
+    speed_m_s : float
+        Lift speed [m/s].
+    engage_accel_m_s2 : float
+        Acceleration that brings a slower train up to the lift speed [m/s^2].
+    kind : str
+        ``"lift"`` (class constant).
+    """
 
     speed_m_s: float = 3.0
     engage_accel_m_s2: float = 1.0
     kind: ClassVar[str] = "lift"
 
     def describe(self) -> str:
-        """The section's action in words, for the record."""
+        """The section's action in words, for the record.
+
+        Returns
+        -------
+        text : str
+            E.g. ``"speed 3 m/s"``, ``"exit 25 m/s"``, ``"to 0 m/s at <= 3 m/s^2"``.
+        """
         return f"speed {self.speed_m_s:g} m/s"
 
 
 @dataclass(frozen=True)
 class Launch(_Span):
-    """A launch: either a tractive force ``force_n`` [N] (pushing only below
-    ``max_speed_m_s`` [m/s] when that is given), or controlled to reach ``exit_speed_m_s``
-    [m/s] at its end. Exactly one of ``force_n`` and ``exit_speed_m_s`` is given."""
+    """A launch: a tractive force, or controlled to reach an exit speed at its end.
+
+    Exactly one of ``force_n`` and ``exit_speed_m_s`` is given.
+
+    Attributes
+    ----------
+    start_m, end_m : float
+        Stations of the section (see ``_Span``) [m].
+    force_n : float or None
+        Tractive force on the whole train [N].
+    max_speed_m_s : float or None
+        With ``force_n``: speed above which the launch no longer pushes [m/s].
+    exit_speed_m_s : float or None
+        Speed the train leaves the section at [m/s].
+    kind : str
+        ``"launch"`` (class constant).
+
+    Raises
+    ------
+    ValueError
+        When both or neither of ``force_n`` and ``exit_speed_m_s`` are given.
+    """
 
     force_n: float | None = None
     max_speed_m_s: float | None = None
@@ -80,7 +135,13 @@ class Launch(_Span):
             raise ValueError("a launch needs exactly one of force_n or exit_speed_m_s")
 
     def describe(self) -> str:
-        """The section's action in words, for the record."""
+        """The section's action in words, for the record.
+
+        Returns
+        -------
+        text : str
+            E.g. ``"speed 3 m/s"``, ``"exit 25 m/s"``, ``"to 0 m/s at <= 3 m/s^2"``.
+        """
         if self.exit_speed_m_s is not None:
             return f"exit {self.exit_speed_m_s:g} m/s"
         cap = f" up to {self.max_speed_m_s:g} m/s" if self.max_speed_m_s is not None else ""
@@ -89,15 +150,33 @@ class Launch(_Span):
 
 @dataclass(frozen=True)
 class Brake(_Span):
-    """A trim or stopping brake: slows the train to ``speed_m_s`` [m/s] (0 stops it) at no
-    more than ``max_decel_m_s2`` [m/s^2]."""
+    """A trim or stopping brake: slows the train to ``speed_m_s`` (0 stops it) at no more
+    than ``max_decel_m_s2``.
+
+    Attributes
+    ----------
+    start_m, end_m : float
+        Stations of the section (see ``_Span``) [m].
+    speed_m_s : float
+        Target speed; 0 makes a stopping brake [m/s].
+    max_decel_m_s2 : float
+        Largest deceleration the brake applies [m/s^2].
+    kind : str
+        ``"brake"`` (class constant).
+    """
 
     speed_m_s: float = 0.0
     max_decel_m_s2: float = 3.0
     kind: ClassVar[str] = "brake"
 
     def describe(self) -> str:
-        """The section's action in words, for the record."""
+        """The section's action in words, for the record.
+
+        Returns
+        -------
+        text : str
+            E.g. ``"speed 3 m/s"``, ``"exit 25 m/s"``, ``"to 0 m/s at <= 3 m/s^2"``.
+        """
         return f"to {self.speed_m_s:g} m/s at <= {self.max_decel_m_s2:g} m/s^2"
 
 
@@ -106,14 +185,36 @@ Section = Union[Lift, Launch, Brake]  # noqa: UP007 - a runtime alias (3.10 has 
 
 @dataclass(frozen=True)
 class Operation:
-    """Start speed [m/s] and the powered sections of a ride, with the file they came from."""
+    """Start speed and the powered sections of a ride, with the file they came from.
+
+    Attributes
+    ----------
+    start_speed_m_s : float
+        Speed of the train at the start of the track [m/s].
+    sections : tuple of Lift, Launch or Brake
+        The powered sections, in file order.
+    source : str
+        File the operation came from, for messages.
+    """
 
     start_speed_m_s: float = 0.0
     sections: tuple[Section, ...] = ()
     source: str = "<none>"
 
     def check_against(self, track_length_m: float) -> None:
-        """Stations must lie on the track and sections must not overlap."""
+        """Check that the stations lie on the track and that sections do not overlap.
+
+        Parameters
+        ----------
+        track_length_m : float
+            Length of the track [m].
+
+        Raises
+        ------
+        InputError
+            A section outside [0, track length] or with start >= end, or two sections that
+            overlap (naming the key ``sections[i]``).
+        """
         spans = []
         for i, sec in enumerate(self.sections):
             a, b = sec.resolved(track_length_m)
@@ -135,11 +236,13 @@ def load_operation(path: str | Path) -> Operation:
 
     Parameters
     ----------
-    path : the operation file.
+    path : str or Path
+        The operation file.
 
     Returns
     -------
-    Operation
+    operation : Operation
+        Start speed and sections as written (stations not yet resolved against a track).
 
     Raises
     ------

@@ -32,10 +32,26 @@ LOOK_AROUND_M = 3.0  # the element around a station: this far either side [m]
 
 def element_at(geometry: TrackGeometry, s_from: float, s_to: float,
                sections: tuple = (), track_length_m: float | None = None) -> str:
-    """Words for the element between stations ``s_from`` and ``s_to`` [m].
+    """Words for the element between two stations (rules in the module docstring).
 
-    ``sections``: the operation's powered sections (objects with ``kind`` and
-    ``resolved(track_length)``).
+    Parameters
+    ----------
+    geometry : TrackGeometry
+        Track geometry and rider frame.
+    s_from, s_to : float
+        Stations bounding the element, in either order [m]; the geometry is read
+        :data:`LOOK_AROUND_M` beyond them.
+    sections : tuple
+        The operation's powered sections (objects with ``kind`` and
+        ``resolved(track_length)``); a section containing the midpoint names the element.
+    track_length_m : float or None
+        Track length the sections' stations resolve against [m]; None for the geometry's.
+
+    Returns
+    -------
+    words : str
+        E.g. ``"lift"``, ``"brake run"``, ``"inversion"``, ``"loop entry"``,
+        ``"valley, left turn"``, ``"crest"``, ``"straight"``.
     """
     length = geometry.length if track_length_m is None else track_length_m
     lo, hi = sorted((s_from, s_to))

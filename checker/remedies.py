@@ -45,8 +45,22 @@ STEP_REACH_M = 10.0  # a curvature step is measured over this far either side [m
 
 @dataclass(frozen=True)
 class Remedy:
-    """A computed suggestion: ``quantity`` (e.g. "radius at the rider") of ``value``
-    [``unit``] from ``formula``; ``text`` says it in one sentence."""
+    """A computed suggestion, a first estimate for the designer.
+
+    Attributes
+    ----------
+    quantity : str
+        What to change, e.g. ``"radius at the rider"``, ``"bank"``, ``"transition length"``.
+    value : float or None
+        The suggested value in ``unit``; None when no value of that quantity helps (e.g.
+        gravity alone reaches the limit).
+    unit : str
+        Unit of ``value``: ``"m"``, ``"deg"``, ``"m/s"``, ``"m/s^2"`` or ``"x"`` (a factor).
+    formula : str
+        The closed form used, as text.
+    text : str
+        The suggestion in one sentence.
+    """
 
     quantity: str
     value: float | None
@@ -56,27 +70,83 @@ class Remedy:
 
 
 def valley_radius(v: float, gz_limit: float) -> float:
-    """Rider path radius [m] at the bottom of a valley meeting +Gz limit ``gz_limit`` [g] at
-    speed ``v`` [m/s]: R = v^2 / (g0 (Gz_lim - 1))."""
+    """Rider path radius at the bottom of a valley that meets a +Gz limit.
+
+    R = v^2 / (g0 (Gz_lim - 1)), uniform circular motion with the rider upright.
+
+    Parameters
+    ----------
+    v : float
+        Speed [m/s].
+    gz_limit : float
+        Highest allowed Gz, above 1 [g0].
+
+    Returns
+    -------
+    radius : float
+        Rider path radius [m] (negative or infinite for gz_limit <= 1: no radius helps).
+    """
     return v * v / (G0 * (gz_limit - 1.0))
 
 
 def crest_radius(v: float, gz_min: float) -> float:
-    """Rider path radius [m] over a crest meeting the lowest allowed Gz ``gz_min`` [g] at
-    speed ``v`` [m/s]: R = v^2 / (g0 (1 - Gz_min))."""
+    """Rider path radius over a crest that meets the lowest allowed Gz.
+
+    R = v^2 / (g0 (1 - Gz_min)), uniform circular motion with the rider upright.
+
+    Parameters
+    ----------
+    v : float
+        Speed [m/s].
+    gz_min : float
+        Lowest allowed Gz, below 1 [g0].
+
+    Returns
+    -------
+    radius : float
+        Rider path radius [m].
+    """
     return v * v / (G0 * (1.0 - gz_min))
 
 
 def bank_angle_deg(v: float, radius_m: float) -> float:
-    """Bank [deg] that cancels the lateral force in a level turn of radius ``radius_m`` at
-    speed ``v``: tan(theta) = v^2 / (g0 R)."""
+    """Bank that cancels the lateral force in a level turn: tan(theta) = v^2 / (g0 R).
+
+    Parameters
+    ----------
+    v : float
+        Speed [m/s].
+    radius_m : float
+        Horizontal radius of the turn [m].
+
+    Returns
+    -------
+    theta : float
+        Bank angle, 0 to 90 [deg].
+    """
     return math.degrees(math.atan2(v * v, G0 * radius_m))
 
 
 def transition_length(v: float, curvature_step: float, onset_limit_g_s: float) -> float:
-    """Clothoid length [m] from curvature 0 to ``curvature_step`` [1/m] that keeps the rate
-    of change of the normal acceleration within ``onset_limit_g_s`` [g/s] at speed ``v``:
-    L = v^3 k / (g0 onset_lim)."""
+    """Clothoid length that keeps the onset of the normal acceleration within a limit.
+
+    Along a clothoid (Euler spiral, curvature linear in arc length) from 0 to k over L, the
+    normal acceleration v^2 kappa rises at v^3 k / L, so L = v^3 |k| / (g0 onset_lim).
+
+    Parameters
+    ----------
+    v : float
+        Speed [m/s].
+    curvature_step : float
+        Curvature reached at the end of the transition (sign ignored) [1/m].
+    onset_limit_g_s : float
+        Allowed rate of change of the normal acceleration [g0/s].
+
+    Returns
+    -------
+    length : float
+        Transition length [m].
+    """
     return v**3 * abs(curvature_step) / (G0 * onset_limit_g_s)
 
 
@@ -98,8 +168,27 @@ def _step(geometry: TrackGeometry, station: float, component: np.ndarray) -> flo
 
 def remedy_for(event, geometry: TrackGeometry | None, place: str = "",
                seat_height_m: float | None = None) -> Remedy | None:
-    """A computed remedy for an event (see the module text), or None without geometry
-    (recorded data) or speed."""
+    """A computed remedy for an event (closed forms in the module docstring).
+
+    Parameters
+    ----------
+    event : Event
+        The event; its governing finding's kind, axis, speed, station, peak and limit are
+        used.
+    geometry : TrackGeometry or None
+        Track geometry; None for recorded data.
+    place : str
+        The element there in words (:func:`checker.places.element_at`); a Gx finding in a
+        ``"brake run"``, ``"launch"`` or ``"lift"`` gets a rate instead of a length.
+    seat_height_m : float or None
+        Height of the riders above the rails for the tangential rule; None takes 1 m [m].
+
+    Returns
+    -------
+    remedy : Remedy or None
+        None without geometry, speed or station, at zero speed (except for a stall), and for
+        kinds with no closed form here (Gx onset, uplift).
+    """
     f = event.governing
     v = f.v_m_s
     if geometry is None or v is None or f.s_worst_m is None:

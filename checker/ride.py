@@ -35,7 +35,20 @@ HISTORY_COLUMNS = ["seat", "car", "t", "s", "v", "gx", "gy", "gz", "x", "y", "z"
 
 @dataclass(frozen=True)
 class RideOptions:
-    """Numerical options of a run."""
+    """Numerical options of a run.
+
+    Attributes
+    ----------
+    rate_hz : float
+        Output sample rate of the rider histories [Hz].
+    smoothing_m : float or None
+        RMS distance the fitted centerline may keep from the samples [m]; 0 interpolates;
+        None takes half the grid a rounded track file sits on (0 for unrounded files).
+    step_m : float
+        Station grid step of the geometry and of the speed integration [m].
+    head_wind_m_s : float
+        Wind against the direction of travel, for the aerodynamic drag [m/s].
+    """
 
     rate_hz: float = 200.0
     smoothing_m: float | None = None  # None: half the grid a rounded track file sits on
@@ -45,6 +58,26 @@ class RideOptions:
 
 @dataclass(frozen=True)
 class RideResult:
+    """A simulated ride: geometry, motion, every seat's unfiltered history and the inputs.
+
+    Attributes
+    ----------
+    geometry : TrackGeometry
+        Track geometry and rider frame on the station grid.
+    motion : RideMotion
+        The train's speed and time along the track.
+    histories : list of SeatHistory
+        Every seat of every car, sampled at ``options.rate_hz``; specific force [g0].
+    train : Train
+        The train simulated.
+    operation : Operation
+        Start speed and powered sections.
+    options : RideOptions
+        Numerical options of the run.
+    warnings : tuple of str
+        Plausibility warnings (the run went on).
+    """
+
     geometry: TrackGeometry
     motion: RideMotion
     histories: list[SeatHistory]
@@ -56,8 +89,29 @@ class RideResult:
 
 def layout_geometry(centerline: Centerline, options: RideOptions = RideOptions()
                     ) -> TrackGeometry:
-    """The track geometry of a layout (depends only on the centerline, the smoothing and the
-    station step: sweeps build it once for every case)."""
+    """The track geometry of a layout.
+
+    It depends only on the centerline, the smoothing and the station step: sweeps build it
+    once for every case.
+
+    Parameters
+    ----------
+    centerline : Centerline
+        Validated centerline samples.
+    options : RideOptions
+        Its ``smoothing_m`` [m] (None: from the file's grid) and ``step_m`` [m] are used.
+
+    Returns
+    -------
+    geometry : TrackGeometry
+        See :func:`checker.geometry.build_geometry`.
+
+    Raises
+    ------
+    InputError
+        The polyline through the samples is shorter than ``bounds.MIN_TRACK_M`` (a unit
+        mistake).
+    """
     polyline_m = float(np.linalg.norm(np.diff(centerline.points, axis=0), axis=1).sum())
     if polyline_m < MIN_TRACK_M:
         raise InputError(centerline.source, f"the track is only {polyline_m:.3g} m long",
@@ -72,7 +126,32 @@ def run_ride(centerline: Centerline, train: Train, operation: Operation,
              options: RideOptions = RideOptions(),
              geometry: TrackGeometry | None = None) -> RideResult:
     """Geometry, dynamics and every seat's history for one layout and one train.
-    ``geometry``: the layout's geometry when already built (:func:`layout_geometry`)."""
+
+    Parameters
+    ----------
+    centerline : Centerline
+        Validated centerline samples.
+    train : Train
+        Cars, seats, masses and resistances.
+    operation : Operation
+        Start speed and powered sections.
+    options : RideOptions
+        Sample rate [Hz], smoothing [m], station step [m], head wind [m/s].
+    geometry : TrackGeometry or None
+        The layout's geometry when already built (:func:`layout_geometry`); None builds it.
+
+    Returns
+    -------
+    result : RideResult
+        A stall is not raised: it is in ``result.motion.stall`` and the histories end there.
+
+    Raises
+    ------
+    InputError
+        The track is too short (:func:`layout_geometry`) or not longer than the train; a
+        powered section lies off the track or overlaps another; the histories would exceed
+        the memory cap (``bounds.check_memory``).
+    """
     if geometry is None:
         geometry = layout_geometry(centerline, options)
     if train.length_m >= geometry.length:
@@ -91,7 +170,19 @@ def run_ride(centerline: Centerline, train: Train, operation: Operation,
 
 
 def histories_frame(histories: list[SeatHistory]) -> pd.DataFrame:
-    """One row per seat and sample with the columns of :data:`HISTORY_COLUMNS`."""
+    """One row per seat and sample with the columns of :data:`HISTORY_COLUMNS`.
+
+    Parameters
+    ----------
+    histories : list of SeatHistory
+        Seat histories, e.g. ``RideResult.histories``; at least one.
+
+    Returns
+    -------
+    frame : pandas.DataFrame
+        Columns seat, car, t [s], s [m], v [m/s], gx, gy, gz [g0], x, y, z [m], the seats
+        one after the other.
+    """
     parts = []
     for h in histories:
         parts.append(pd.DataFrame({
@@ -109,8 +200,22 @@ HISTORY_DECIMALS = {"car": 0, "t": 6, "s": 4, "v": 4, "gx": 6, "gy": 6, "gz": 6,
 
 
 def histories_csv(histories: list[SeatHistory]) -> bytes:
-    """Every seat's history as CSV (columns :data:`HISTORY_COLUMNS`) at fixed decimals,
-    written by a vectorized formatter (:func:`checker.csvformat.fixed_csv`)."""
+    """Every seat's history as CSV at fixed decimals.
+
+    Written by a vectorized formatter (:func:`checker.csvformat.fixed_csv`) with the decimals
+    of :data:`HISTORY_DECIMALS`.
+
+    Parameters
+    ----------
+    histories : list of SeatHistory
+        Seat histories; at least one.
+
+    Returns
+    -------
+    text : bytes
+        UTF-8 CSV with a header row and the columns of :data:`HISTORY_COLUMNS`: t [s],
+        s [m], v [m/s], gx, gy, gz [g0], x, y, z [m].
+    """
     import numpy as np
 
     from .csvformat import fixed_csv
@@ -133,7 +238,34 @@ def histories_csv(histories: list[SeatHistory]) -> bytes:
 def load_inputs(track: str | Path, train: str | Path | None = None, *, ideal: bool = False,
                 operation: str | Path | None = None, start_speed_m_s: float | None = None,
                 units: str = "m") -> tuple[Centerline, Train, Operation]:
-    """Load and validate the files of a run (the edge where files become objects)."""
+    """Load and validate the files of a run (the edge where files become objects).
+
+    Parameters
+    ----------
+    track : str or Path
+        Centerline CSV.
+    train : str or Path or None
+        Train TOML; None (or ``ideal=True``) gives :func:`checker.train.ideal_rider`.
+    ideal : bool
+        Use the ideal point rider even when a train file is given.
+    operation : str or Path or None
+        Operation TOML; None gives free rolling from rest.
+    start_speed_m_s : float or None
+        Overrides the operation's start speed [m/s].
+    units : {"m", "ft"}
+        Length unit of the track file.
+
+    Returns
+    -------
+    centerline : Centerline
+    train : Train
+    operation : Operation
+
+    Raises
+    ------
+    InputError
+        For a bad or missing input file (from the loaders).
+    """
     line = load_centerline(track, units)
     the_train = ideal_rider() if ideal or train is None else load_train(train)
     ops = load_operation(operation) if operation is not None else Operation()
@@ -150,24 +282,35 @@ def simulate(track: str | Path, train: str | Path | None = None, *, ideal: bool 
 
     Parameters
     ----------
-    track : centerline CSV (columns x, y, z [m], optional roll_deg or up_x, up_y, up_z).
-    train : train TOML; None or ``ideal=True`` gives one rider on the centerline, no losses.
-    operation : operation TOML (start speed, lift, launch, brakes); None = free rolling.
-    start_speed_m_s : overrides the operation's start speed [m/s].
-    rate_hz : output sample rate [Hz].
-    units : ``"m"`` or ``"ft"`` for the track's lengths.
-    smoothing_m : RMS tolerance [m] for smoothing noisy samples (0 = interpolate; None =
-        half the grid a rounded track file's coordinates sit on, 0 for unrounded files).
+    track : str or Path
+        Centerline CSV (columns x, y, z [m], optional roll_deg or up_x, up_y, up_z).
+    train : str or Path or None
+        Train TOML; None or ``ideal=True`` gives one rider on the centerline, no losses.
+    ideal : bool
+        Use the ideal point rider even when a train file is given.
+    operation : str or Path or None
+        Operation TOML (start speed, lift, launch, brakes); None = free rolling.
+    start_speed_m_s : float or None
+        Overrides the operation's start speed [m/s].
+    rate_hz : float
+        Output sample rate [Hz].
+    units : {"m", "ft"}
+        Length unit of the track file.
+    smoothing_m : float or None
+        RMS tolerance for smoothing noisy samples (0 = interpolate; None = half the grid a
+        rounded track file's coordinates sit on, 0 for unrounded files) [m].
 
     Returns
     -------
-    DataFrame with columns seat, car, t [s], s [m], v [m/s], gx, gy, gz [g0], x, y, z [m].
-    Where the train stalls the histories end there (no error is raised).
+    frame : pandas.DataFrame
+        Columns seat, car, t [s], s [m], v [m/s], gx, gy, gz [g0], x, y, z [m]. Where the
+        train stalls the histories end there (no error is raised).
 
     Raises
     ------
     InputError
-        For a bad or missing input file.
+        For a bad or missing input file, a track too short for the train, or a ride over
+        the memory cap.
     """
     line, the_train, ops = load_inputs(track, train, ideal=ideal, operation=operation,
                                        start_speed_m_s=start_speed_m_s, units=units)
@@ -182,10 +325,13 @@ class CheckRun:
 
     Attributes
     ----------
-    evaluation : the rules' outcome (its warnings include the ride's plausibility warnings,
-        its stalls the ride's stall).
-    ride : the simulated ride.
-    signals : {(seat, case): :class:`checker.kinematics.SeatHistory`} raw signals [g0].
+    evaluation : Evaluation
+        The rules' outcome (its warnings include the ride's plausibility warnings, its
+        stalls the ride's stall).
+    ride : RideResult
+        The simulated ride.
+    signals : dict
+        {(seat, case): :class:`checker.kinematics.SeatHistory`}, unfiltered signals [g0].
     """
 
     evaluation: Evaluation
@@ -194,7 +340,8 @@ class CheckRun:
 
     @property
     def stall(self) -> str | None:
-        """Where the train stopped short of the end, or None."""
+        """Where the train stopped short of the end (the stall texts joined by "; "), or
+        None."""
         return "; ".join(self.evaluation.stalls) or None
 
 
@@ -205,20 +352,36 @@ def run_check(centerline: Centerline, train: Train, operation: Operation, limits
 
     Parameters
     ----------
-    centerline, train, operation : the validated inputs of the ride.
-    limits : the limit set to check against.
-    options : numerical options (sample rate [Hz], smoothing [m], station step [m]).
-    case : name of the load case, carried into every finding.
-    keep_signals : False skips what only documents need (filtered signals, exposure
-        curves); sweeps pass False.
-    geometry : the layout's geometry when already built (:func:`layout_geometry`); sweeps
-        build it once per layout.
+    centerline : Centerline
+        Validated centerline samples.
+    train : Train
+        Cars, seats, masses and resistances.
+    operation : Operation
+        Start speed and powered sections.
+    limits : LimitSet
+        The limit set to check against.
+    options : RideOptions
+        Numerical options (sample rate [Hz], smoothing [m], station step [m], head wind
+        [m/s]).
+    case : str
+        Name of the load case, carried into every finding.
+    keep_signals : bool
+        False skips what only documents need (filtered signals, exposure curves); sweeps
+        pass False.
+    geometry : TrackGeometry or None
+        The layout's geometry when already built (:func:`layout_geometry`); sweeps build it
+        once per layout.
 
     Returns
     -------
-    CheckRun
+    run : CheckRun
         A stall is not an error: it is carried in ``evaluation.stalls`` and fails the
         verdict.
+
+    Raises
+    ------
+    InputError
+        As :func:`run_ride`.
     """
     result = run_ride(centerline, train, operation, options, geometry)
     evaluation = evaluate_ride(result, limits, case, keep_signals)
@@ -232,15 +395,20 @@ def evaluate_ride(result: RideResult, limits: LimitSet, case: str = "nominal",
 
     Parameters
     ----------
-    result : the simulated ride (:func:`run_ride`).
-    limits : the limit set to check against.
-    case : name of the load case, carried into every finding.
-    keep_signals : False skips what only documents need (filtered signals).
+    result : RideResult
+        The simulated ride (:func:`run_ride`).
+    limits : LimitSet
+        The limit set to check against.
+    case : str
+        Name of the load case, carried into every finding.
+    keep_signals : bool
+        False skips what only documents need (filtered signals, exposure curves).
 
     Returns
     -------
-    Evaluation
-        A stall is a finding of every seat and is carried in ``stalls``.
+    evaluation : Evaluation
+        A stall is a finding of every seat and is carried in ``stalls``; the ride's
+        plausibility warnings come first in ``warnings``.
     """
     evaluation = evaluate(result.histories, limits, case, keep_signals)
     stalls: tuple[str, ...] = ()
@@ -264,7 +432,19 @@ def _smoothing_text(result: RideResult) -> str:
 
 
 def ride_parameters(result: RideResult) -> list[tuple[str, str]]:
-    """Every parameter of a simulated run, as (name, value with unit) for the record."""
+    """Every parameter of a simulated run, for the record.
+
+    Parameters
+    ----------
+    result : RideResult
+        The simulated ride.
+
+    Returns
+    -------
+    rows : list of tuple of (str, str)
+        (name, value with its unit), e.g. ``("car spacing", "2.4 m")``; train, options, seat
+        offsets and powered sections (stations resolved on the track).
+    """
     tr, ops, opt = result.train, result.operation, result.options
     rows = [
         ("train", tr.name), ("cars", str(tr.car_count)), ("car spacing", f"{tr.spacing_m:g} m"),

@@ -17,6 +17,15 @@ minimum (:func:`exposure_curve` with ``durations_s``).
 Combined envelopes test every sample first against the largest quadrant-wise ellipse around
 the rest point that fits inside the polygon (one multiply-add per sample); only the samples
 outside it go through the exact point-in-polygon test.
+
+References
+----------
+M. A. Bender and M. Farach-Colton, "The LCA problem revisited", LATIN 2000, LNCS 1776,
+pp. 88-94 (the sparse table of power-of-two range minima behind :func:`sustained_windows`).
+R. Harter, "The minimum on a sliding window algorithm", 2001 (the ascending-minima method of
+``scipy.ndimage.minimum_filter1d``); D. Lemire, "Streaming maximum-minimum filter using no
+more than three comparisons per element", Nordic Journal of Computing 13(4), 2006 (the same
+O(N) sliding-window minimum).
 """
 
 from __future__ import annotations
@@ -38,7 +47,13 @@ BLOCK = 1 << 15  # samples per block of the rule scan: its temporaries stay in c
 
 class TextEnum(str, Enum):
     """A str-valued enum that prints, formats, hashes, compares and goes into JSON as its
-    value (so documents keep the same strings)."""
+    value (so documents keep the same strings).
+
+    Attributes
+    ----------
+    value : str
+        The text a member stands for.
+    """
 
     __hash__ = str.__hash__
 
@@ -50,14 +65,36 @@ class TextEnum(str, Enum):
 
 
 class Verdict(TextEnum):
-    """The outcome of a check."""
+    """The outcome of a check.
+
+    Attributes
+    ----------
+    PASS : str
+        ``"pass"``: no finding and no stall.
+    FAIL : str
+        ``"fail"``: any finding or stall.
+    """
 
     PASS = "pass"
     FAIL = "fail"
 
 
 class FindingKind(TextEnum):
-    """Which kind of rule a finding breaks."""
+    """Which kind of rule a finding breaks.
+
+    Attributes
+    ----------
+    DURATION : str
+        ``"duration"``: a level held longer than the limit curve allows.
+    COMBINED : str
+        ``"combined"``: a filtered sample outside a combined-axis envelope.
+    ONSET : str
+        ``"onset"``: the rate of change above the onset limit.
+    STALL : str
+        ``"stall"``: the train comes to rest outside a stopping brake.
+    UPLIFT : str
+        ``"uplift"``: upward travel beyond the restraint's free travel.
+    """
 
     DURATION = "duration"  # a level held longer than the limit curve allows
     COMBINED = "combined"  # a filtered sample outside a combined-axis envelope
@@ -83,6 +120,52 @@ class Finding:
     filter group delay earlier, when the motion that caused the filtered peak happened. A
     stall (kind ``"stall"``) is reported at the lead car's station, its "peak" is the speed
     there [m/s] and it has no margin.
+
+    Attributes
+    ----------
+    rule : str
+        Rule name, e.g. ``"duration +Gz"``, ``"combined x-z envelope"``, ``"onset gz"``.
+    kind : FindingKind
+        Kind of rule.
+    axis : str
+        Axis (``"gz"``), axis pair (``"gx+gz"``) or empty (stall).
+    seat : str
+        Rider position, e.g. ``"car1-1L"``.
+    case : str
+        Load case.
+    t_start, t_end : float
+        Time range of the exceedance [s].
+    duration_s : float
+        Duration of the governing window (duration rules) or of the exceedance [s].
+    peak_g : float
+        Peak value in ``peak_unit``: signed level [g0] (duration), distance from the rest
+        point [g0] (combined; from zero for a sustained envelope), rate [g0/s] (onset), speed
+        [m/s] (stall) or rise [m] (uplift).
+    limit_g : float
+        The limit in ``peak_unit`` at the governing point.
+    margin : float
+        Limit minus value in ``unit``; negative = exceeded; nan for a stall.
+    t_worst : float
+        Time of the worst sample [s].
+    s_start_m, s_worst_m, s_end_m : float or None
+        Stations of the seat's car at the start, worst sample and end [m]; None for
+        recorded data without stations.
+    position_m : tuple of float or None
+        Rider's world position at the worst sample [m].
+    detail : str
+        The exceedance in one sentence.
+    s_motion_m : float or None
+        Station one filter group delay before the worst sample [m].
+    group_delay_s : float
+        Filter delay between the motion and its filtered peak [s].
+    attitude : str
+        Stall only: the riders' attitude (upright, on its side, inverted).
+    v_m_s : float or None
+        Train speed at the worst sample (simulated rides) [m/s].
+    ratio : float or None
+        Sustained combined rule: (a/A)^2 + (b/B)^2 at the worst sample [-].
+    admissible_g : tuple of float or None
+        Sustained combined rule: the admissible levels (A, B) there [g0].
     """
 
     rule: str
@@ -130,6 +213,12 @@ class Finding:
         return -self.margin / abs(self.limit_g) if self.limit_g else float("inf")
 
     def to_dict(self) -> dict:
+        """Every field as JSON, with ``severity``, ``unit`` and ``peak_unit`` added.
+
+        Returns
+        -------
+        fields : dict
+        """
         data = asdict(self)
         data["severity"] = self.severity
         data["unit"] = self.unit
@@ -139,7 +228,16 @@ class Finding:
 
 @dataclass(frozen=True)
 class Exposure:
-    """Exposure curve of one signal direction: levels [g0] against duration [s]."""
+    """Exposure curve of one signal direction: levels [g0] against duration [s].
+
+    Attributes
+    ----------
+    durations_s : (k,) ndarray
+        Durations [s].
+    levels_g : (k,) ndarray
+        Highest level sustained for at least each duration, signed as the rule's direction;
+        -inf (or +inf for a negative direction) for a duration longer than the signal [g0].
+    """
 
     durations_s: np.ndarray
     levels_g: np.ndarray
@@ -151,11 +249,24 @@ class SeatResult:
 
     Attributes
     ----------
-    seat, case : names of the rider position and of the load case.
-    worst : {axis: (min, max)} of the filtered signal [g0].
-    findings : the exceedance events, in the order the rules produced them.
-    filtered : (n, 3) filtered specific force [g0], or None when not kept (sweeps).
-    t : (n,) sample times [s], or None when not kept.
+    seat : str
+        Name of the rider position.
+    case : str
+        Name of the load case.
+    worst : dict
+        {axis: (min, max)} of the filtered signal [g0].
+    findings : tuple of Finding
+        The exceedances, in the order the rules produced them.
+    filtered : (n, 3) ndarray or None
+        Filtered specific force [g0], or None when not kept (sweeps).
+    t : (n,) ndarray or None
+        Sample times [s], or None when not kept.
+    uplift : UpliftSummary or None
+        The seat's flights off the seat (:mod:`checker.uplift`).
+    zones : ZoneSummary or None
+        The seat on the restraint-zone diagram, when the limits carry zones.
+    margins : dict
+        {rule name: worst margin} in each rule's unit (:func:`checker.sensitivity.rule_margins`).
     """
 
     seat: str
@@ -170,12 +281,19 @@ class SeatResult:
 
     @property
     def verdict(self) -> Verdict:
-        """FAIL when any rule is exceeded at this seat in this case, else "pass"."""
+        """FAIL when any rule is exceeded at this seat in this case, else PASS."""
         return verdict_of(bool(self.findings))
 
     def without_signals(self) -> SeatResult:
-        """The same result without the filtered signal, times and exposure curves (small
-        enough to travel between processes)."""
+        """The same result without the filtered signal and times.
+
+        Small enough to travel between processes.
+
+        Returns
+        -------
+        result : SeatResult
+            A copy with ``filtered`` and ``t`` set to None.
+        """
         return replace(self, filtered=None, t=None)
 
 
@@ -185,11 +303,15 @@ class Evaluation:
 
     Attributes
     ----------
-    limits : the limit set used.
-    seats : one :class:`SeatResult` per seat and load case.
-    warnings : plausibility and sampling warnings (the run went on).
-    stalls : where the train stopped short of the end, one line per ride; a stall fails the
-        check just as a finding does.
+    limits : LimitSet
+        The limit set used.
+    seats : tuple of SeatResult
+        One per seat and load case.
+    warnings : tuple of str
+        Plausibility and sampling warnings (the run went on).
+    stalls : tuple of str
+        Where the train stopped short of the end, one line per ride; a stall fails the check
+        just as a finding does.
     """
 
     limits: LimitSet
@@ -199,7 +321,7 @@ class Evaluation:
 
     @property
     def findings(self) -> list[Finding]:
-        """Every finding, the most severe first."""
+        """Every finding of every seat, the most severe first (then by seat and time)."""
         return sorted((f for s in self.seats for f in s.findings),
                       key=lambda f: (-f.severity, f.seat, f.t_start))
 
@@ -214,11 +336,12 @@ def verdict_of(*failures: bool) -> Verdict:
 
     Parameters
     ----------
-    *failures : one flag per thing that can fail (findings, stalls, cases).
+    *failures : bool
+        One flag per thing that can fail (findings, stalls, cases).
 
     Returns
     -------
-    Verdict
+    verdict : Verdict
         FAIL when anything failed, else PASS.
     """
     return Verdict.FAIL if any(failures) else Verdict.PASS
@@ -275,17 +398,57 @@ class SustainedWindows:
 
 def sustained_windows(x: np.ndarray, widest: int | None = None,
                       query: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray]:
-    """For each sample (or each index in ``query``), the first and last index of the longest
-    window around it in which every sample is >= it (:class:`SustainedWindows`).
-    ``widest``: a bound on any window's width when known, default the length."""
+    """For each sample, the longest window around it in which every sample is >= it.
+
+    A sparse table holds the minima of every power-of-two block (level l: min of
+    x[i:i + 2^l]); each sample's window is then extended to the right, and (on the reversed
+    array) to the left, by binary lifting: from the highest level down, a block is taken
+    when its minimum is >= the sample (:class:`SustainedWindows`). O(N log W) for widths
+    up to W, or O(Q log W) for Q queried samples after the table.
+
+    Parameters
+    ----------
+    x : (n,) array_like
+        Signal (e.g. signed filtered level [g0]); -inf samples act as barriers.
+    widest : int or None
+        A bound on any window's width when known (fewer sparse-table levels); None for the
+        length.
+    query : (q,) array_like of int or None
+        The samples to answer for; None for every sample.
+
+    Returns
+    -------
+    left, right : ndarray of int
+        First and last index (inclusive) of each queried sample's window.
+
+    References
+    ----------
+    M. A. Bender and M. Farach-Colton, "The LCA problem revisited", LATIN 2000, LNCS 1776,
+    pp. 88-94 (sparse table of range minima).
+    """
     x = np.asarray(x, dtype=float)
     return SustainedWindows(x, widest)(np.arange(len(x)) if query is None else query)
 
 
 def exposure_durations(count_samples: int, dt: float,
                        points: int = EXPOSURE_POINTS) -> np.ndarray:
-    """Durations [s] at which a figure draws an exposure curve: up to ``points`` window
-    lengths spaced evenly in log from one sample to the whole signal."""
+    """Durations at which a figure draws an exposure curve.
+
+    Parameters
+    ----------
+    count_samples : int
+        Length of the signal [samples].
+    dt : float
+        Sample interval [s].
+    points : int
+        Largest number of durations.
+
+    Returns
+    -------
+    durations : (k,) ndarray
+        Up to ``points`` distinct whole-sample window lengths spaced evenly in log from one
+        sample to the whole signal, times ``dt`` [s]; empty for an empty signal.
+    """
     if count_samples < 1:
         return np.zeros(0)
     k = np.unique(np.rint(np.geomspace(1, count_samples, min(count_samples, points))))
@@ -299,14 +462,31 @@ def exposure_curve(x: np.ndarray, dt: float, durations_s: np.ndarray | None = No
     the sustained windows of every sample. With ``durations_s``: the curve at those
     durations only (rounded to whole samples, at least one), each in O(N) as the largest
     sliding-window minimum, E(k) = max_i min(x[i:i + k]); a duration longer than the signal
-    gets -inf.
+    gets -inf. The durations are taken in increasing order: a window up to twice the last
+    width is the minimum of two overlapping windows of that width (the sparse-table query),
+    a longer one a fresh ``scipy.ndimage.minimum_filter1d`` pass.
+
+    Parameters
+    ----------
+    x : (n,) array_like
+        Signed filtered level, the rule's direction positive [g0].
+    dt : float
+        Sample interval [s].
+    durations_s : (k,) array_like or None
+        Durations to evaluate [s]; None for every whole number of samples 1..n.
+
+    Returns
+    -------
+    exposure : Exposure
+        Durations [s] and the highest level sustained for at least each [g0].
 
     References
     ----------
-    van Herk, "A fast algorithm for local minimum and maximum filters on rectangular and
-    octagonal kernels", Pattern Recognition Letters 13, 1992; Gil and Werman, "Computing 2-D
-    min, median, and max filters", IEEE PAMI 15, 1993 (through
-    ``scipy.ndimage.minimum_filter1d``).
+    R. Harter, "The minimum on a sliding window algorithm", 2001 (the ascending-minima
+    algorithm ``scipy.ndimage.minimum_filter1d`` implements); D. Lemire, "Streaming
+    maximum-minimum filter using no more than three comparisons per element", Nordic
+    Journal of Computing 13(4), 2006. M. A. Bender and M. Farach-Colton, "The LCA problem
+    revisited", LATIN 2000 (overlapping power-of-two windows, the doubling step).
     """
     x = np.asarray(x, dtype=float)
     n = len(x)
@@ -340,9 +520,23 @@ def exposure_curve(x: np.ndarray, dt: float, durations_s: np.ndarray | None = No
 
 def seat_exposures(result: SeatResult, limits: LimitSet,
                    durations_s: np.ndarray | None = None) -> dict[str, Exposure]:
-    """Exposure curves (signed levels [g0]) of a seat's filtered signal for every duration
-    rule, at ``durations_s`` [s] (default: the durations a figure draws). Needs a result
-    evaluated with ``keep_signals``; an empty dict otherwise."""
+    """Exposure curves of a seat's filtered signal for every duration rule.
+
+    Parameters
+    ----------
+    result : SeatResult
+        A result evaluated with ``keep_signals`` (filtered signal and times kept).
+    limits : LimitSet
+        The duration rules (axis and direction).
+    durations_s : (k,) ndarray or None
+        Durations [s]; None for the durations a figure draws (:func:`exposure_durations`).
+
+    Returns
+    -------
+    curves : dict
+        {rule name: Exposure} with signed levels [g0]; empty when the signals were not kept
+        or have fewer than two samples.
+    """
     if result.filtered is None or result.t is None or len(result.t) < 2:
         return {}
     dt = 1.0 / sample_rate(result.t)
@@ -454,12 +648,27 @@ def _positive(rule: DurationLimit):
 
 def windows_above(x: np.ndarray, floor: float,
                   sign: float = 1.0) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Sustained windows of the samples of ``sign * x`` above ``floor`` only: (sample index,
-    first, last).
+    """Sustained windows of the samples of ``sign * x`` above ``floor`` only.
 
     Samples at or below the floor can never exceed a limit that is above it, so they only
     bound the windows (one barrier sample after each run is enough); leaving them out makes
     the check a few passes over memory on long, mostly quiet rides.
+
+    Parameters
+    ----------
+    x : (n,) array_like
+        Filtered signal [g0].
+    floor : float
+        Level in the rule's direction (``sign * x``) at or below which samples are left out
+        [g0].
+    sign : float
+        +1 or -1, the rule's direction.
+
+    Returns
+    -------
+    samples, first, last : (m,) ndarray of int
+        Index of each sample above the floor and the first and last index (inclusive) of
+        its window, all in ``x``; empty arrays when no sample is above.
     """
     x = np.asarray(x, dtype=float)
     keep, real = _kept_in_block(x, floor, sign, False)
@@ -604,16 +813,38 @@ def _duration_findings(x: np.ndarray, dt: float, rule: DurationLimit, ctx: _Cont
 
 @dataclass(frozen=True)
 class InscribedEllipse:
-    """An axis-aligned ellipse inside a polygon: a point p [g0] is inside the ellipse when
-    sum(((p - center) / scale)^2) < radius^2. ``radius`` is 0 when no centre was found inside
-    the polygon (then every point goes to the exact test)."""
+    """An axis-aligned ellipse inside a polygon.
+
+    A point p is inside the ellipse when sum(((p - center) / scale)^2) < radius^2.
+
+    Attributes
+    ----------
+    center : (2,) ndarray
+        Centre [g0].
+    scale : (2,) ndarray
+        Half-extents of the polygon, the ellipse's axis ratio [g0].
+    radius : float
+        Radius in scaled coordinates; 0 when no centre was found inside the polygon (then
+        every point goes to the exact test) [-].
+    """
 
     center: np.ndarray  # (2,) [g0]
     scale: np.ndarray  # (2,) [g0]
     radius: float
 
     def holds(self, a: np.ndarray, b: np.ndarray) -> np.ndarray:
-        """True for the points (a, b) [g0] strictly inside the ellipse."""
+        """Which points lie strictly inside the ellipse.
+
+        Parameters
+        ----------
+        a, b : (n,) ndarray
+            The two coordinates of the points [g0].
+
+        Returns
+        -------
+        inside : (n,) ndarray of bool
+            True strictly inside (with a relative 1e-9 margin); all False for radius 0.
+        """
         d = a - self.center[0]
         d *= 1.0 / self.scale[0]
         e = b - self.center[1]
@@ -657,6 +888,18 @@ def inscribed_ellipse(vertices: np.ndarray, rest: np.ndarray) -> InscribedEllips
     scaled by the half-extents the largest circle about an inside centre that stays inside has
     the radius of the centre's distance to the nearest edge; the scaling is linear, so the
     ellipse it maps to lies inside the polygon.
+
+    Parameters
+    ----------
+    vertices : (m, 2) ndarray
+        Closed polygon, vertices in order [g0].
+    rest : (2,) ndarray
+        The rest point, the second candidate centre [g0].
+
+    Returns
+    -------
+    ellipse : InscribedEllipse
+        The larger of the two candidates; radius 0 when neither centre is strictly inside.
     """
     v = np.asarray(vertices, dtype=float)
     lo, hi = v.min(axis=0), v.max(axis=0)
@@ -746,12 +989,44 @@ def _time_step(t: np.ndarray) -> tuple[float, bool]:
 
 
 def sample_rate(t: np.ndarray) -> float:
-    """Sample rate [Hz]: one over the median step."""
+    """Sample rate of a time base: one over the step.
+
+    Parameters
+    ----------
+    t : (n,) array_like
+        Sample times, increasing, n >= 2 [s].
+
+    Returns
+    -------
+    rate : float
+        1 / step, the step being the mean step when all steps agree to 1e-9, else the median
+        step [Hz].
+    """
     return 1.0 / _time_step(np.asarray(t, dtype=float))[0]
 
 
 def check_filter_rate(limits: LimitSet, rate_hz: float) -> list[str]:
-    """Refuse a corner at or above Nyquist; warn when sampling below 10 x the corner."""
+    """Refuse a corner at or above Nyquist; warn when sampling below 10 x the corner.
+
+    Parameters
+    ----------
+    limits : LimitSet
+        Its filter settings.
+    rate_hz : float
+        Sample rate of the signals [Hz].
+
+    Returns
+    -------
+    warnings : list of str
+        One warning when the rate is below ten times the corner; empty otherwise or without
+        a filter.
+
+    Raises
+    ------
+    InputError
+        The filter corner is at or above half the sample rate (naming
+        ``filter.corner_hz``).
+    """
     corner = limits.filter.corner_hz
     if limits.filter.kind == "none":
         return []
@@ -823,15 +1098,33 @@ def _join(parts: list, dtype) -> np.ndarray:
 
 def evaluate_seat(seat, limits: LimitSet, case: str = "nominal",
                   keep_signals: bool = True, aids: bool = True) -> SeatResult:
-    """All rules for one rider signal (an object with ``seat``, ``t`` [s], ``g`` (n, 3) [g0]
-    and optionally ``s`` [m] and ``position`` (n, 3) [m]). With ``keep_signals`` the result
-    keeps the filtered signal and the times (for figures and :func:`seat_exposures`). With
-    ``aids`` it also carries the design aids' summaries (every rule's worst margin, the
-    rider's flights, the restraint zones); without, only what the rules need (the flights
-    only when the limits set a free travel, since they are then a rule).
+    """All rules for one rider signal.
 
     The filtered signal is scanned once in cache-sized blocks (:class:`_Scan`); the findings
     are then made from the few samples each rule singled out.
+
+    Parameters
+    ----------
+    seat : SeatHistory or RecordedSignal
+        An object with ``seat`` (name), ``t`` ((n,) [s]), ``g`` ((n, 3) [g0]) and optionally
+        ``s`` ((n,) [m]), ``v`` ((n,) [m/s]) and ``position`` ((n, 3) [m]).
+    limits : LimitSet
+        The rules and the filter.
+    case : str
+        Name of the load case, carried into every finding.
+    keep_signals : bool
+        Keep the filtered signal and the times in the result (for figures and
+        :func:`seat_exposures`).
+    aids : bool
+        Also compute the design aids' summaries (every rule's worst margin, the rider's
+        flights, the restraint zones). Without, only what the rules need: the flights only
+        when the limits set a free travel (they are then a rule); the findings are the same.
+
+    Returns
+    -------
+    result : SeatResult
+        Findings of every rule, extremes of the filtered signal, and (with ``aids``)
+        uplift, zones and margins.
     """
     t = np.asarray(seat.t, dtype=float)
     dt, uniform = _time_step(t)
@@ -879,10 +1172,34 @@ def evaluate_seat(seat, limits: LimitSet, case: str = "nominal",
 
 def evaluate(seats, limits: LimitSet, case: str = "nominal",
              keep_signals: bool = True, aids: bool = True) -> Evaluation:
-    """Every rule of ``limits`` for every rider signal in ``seats``. Without
-    ``keep_signals`` the filtered signals are not kept (for sweeps); without ``aids`` the
-    design aids' summaries are left out (the findings are the same); exposure curves are
-    made on request by :func:`seat_exposures`."""
+    """Every rule of a limit set for every rider signal.
+
+    Parameters
+    ----------
+    seats : iterable of SeatHistory or RecordedSignal
+        Rider signals (see :func:`evaluate_seat`); the first one's rate is checked against
+        the filter.
+    limits : LimitSet
+        The rules and the filter.
+    case : str
+        Name of the load case.
+    keep_signals : bool
+        False does not keep the filtered signals (sweeps); exposure curves are made on
+        request by :func:`seat_exposures`.
+    aids : bool
+        Also compute the design aids' summaries (see :func:`evaluate_seat`); the findings
+        are the same either way.
+
+    Returns
+    -------
+    evaluation : Evaluation
+        One SeatResult per signal, with the sampling warning if any.
+
+    Raises
+    ------
+    InputError
+        The filter corner is at or above half the sample rate (:func:`check_filter_rate`).
+    """
     seats = list(seats)
     warnings = check_filter_rate(limits, sample_rate(seats[0].t)) if seats else []
     return Evaluation(limits, tuple(evaluate_seat(s, limits, case, keep_signals, aids)

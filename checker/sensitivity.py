@@ -33,7 +33,21 @@ from .rules import duration_margin
 
 @dataclass(frozen=True)
 class Parameter:
-    """A physical parameter varied by the sensitivity run."""
+    """A physical parameter varied by the sensitivity run.
+
+    Attributes
+    ----------
+    key : str
+        Identifier, e.g. ``"rider_mass_kg"``.
+    label : str
+        Name shown in tables.
+    unit : str
+        Unit of the parameter, as shown.
+    step : float
+        Finite-difference step [unit].
+    typical : float
+        A typical change in practice, for ranking the effects [unit].
+    """
 
     key: str
     label: str
@@ -56,7 +70,24 @@ PARAMETERS = (
 
 @dataclass(frozen=True)
 class SensitivityRow:
-    """One rule at its governing seat: margin and its derivatives per parameter."""
+    """One rule at its governing seat: margin and its derivatives per parameter.
+
+    Attributes
+    ----------
+    rule : str
+        Rule name, e.g. ``"duration +Gz"``.
+    seat : str
+        The governing seat (smallest nominal margin), or a seat that governs an event.
+    margin : float
+        Nominal worst margin, in the rule's unit (g0, g0/s, % of the envelope or m).
+    derivative : dict
+        {parameter key: d(margin)/d(parameter) [rule unit per parameter unit], or None where
+        a perturbed case stalled or lacks the rule}.
+    one_sided : tuple of str
+        Parameters differenced one-sided (at a bound).
+    events : tuple of str
+        Ids of the nominal run's events this seat governs for this rule.
+    """
 
     rule: str
     seat: str
@@ -71,17 +102,36 @@ class SensitivityRow:
         return self.rule + (f" [{','.join(self.events)}]" if self.events else "")
 
     def effect(self, p: Parameter) -> float | None:
+        """Change of the margin for a typical change of a parameter.
+
+        Parameters
+        ----------
+        p : Parameter
+            The parameter.
+
+        Returns
+        -------
+        effect : float or None
+            Derivative times ``p.typical``, in the rule's unit; None without a derivative.
+        """
         d = self.derivative.get(p.key)
         return None if d is None else d * p.typical
 
     @property
     def dominant(self) -> str | None:
-        """The parameter whose typical change moves this margin most."""
+        """Key of the parameter whose typical change moves this margin most, or None when no
+        effect reaches 1e-3 of the rule's unit."""
         effects = [(abs(self.effect(p)), p.key) for p in PARAMETERS
                    if self.effect(p) is not None]
         return max(effects)[1] if effects and max(effects)[0] >= 1e-3 else None
 
     def to_dict(self) -> dict:
+        """The row as JSON fields (margin, derivatives, typical effects, dominant parameter).
+
+        Returns
+        -------
+        fields : dict
+        """
         return {"rule": self.rule, "seat": self.seat, "margin": self.margin,
                 "derivative": dict(self.derivative),
                 "typical_effect": {p.key: self.effect(p) for p in PARAMETERS
@@ -92,12 +142,34 @@ class SensitivityRow:
 
 @dataclass(frozen=True)
 class Sensitivity:
+    """The sensitivity of a run: one row per rule and governing seat.
+
+    Attributes
+    ----------
+    rows : tuple of SensitivityRow
+        Each rule at its governing seat in the limit set's rule order, then the other seats
+        that govern an event of the nominal run.
+    parameters : tuple of Parameter
+        The parameters considered.
+    base : dict
+        {parameter key: nominal value, or None where it does not apply}.
+    skipped : dict
+        {parameter key: why it was not varied}.
+    """
+
     rows: tuple[SensitivityRow, ...]
     parameters: tuple[Parameter, ...]
     base: dict  # parameter key -> nominal value
     skipped: dict  # parameter key -> why it was not varied
 
     def to_dict(self) -> dict:
+        """The sensitivity as JSON fields (parameters with steps and nominal values, skipped
+        parameters, rows).
+
+        Returns
+        -------
+        fields : dict
+        """
         return {"parameters": [{"key": p.key, "label": p.label, "unit": p.unit,
                                 "step": p.step, "typical_change": p.typical,
                                 "nominal": self.base.get(p.key)} for p in self.parameters],
@@ -112,8 +184,27 @@ def _star_shaped(steps: np.ndarray) -> bool:
 
 
 def ray_fraction(vertices: np.ndarray, center: np.ndarray, points: np.ndarray) -> np.ndarray:
-    """:func:`checker.limits.outside_fraction` in O(n log m) for a polygon that every ray
-    from ``center`` crosses once (star-shaped about it); the general routine otherwise."""
+    """:func:`checker.limits.outside_fraction`, fast for a polygon star-shaped about a point.
+
+    When the vertices' angles about ``center`` turn monotonically once around (every ray
+    from ``center`` crosses the boundary once), each point's edge is found by binary search
+    on the angle, O(n log m); otherwise the general routine is used.
+
+    Parameters
+    ----------
+    vertices : (m, 2) ndarray
+        Polygon vertices in order [g0].
+    center : (2,) ndarray
+        Point inside the polygon the rays start from [g0].
+    points : (n, 2) ndarray
+        Points [g0].
+
+    Returns
+    -------
+    fraction : (n,) ndarray
+        |p - c| / |boundary - c| - 1 along each point's ray: 0 on the boundary, positive
+        outside, negative inside; inf where undefined (e.g. a point at ``center``) [-].
+    """
     a = vertices - center
     ang = np.arctan2(a[:, 1], a[:, 0])
     steps = np.angle(np.exp(1j * np.diff(np.append(ang, ang[0]))))
@@ -158,12 +249,32 @@ def _polygon_margin(pair: np.ndarray, env) -> float:
 
 def rule_margins(filtered: np.ndarray, dt: float, limits: LimitSet, t: np.ndarray,
                  uplift=None, sustained: dict | None = None) -> dict:
-    """Worst margin of every rule over one seat's filtered signal (rule name -> margin).
+    """Worst margin of every rule over one seat's filtered signal.
 
     Units as the findings': g0 for duration rules, % of the envelope for combined ones
-    (inside positive), g0/s for onset, metres for uplift. ``sustained`` maps a sustained
-    envelope's name to its :class:`checker.sustained.SustainedCombined` where the rule engine
-    has it.
+    (inside positive), g0/s for onset, metres for uplift.
+
+    Parameters
+    ----------
+    filtered : (n, 3) ndarray
+        Filtered specific force (Gx, Gy, Gz) [g0].
+    dt : float
+        Sample interval [s].
+    limits : LimitSet
+        The rules.
+    t : (n,) ndarray
+        Sample times [s] (for the onset rates).
+    uplift : UpliftSummary or None
+        The seat's flights; the uplift margin is given only with a free-travel limit.
+    sustained : dict or None
+        {sustained envelope name: :class:`checker.sustained.SustainedCombined`} where the
+        rule engine has it; computed here otherwise.
+
+    Returns
+    -------
+    margins : dict
+        {rule name: worst margin}; positive while the rule holds, negative when exceeded.
+        Empty for an empty signal.
     """
     idx = {a: i for i, a in enumerate(AXES)}
     out = {}
@@ -193,7 +304,23 @@ def rule_margins(filtered: np.ndarray, dt: float, limits: LimitSet, t: np.ndarra
 
 
 def nominal_values(train, operation, options) -> dict:
-    """The nominal value of every parameter (None where it does not apply)."""
+    """The nominal value of every parameter.
+
+    Parameters
+    ----------
+    train : Train
+        Masses, occupancy and resistances.
+    operation : Operation
+        Start speed and sections.
+    options : RideOptions
+        Head wind.
+
+    Returns
+    -------
+    base : dict
+        {parameter key: nominal value in the parameter's unit}; occupancy is the mean over
+        the cars; ``lift_speed_pct`` is 100 with a lift section and None without.
+    """
     lifts = [s for s in operation.sections if s.kind == "lift"]
     occ = (float(np.mean(train.occupancy_by_car)) if train.occupancy_by_car
            else float(train.occupancy))
@@ -227,8 +354,24 @@ def perturbation_cases(base: dict, parameters=PARAMETERS) -> tuple[list[LoadCase
                                                                    dict]:
     """Load cases for every parameter's step down and up, with the points used.
 
-    Returns (cases, points, skipped): points maps a parameter key to ((name, value) below,
-    (name, value) above); skipped maps a key to the reason it is not varied.
+    Each parameter goes to its nominal value -+ ``step``, clipped to :data:`BOUNDS`; a point
+    that falls on the nominal value is the nominal case (one-sided difference).
+
+    Parameters
+    ----------
+    base : dict
+        Nominal values (:func:`nominal_values`).
+    parameters : tuple of Parameter
+        Parameters to vary.
+
+    Returns
+    -------
+    cases : list of LoadCase
+        ``"sensitivity nominal"`` first, then the perturbed cases.
+    points : dict
+        {parameter key: ((case name, value) below, (case name, value) above)}.
+    skipped : dict
+        {parameter key: why it is not varied}.
     """
     cases, points, skipped = [], {}, {}
     for p in parameters:
@@ -256,9 +399,36 @@ def perturbation_cases(base: dict, parameters=PARAMETERS) -> tuple[list[LoadCase
 
 def sensitivity_from_sweep(sweep, base: dict, points: dict, skipped: dict,
                            parameters=PARAMETERS, train_length_m: float = 0.0) -> Sensitivity:
-    """Derivatives of every rule's governing margin from a sweep of the perturbation cases:
-    one row per rule at its governing seat, and one per other seat that governs an event of
-    the nominal run (:func:`checker.events.group_findings`)."""
+    """Derivatives of every rule's governing margin from a sweep of the perturbation cases.
+
+    One row per rule at its governing seat, and one per other seat that governs an event of
+    the nominal run (:func:`checker.events.group_findings`). The derivative is
+    (m(x_hi) - m(x_lo)) / (x_hi - x_lo): central, or one-sided where a bound clipped a step.
+
+    Parameters
+    ----------
+    sweep : Sweep
+        Outcomes of the cases of :func:`perturbation_cases`, with seat margins.
+    base : dict
+        Nominal values.
+    points : dict
+        Case names and values below and above each parameter.
+    skipped : dict
+        Parameters not varied, with the reason.
+    parameters : tuple of Parameter
+        Parameters considered.
+    train_length_m : float
+        Distance from the first to the last car's reference point, for the events [m].
+
+    Returns
+    -------
+    sensitivity : Sensitivity
+
+    References
+    ----------
+    R. L. Burden and J. D. Faires, Numerical Analysis, Brooks/Cole (central and one-sided
+    difference formulas; from memory).
+    """
     from .events import group_findings
 
     by_case = {o.case: o for o in sweep.outcomes}
@@ -300,8 +470,39 @@ def sensitivity_from_sweep(sweep, base: dict, points: dict, skipped: dict,
 def run_sensitivity(centerline, train, operation, limits: LimitSet, options, *,
                     workers: int | None = None, scheduler: str | None = None,
                     progress=None) -> Sensitivity:
-    """Every rule's governing margin and its derivative per parameter, by central
-    differences over load cases run on the sweep executor."""
+    """Every rule's governing margin and its derivative per parameter.
+
+    Central differences over load cases run on the sweep executor
+    (:func:`checker.sweep.run_cases`).
+
+    Parameters
+    ----------
+    centerline : Centerline
+        The layout.
+    train : Train
+        The nominal train.
+    operation : Operation
+        The nominal operation.
+    limits : LimitSet
+        The rules.
+    options : RideOptions
+        Numerical options (and the nominal head wind).
+    workers : int or None
+        Local worker processes; None for all cores.
+    scheduler : str or None
+        Dask scheduler address (``tcp://host:port``); None for local processes.
+    progress : callable or None
+        Called as ``progress(done, total)`` while cases finish.
+
+    Returns
+    -------
+    sensitivity : Sensitivity
+
+    Raises
+    ------
+    InputError
+        As :func:`checker.ride.run_ride`, for any case.
+    """
     from .sweep import run_cases
 
     base = nominal_values(train, operation, options)
@@ -313,8 +514,19 @@ def run_sensitivity(centerline, train, operation, limits: LimitSet, options, *,
 
 
 def sensitivity_table(sens: Sensitivity) -> str:
-    """Terminal table: margin, the change of the margin for each parameter's typical change,
-    and the parameter that moves it most."""
+    """Terminal table of a sensitivity.
+
+    Parameters
+    ----------
+    sens : Sensitivity
+
+    Returns
+    -------
+    text : str
+        Per row: rule, seat, margin, the change of the margin for each parameter's typical
+        change ("stall" where there is no derivative) and the parameter that moves it most;
+        then the parameters not varied.
+    """
     params = [p for p in sens.parameters if p.key not in sens.skipped]
     head = f"{'rule':<26} {'seat':<12} {'margin':>8} " + " ".join(
         f"{p.label[:10]:>10}" for p in params) + "  moved most by"

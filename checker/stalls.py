@@ -21,8 +21,28 @@ STALL_RULE = "stall"
 
 def stall_findings(stall: TrainStalled, histories, geometry: TrackGeometry, case: str,
                    car_spacing_m: float) -> list[Finding]:
-    """One ``"stall"`` finding per seat history (objects with ``seat``, ``car`` (1-based),
-    ``position`` (n, 3) [m]) for the stall of one load case."""
+    """One ``"stall"`` finding per seat history for the stall of one load case.
+
+    Parameters
+    ----------
+    stall : TrainStalled
+        Where (lead car station [m]), when [s] and why the train came to rest.
+    histories : sequence of SeatHistory
+        Objects with ``seat`` (name), ``car`` (1-based) and ``position`` ((n, 3) [m]; the
+        last row is taken as the rider's position at rest).
+    geometry : TrackGeometry
+        Track geometry, for each car's attitude at its station.
+    case : str
+        Name of the load case.
+    car_spacing_m : float
+        Distance between successive car reference points [m].
+
+    Returns
+    -------
+    findings : list of Finding
+        One per history, kind ``STALL``, all at the lead car's station, each with its own
+        car's attitude; ``peak_g`` holds the speed at rest (0) [m/s], margin is nan.
+    """
     out = []
     for h in histories:
         car_station = stall.station_m - (h.car - 1) * car_spacing_m

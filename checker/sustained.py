@@ -34,7 +34,18 @@ from .limits import DurationLimit
 
 @dataclass(frozen=True)
 class SustainedCombined:
-    """Per sample: the combined ratio and the admissible level of each axis [g0, signed]."""
+    """Per sample: the combined ratio and the admissible level of each axis.
+
+    Attributes
+    ----------
+    ratio : (n,) ndarray
+        (a/A)^2 + (b/B)^2; the rule holds where it is <= 1 [-].
+    admissible_a, admissible_b : (n,) ndarray
+        Admissible level A, B of each axis for the duration held, signed like the sample
+        [g0].
+    held_a_s, held_b_s : (n,) ndarray
+        Duration each axis is held at or beyond its value [s].
+    """
 
     ratio: np.ndarray  # (a/A)^2 + (b/B)^2
     admissible_a: np.ndarray
@@ -44,8 +55,23 @@ class SustainedCombined:
 
 
 def held_durations(x: np.ndarray, dt: float) -> np.ndarray:
-    """For each sample, how long [s] the signal stays at or beyond its value (above it for a
-    value >= 0, below it for a negative value) in the longest window around the sample."""
+    """For each sample, how long the signal stays at or beyond its value around it.
+
+    "Beyond" is above for a value >= 0 and below for a negative value; the window is the
+    longest one around the sample (:func:`checker.rules.sustained_windows`).
+
+    Parameters
+    ----------
+    x : (n,) ndarray
+        Filtered signal [g0].
+    dt : float
+        Sample interval [s].
+
+    Returns
+    -------
+    held : (n,) ndarray
+        Window width in samples times ``dt`` [s]; at least ``dt``.
+    """
     from .rules import sustained_windows
 
     x = np.asarray(x, dtype=float)
@@ -61,7 +87,22 @@ def held_durations(x: np.ndarray, dt: float) -> np.ndarray:
 
 def admissible(x: np.ndarray, held_s: np.ndarray, positive: DurationLimit,
                negative: DurationLimit) -> np.ndarray:
-    """Admissible level [g0, signed] of each sample for the duration it is held."""
+    """Admissible level of each sample for the duration it is held.
+
+    Parameters
+    ----------
+    x : (n,) ndarray
+        Filtered signal [g0]; its sign picks the limit.
+    held_s : (n,) ndarray
+        Duration each sample is held (:func:`held_durations`) [s].
+    positive, negative : DurationLimit
+        The axis's limits for values >= 0 and for negative values.
+
+    Returns
+    -------
+    level : (n,) ndarray
+        Allowed level, signed as the limit gives it [g0].
+    """
     return np.where(x >= 0, positive.allowed(held_s), negative.allowed(held_s))
 
 
@@ -72,13 +113,17 @@ def sustained_combined(a: np.ndarray, b: np.ndarray, dt: float,
 
     Parameters
     ----------
-    a, b : (n,) filtered values of the two axes [g0]
-    dt : sample interval [s]
-    limits_a, limits_b : (positive, negative) duration limits of each axis
+    a, b : (n,) ndarray
+        Filtered values of the two axes [g0].
+    dt : float
+        Sample interval [s].
+    limits_a, limits_b : tuple of (DurationLimit, DurationLimit)
+        (positive, negative) duration limits of each axis.
 
     Returns
     -------
-    :class:`SustainedCombined`; the rule holds where ``ratio <= 1``.
+    result : SustainedCombined
+        The rule holds where ``ratio <= 1``.
     """
     a = np.asarray(a, dtype=float)
     b = np.asarray(b, dtype=float)
@@ -91,7 +136,20 @@ def sustained_combined(a: np.ndarray, b: np.ndarray, dt: float,
 
 def pair_limits(duration: tuple[DurationLimit, ...], axis: str
                 ) -> tuple[DurationLimit, DurationLimit] | None:
-    """The (positive, negative) duration limits of an axis, or None if one is missing."""
+    """The (positive, negative) duration limits of an axis.
+
+    Parameters
+    ----------
+    duration : tuple of DurationLimit
+        The limit set's duration rules.
+    axis : str
+        ``"gx"``, ``"gy"`` or ``"gz"``.
+
+    Returns
+    -------
+    limits : tuple of (DurationLimit, DurationLimit) or None
+        The first positive and first negative rule of the axis; None if either is missing.
+    """
     pos = [d for d in duration if d.axis == axis and d.sign > 0]
     neg = [d for d in duration if d.axis == axis and d.sign < 0]
     return (pos[0], neg[0]) if pos and neg else None
@@ -99,9 +157,30 @@ def pair_limits(duration: tuple[DurationLimit, ...], axis: str
 
 def sustained_findings(filtered: np.ndarray, env, duration: tuple[DurationLimit, ...], ctx,
                        dt: float) -> tuple[list, SustainedCombined]:
-    """Findings of one sustained combined envelope for one seat (one per run of samples with
-    ratio > 1, at its worst sample) and the per-sample result. ``ctx`` is the rule engine's
-    location context."""
+    """Findings of one sustained combined envelope for one seat, and the per-sample result.
+
+    Parameters
+    ----------
+    filtered : (n, 3) ndarray
+        Filtered specific force (Gx, Gy, Gz) [g0].
+    env : CombinedEnvelope
+        The envelope (``source == "sustained"``); its ``axes`` name the pair.
+    duration : tuple of DurationLimit
+        The limit set's duration rules; both directions of both axes must be present.
+    ctx : object
+        The rule engine's location context (``checker.rules._Context``: seat, case, times,
+        stations).
+    dt : float
+        Sample interval [s].
+
+    Returns
+    -------
+    findings : list of Finding
+        One per run of samples with ratio > 1, at its worst sample; peak and limit are
+        distances from zero [g0], margin 100 (1 - sqrt(ratio)) [%].
+    result : SustainedCombined
+        The per-sample ratio, admissible levels and held durations.
+    """
     from .rules import AXIS_INDEX, Finding, FindingKind
 
     ia, ib = AXIS_INDEX[env.axes[0]], AXIS_INDEX[env.axes[1]]

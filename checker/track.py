@@ -30,8 +30,24 @@ ROUNDING_CAP_M = 0.0101
 class Centerline:
     """Validated centerline samples in SI units.
 
-    ``points`` [m] has shape (n, 3). ``roll_deg`` [deg] or ``up`` (unit vectors, shape (n, 3))
-    is set when the file gives an orientation; never both.
+    ``roll_deg`` or ``up`` is set when the file gives an orientation; never both.
+
+    Attributes
+    ----------
+    points : (n, 3) ndarray
+        Sample positions in travel order, world axes with z up [m].
+    roll_deg : (n,) ndarray or None
+        Bank angle at each sample, ISO 8855 sign (positive = right side down) [deg].
+    up : (n, 3) ndarray or None
+        Explicit up vector at each sample as given in the file (not normalized) [-].
+    source : str
+        File the samples came from, for messages.
+    lines : (n,) ndarray or None
+        1-based file line of each sample, for messages.
+    resolution_m : float or None
+        Decimal grid the file's coordinates sit on (an export's rounding), if any [m].
+    resolution_text : str
+        That grid in the file's own unit, e.g. ``"0.001 m"``; empty when there is none.
     """
 
     points: np.ndarray
@@ -44,11 +60,24 @@ class Centerline:
 
     @property
     def count(self) -> int:
+        """Number of samples n [-]."""
         return len(self.points)
 
 
 def chord_turn_deg(points: np.ndarray) -> np.ndarray:
-    """Angle [deg] between successive chords at each interior sample (length n - 2)."""
+    """Angle between successive chords at each interior sample.
+
+    Parameters
+    ----------
+    points : (n, 3) ndarray
+        Centerline samples in travel order [m]; successive samples must differ.
+
+    Returns
+    -------
+    turn : (n - 2,) ndarray
+        Angle between chord i-1 -> i and chord i -> i+1 at interior sample i, in [0, 180]
+        [deg].
+    """
     chords = np.diff(points, axis=0)
     a, b = chords[:-1], chords[1:]
     cos = np.einsum("ij,ij->i", a, b) / (np.linalg.norm(a, axis=1) * np.linalg.norm(b, axis=1))
@@ -62,6 +91,17 @@ def coordinate_resolution(values: np.ndarray) -> float | None:
     smallest such d is found by testing d = 0, 1, ..., MAX_DECIMALS with a tolerance for
     binary floating point. None means the values carry more than MAX_DECIMALS decimals (no
     rounding worth fitting around).
+
+    Parameters
+    ----------
+    values : array_like
+        Coordinates in the file's own unit, any shape; non-finite values are ignored.
+
+    Returns
+    -------
+    grid : float or None
+        The grid 10^-d in the values' unit, or None when no d <= MAX_DECIMALS fits (or there
+        are no finite values).
     """
     v = np.asarray(values, dtype=float).ravel()
     v = v[np.isfinite(v)]
@@ -81,6 +121,18 @@ def smoothing_for(line: Centerline, requested_m: float | None) -> float:
     Rounding to a grid q leaves each coordinate off by up to q/2 (uniform, RMS q/sqrt(12)),
     so a point is off by sqrt(3) q / sqrt(12) = q/2 RMS when all three coordinates vary: a
     fit within q/2 keeps what the file states and drops what the rounding added.
+
+    Parameters
+    ----------
+    line : Centerline
+        The loaded centerline; its ``resolution_m`` is used when nothing is requested.
+    requested_m : float or None
+        Tolerance asked for by the user [m]; None to derive it from the file's grid.
+
+    Returns
+    -------
+    tolerance_m : float
+        RMS distance the fitted curve may keep from the samples [m]; 0.0 = interpolate.
     """
     if requested_m is not None:
         return float(requested_m)
@@ -88,7 +140,25 @@ def smoothing_for(line: Centerline, requested_m: float | None) -> float:
 
 
 def validate_centerline(line: Centerline) -> Centerline:
-    """Check the geometric sanity of a centerline; raise InputError naming the sample."""
+    """Check the geometric sanity of a centerline; raise InputError naming the sample.
+
+    Parameters
+    ----------
+    line : Centerline
+        Centerline to check; ``line.lines`` (when set) gives the file rows for messages.
+
+    Returns
+    -------
+    line : Centerline
+        The same object, unchanged, when every check passes.
+
+    Raises
+    ------
+    InputError
+        Fewer than 4 samples; a coordinate beyond MAX_COORDINATE_M; a repeated point (chord
+        below MIN_CHORD_M); a turn of more than KINK_LIMIT_DEG between successive chords; a
+        zero up vector; or an up vector within UP_ALONG_TANGENT_DEG of the tangent.
+    """
     path, pts = line.source, line.points
     rows = line.lines if line.lines is not None else np.arange(2, len(pts) + 2)
     if len(pts) < 4:
@@ -133,7 +203,27 @@ def validate_centerline(line: Centerline) -> Centerline:
 
 
 def load_centerline(path: str | Path, units: str = "m") -> Centerline:
-    """Load and validate a centerline CSV. ``units`` is ``"m"`` or ``"ft"`` for lengths."""
+    """Load and validate a centerline CSV.
+
+    Parameters
+    ----------
+    path : str or Path
+        CSV with columns ``x, y, z`` and optionally ``roll_deg`` or ``up_x, up_y, up_z``.
+    units : {"m", "ft"}
+        Length unit of the coordinates in the file; feet are converted with FOOT_M.
+
+    Returns
+    -------
+    line : Centerline
+        Validated samples in metres, with the coordinates' rounding grid when one is found.
+
+    Raises
+    ------
+    InputError
+        Unknown ``units``; an unreadable or malformed CSV (missing column, bad cell); both a
+        roll column and up-vector columns; an incomplete up vector; or any failure of
+        :func:`validate_centerline`.
+    """
     path = Path(path)
     if units not in ("m", "ft"):
         raise InputError(path, f"unknown length unit '{units}'", "use --units m or --units ft")

@@ -35,7 +35,23 @@ from .tomlfields import Fields, load_toml
 
 @dataclass(frozen=True)
 class Seat:
-    """A rider position: offsets [m] from the car reference point, in the car's frame."""
+    """A rider position: offsets from the car reference point, in the car's frame.
+
+    The car's frame is the rider frame of the track at the car reference point (ISO 8855:
+    x forward, y left, z up from seat to head).
+
+    Attributes
+    ----------
+    name : str
+        Seat name, unique within a car (e.g. ``"1L"``).
+    forward_m : float
+        Offset along the track tangent, positive forward [m].
+    left_m : float
+        Offset to the rider's left [m].
+    up_m : float
+        Offset along the car's up axis; for the rider's heart, its height above the
+        reference point [m].
+    """
 
     name: str
     forward_m: float = 0.0
@@ -44,6 +60,7 @@ class Seat:
 
     @property
     def offset(self) -> np.ndarray:
+        """The offsets (forward, left, up) as a (3,) array [m]."""
         return np.array([self.forward_m, self.left_m, self.up_m])
 
 
@@ -52,6 +69,32 @@ class Train:
     """A chain of identical cars at fixed spacing; the lead car is car 1.
 
     ``occupancy_by_car`` (fraction 0..1 per car), when given, overrides ``occupancy``.
+
+    Attributes
+    ----------
+    car_count : int
+        Number of cars [-].
+    spacing_m : float
+        Distance between successive car reference points along the track [m].
+    empty_mass_kg : float
+        Mass of one empty car [kg].
+    seats : tuple of Seat
+        The seats of one car (every car alike).
+    rider_mass_kg : float
+        Mass of one rider [kg].
+    occupancy : float
+        Fraction of seats filled, 0..1 [-].
+    rolling_coefficient : float
+        Rolling resistance coefficient: resistance = coefficient * normal force [-].
+    drag_area_m2 : float
+        Drag coefficient times frontal area (CdA) of the whole train [m^2].
+    air_density_kg_m3 : float
+        Air density for the drag [kg/m^3].
+    name : str
+        Name of the train, for the record.
+    occupancy_by_car : tuple of float or None
+        Fraction of seats filled in each car, lead car first, 0..1 [-]; None to use
+        ``occupancy`` for every car.
     """
 
     car_count: int = 1
@@ -72,7 +115,13 @@ class Train:
         return (self.car_count - 1) * self.spacing_m
 
     def car_masses(self) -> np.ndarray:
-        """Mass of each car with its riders [kg]."""
+        """Mass of each car with its riders.
+
+        Returns
+        -------
+        masses : (car_count,) ndarray
+            Empty mass plus filled fraction * seats * rider mass, lead car first [kg].
+        """
         fill = (np.asarray(self.occupancy_by_car, dtype=float) if self.occupancy_by_car
                 else np.full(self.car_count, self.occupancy))
         return self.empty_mass_kg + fill * len(self.seats) * self.rider_mass_kg
@@ -80,12 +129,35 @@ class Train:
 
 
 def ideal_rider() -> Train:
-    """A single rider on the centerline with no rolling resistance and no drag."""
+    """A single rider on the centerline with no rolling resistance and no drag.
+
+    Returns
+    -------
+    train : Train
+        One car of one seat at zero offset, default masses (500 kg car, 75 kg rider).
+    """
     return Train(name="ideal point rider on the centerline")
 
 
 def load_train(path: str | Path) -> Train:
-    """Load and validate a train TOML file; unknown keys are errors."""
+    """Load and validate a train TOML file (format in the module docstring).
+
+    Parameters
+    ----------
+    path : str or Path
+        The train file.
+
+    Returns
+    -------
+    train : Train
+        The validated train, SI units.
+
+    Raises
+    ------
+    InputError
+        For a missing file, bad TOML, an unknown key, a value out of range, zero spacing for a
+        train of several cars, a seat name used twice, or no seats (naming the key).
+    """
     path = Path(path)
     doc = Fields(path, load_toml(path))
     name = doc.text("name", "train")

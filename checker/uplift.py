@@ -29,7 +29,25 @@ from .constants import G0
 
 @dataclass(frozen=True)
 class UpliftEvent:
-    """One flight of an unrestrained rider off the seat."""
+    """One flight of an unrestrained rider off the seat.
+
+    Attributes
+    ----------
+    t_start : float
+        When filtered Gz crosses below zero (interpolated) [s].
+    t_end : float
+        When the rider is back on the seat, or the end of the record [s].
+    peak_m : float
+        Highest displacement off the seat, along the seat's z axis [m].
+    t_peak : float
+        When it is reached [s].
+    min_gz : float
+        Lowest filtered Gz during the flight [g0].
+    landed : bool
+        False when the record ends with the rider still off the seat.
+    s_start_m : float or None
+        Station of the seat's car at the first sample of the flight [m].
+    """
 
     t_start: float  # [s] Gz crosses below zero
     t_end: float  # [s] the rider is back on the seat (or the record ends)
@@ -41,9 +59,16 @@ class UpliftEvent:
 
     @property
     def duration_s(self) -> float:
+        """Length of the flight [s]."""
         return self.t_end - self.t_start
 
     def to_dict(self) -> dict:
+        """The flight as JSON fields: times [s], peak [m], lowest Gz [g0], station [m].
+
+        Returns
+        -------
+        fields : dict
+        """
         return {"t_start": self.t_start, "t_end": self.t_end, "duration_s": self.duration_s,
                 "peak_m": self.peak_m, "t_peak": self.t_peak, "min_gz": self.min_gz,
                 "landed": self.landed, "s_start_m": self.s_start_m}
@@ -125,16 +150,25 @@ def uplift_events(gz: np.ndarray, t: np.ndarray, station: np.ndarray | None = No
                   g0: float = G0) -> list[UpliftEvent]:
     """Every flight of an unrestrained rider for one seat's filtered Gz.
 
+    The relative displacement obeys d'' = -Gz g0 from rest at each downward zero crossing,
+    integrated exactly for Gz linear between samples; a flight ends where d returns to zero
+    (found by bisection on the cubic), and a new one starts at once if Gz is still negative.
+
     Parameters
     ----------
-    gz : (n,) filtered vertical specific force [g0]
-    t : (n,) sample times [s], increasing
-    station : (n,) station of the seat's car [m], or None
-    g0 : standard gravity [m/s^2]
+    gz : (n,) ndarray
+        Filtered vertical specific force [g0].
+    t : (n,) ndarray
+        Sample times, increasing [s].
+    station : (n,) ndarray or None
+        Station of the seat's car [m].
+    g0 : float
+        Standard gravity [m/s^2].
 
     Returns
     -------
-    list of :class:`UpliftEvent`, in time order.
+    events : list of UpliftEvent
+        In time order; every flight, however small.
     """
     gz = np.asarray(gz, dtype=float)
     t = np.asarray(t, dtype=float)
@@ -205,22 +239,38 @@ def uplift_events(gz: np.ndarray, t: np.ndarray, station: np.ndarray | None = No
 
 @dataclass(frozen=True)
 class UpliftSummary:
-    """One seat's flights and the worst of them against the free-travel limit."""
+    """One seat's flights and the worst of them against the free-travel limit.
+
+    Attributes
+    ----------
+    events : tuple of UpliftEvent
+        Flights higher than the noise threshold, in time order.
+    free_travel_m : float or None
+        Rise off the seat the restraint allows [m]; None when the limits give none.
+    """
 
     events: tuple[UpliftEvent, ...]
     free_travel_m: float | None = None
 
     @property
     def worst(self) -> UpliftEvent | None:
+        """The highest flight, or None without flights."""
         return max(self.events, key=lambda e: e.peak_m) if self.events else None
 
     @property
     def exceeding(self) -> tuple[UpliftEvent, ...]:
+        """Flights higher than the free travel (none without a free-travel limit)."""
         if self.free_travel_m is None:
             return ()
         return tuple(e for e in self.events if e.peak_m > self.free_travel_m)
 
     def to_dict(self) -> dict:
+        """The flights as JSON fields, with the highest peak [m] and the free travel [m].
+
+        Returns
+        -------
+        fields : dict
+        """
         worst = self.worst
         return {"events": [e.to_dict() for e in self.events],
                 "peak_m": worst.peak_m if worst else 0.0,
@@ -230,15 +280,45 @@ class UpliftSummary:
 
 def seat_uplift(gz: np.ndarray, t: np.ndarray, station: np.ndarray | None,
                 free_travel_m: float | None, min_peak_m: float = 1e-4) -> UpliftSummary:
-    """A seat's flights higher than ``min_peak_m`` [m] (0.1 mm: numerical dust is not a
-    flight), with the limit they are compared with."""
+    """A seat's flights, with the limit they are compared with.
+
+    Parameters
+    ----------
+    gz : (n,) ndarray
+        Filtered vertical specific force [g0].
+    t : (n,) ndarray
+        Sample times, increasing [s].
+    station : (n,) ndarray or None
+        Station of the seat's car [m].
+    free_travel_m : float or None
+        Rise off the seat the restraint allows [m].
+    min_peak_m : float
+        Flights lower than this are dropped (0.1 mm: numerical dust is not a flight) [m].
+
+    Returns
+    -------
+    summary : UpliftSummary
+    """
     events = tuple(e for e in uplift_events(gz, t, station) if e.peak_m >= min_peak_m)
     return UpliftSummary(events, free_travel_m)
 
 
 def uplift_findings(summary: UpliftSummary, ctx) -> list:
-    """One finding per flight higher than the free travel (peak and limit in metres).
-    ``ctx`` is the rule engine's location context."""
+    """One finding per flight higher than the free travel.
+
+    Parameters
+    ----------
+    summary : UpliftSummary
+        A seat's flights and free travel.
+    ctx : object
+        The rule engine's location context (``checker.rules._Context``: seat, case, times,
+        stations).
+
+    Returns
+    -------
+    findings : list of Finding
+        Kind ``UPLIFT``; peak, limit and margin in metres [m].
+    """
     from .rules import Finding, FindingKind
 
     out = []

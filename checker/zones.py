@@ -23,7 +23,30 @@ from .limits import Zone, contains
 
 @dataclass(frozen=True)
 class ZoneVisit:
-    """The first qualifying visit of one zone by one seat."""
+    """The first qualifying visit of one zone by one seat.
+
+    A visit of a zone is a stay in that zone or a higher one (or outside every zone) of at
+    least the zone's dwell time.
+
+    Attributes
+    ----------
+    zone : str
+        Zone name.
+    order : int
+        Its rank, 1 = least restraint.
+    t_start : float
+        Start of the first qualifying visit [s].
+    t_end : float
+        Its end (last sample inside plus one step) [s].
+    visits : int
+        Qualifying visits in the whole ride [-].
+    longest_s : float
+        The longest qualifying visit [s].
+    s_start_m : float or None
+        Station of the seat's car at the start [m].
+    position_m : tuple of float or None
+        Rider's world position (x, y, z) at the start [m].
+    """
 
     zone: str
     order: int
@@ -36,9 +59,16 @@ class ZoneVisit:
 
     @property
     def duration_s(self) -> float:
+        """Length of the first qualifying visit [s]."""
         return self.t_end - self.t_start
 
     def to_dict(self) -> dict:
+        """The visit as JSON fields: times and durations [s], station [m], position [m].
+
+        Returns
+        -------
+        fields : dict
+        """
         return {"zone": self.zone, "order": self.order, "t_start": self.t_start,
                 "t_end": self.t_end, "duration_s": self.duration_s, "visits": self.visits,
                 "longest_s": self.longest_s, "s_start_m": self.s_start_m,
@@ -47,7 +77,19 @@ class ZoneVisit:
 
 @dataclass(frozen=True)
 class ZoneSummary:
-    """One seat on the zone diagram."""
+    """One seat on the zone diagram.
+
+    Attributes
+    ----------
+    reached : tuple of ZoneVisit
+        Every zone reached, by increasing order.
+    outside_s : float
+        The longest stretch outside every zone; 0 when the diagram covers every sample [s].
+    outside_t_start : float or None
+        Its start [s]; None when there is none.
+    outside_s_start_m : float or None
+        Station of the seat's car at its start [m]; None when there is none or no station.
+    """
 
     reached: tuple[ZoneVisit, ...]  # every zone reached, by increasing order
     outside_s: float  # the longest stretch outside every zone [s]
@@ -56,9 +98,16 @@ class ZoneSummary:
 
     @property
     def highest(self) -> ZoneVisit | None:
+        """The highest zone reached, or None when no zone is reached."""
         return self.reached[-1] if self.reached else None
 
     def to_dict(self) -> dict:
+        """The summary as JSON fields (highest zone, every zone reached, time outside [s]).
+
+        Returns
+        -------
+        fields : dict
+        """
         top = self.highest
         return {"highest": top.to_dict() if top else None,
                 "reached": [v.to_dict() for v in self.reached],
@@ -75,10 +124,29 @@ def _runs(mask: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
 def seat_zones(gx: np.ndarray, gz: np.ndarray, t: np.ndarray, zones: tuple[Zone, ...],
                station: np.ndarray | None = None,
                position: np.ndarray | None = None) -> ZoneSummary:
-    """Zones reached by one seat's filtered (Gx, Gz) [g0] at times ``t`` [s].
+    """Zones reached by one seat's filtered (Gx, Gz).
 
     A run of n samples inside a zone lasts n * dt (each sample stands for one interval, as
-    the rule engine counts durations); it counts when that is at least the zone's dwell time.
+    the rule engine counts durations, dt the median step); it counts when that is at least
+    the zone's dwell time.
+
+    Parameters
+    ----------
+    gx, gz : (n,) ndarray
+        Filtered specific force [g0].
+    t : (n,) ndarray
+        Sample times, increasing [s].
+    zones : tuple of Zone
+        The diagram (any order; sorted by ``order`` here).
+    station : (n,) ndarray or None
+        Station of the seat's car [m].
+    position : (n, 3) ndarray or None
+        Rider's world position [m].
+
+    Returns
+    -------
+    summary : ZoneSummary
+        Zones reached and the longest stretch outside every zone.
     """
     zones = tuple(sorted(zones, key=lambda z: z.order))
     t = np.asarray(t, dtype=float)
@@ -112,7 +180,18 @@ def seat_zones(gx: np.ndarray, gz: np.ndarray, t: np.ndarray, zones: tuple[Zone,
 
 
 def overall_highest(summaries: dict) -> tuple[str, ZoneVisit] | None:
-    """The highest zone any seat reaches: (seat label, its visit), earliest on ties."""
+    """The highest zone any seat reaches, earliest on ties.
+
+    Parameters
+    ----------
+    summaries : dict
+        {seat label: ZoneSummary or None}.
+
+    Returns
+    -------
+    best : tuple of (str, ZoneVisit) or None
+        (seat label, its visit of the highest zone); None when no seat reaches any zone.
+    """
     best = None
     for label, summary in summaries.items():
         top = summary.highest if summary is not None else None
