@@ -15,6 +15,11 @@ Also printed: the cost of the exposure curves a report draws (one seat, up to 16
 every duration rule) and, as a stress case, slow waves that stay above some rule's floor about
 half of the time (the windows then cover most samples: O(N log W) for the longest run W).
 
+"evaluate" is the rule engine: every finding of every rule (``evaluate(..., aids=False)``).
+The design aids' per-seat summaries that the documents add (each rule's worst margin, the
+rider's flights, the restraint zones) are timed beside it, as "with aids"
+(``evaluate(...)``, the default); their findings are the same.
+
 Run: python bench/bench_rules.py [--rounds 5] [--max 1e7]
 """
 
@@ -73,18 +78,23 @@ def main() -> None:
     evaluate([signals[sizes[0]]], limits)  # warm-up (imports, caches)
     times = {n: [] for n in sizes}
     filt = {n: [] for n in sizes}
+    aided = {n: [] for n in sizes}
     findings = {}
     for _ in range(args.rounds):
         for n in sizes:  # interleaved: every length in every round
             sig = signals[n]
             t0 = time.perf_counter()
-            ev = evaluate([sig], limits)
+            ev = evaluate([sig], limits, aids=False)
             t1 = time.perf_counter()
             lowpass(sig.g, RATE, limits.filter)
             t2 = time.perf_counter()
+            with_aids = evaluate([sig], limits)
+            t3 = time.perf_counter()
             times[n].append(t1 - t0)
             filt[n].append(t2 - t1)
+            aided[n].append(t3 - t2)
             findings[n] = len(ev.findings)
+            assert len(with_aids.findings) == findings[n]
     print(f"rounds: {args.rounds}, interleaved; machine shared (timings are noisy)")
     rate = {}
     for n in sizes:
@@ -93,20 +103,23 @@ def main() -> None:
         print(f"n = {n:>9,}: evaluate {spread(times[n])}; {rate[n]:.1f} M samples/s per axis "
               f"({3 * rate[n]:.1f} M values/s); sosfilt pass {statistics.median(filt[n]):.3f} s "
               f"(evaluate / filter {med / statistics.median(filt[n]):.1f}x); "
-              f"{findings[n]} findings")
+              f"{findings[n]} findings; with aids {spread(aided[n])}, "
+              f"{n / statistics.median(aided[n]) / 1e6:.1f} M samples/s")
     for a, b in zip(sizes, sizes[1:]):
         grow = statistics.median(times[b]) / statistics.median(times[a])
         print(f"growth {a:,} -> {b:,}: time x {grow:.2f} "
               f"for x {b / a:.0f} samples (per-sample cost x {rate[a] / rate[b]:.2f}; "
               "linear = 1.00, target within 1.15)")
     for n in sizes[1:]:
-        tracemalloc.start()
-        evaluate([signals[n]], limits)
-        peak = tracemalloc.get_traced_memory()[1]
-        tracemalloc.stop()
         size = signals[n].g.nbytes
-        print(f"peak traced memory at n = {n:,}: {peak / 2**20:.0f} MiB = "
-              f"{peak / size:.2f} x the input signal ({size / 2**20:.0f} MiB; target <= 10 x)")
+        for label, aids in (("", False), (" with aids", True)):
+            tracemalloc.start()
+            evaluate([signals[n]], limits, aids=aids)
+            peak = tracemalloc.get_traced_memory()[1]
+            tracemalloc.stop()
+            print(f"peak traced memory at n = {n:,}{label}: {peak / 2**20:.0f} MiB = "
+                  f"{peak / size:.2f} x the input signal ({size / 2**20:.0f} MiB; "
+                  "target <= 10 x)")
 
     one = repeated(base, len(base))
     seat = evaluate([one], limits).seats[0]

@@ -307,6 +307,12 @@ def contains(vertices: np.ndarray, points: np.ndarray) -> np.ndarray:
     near_box = (px >= low[0]) & (px <= high[0]) & (py >= low[1]) & (py <= high[1])
     out = np.flatnonzero(~inside & near_box)
     if out.size:  # points reported outside but on the boundary count as inside
+        # only those inside the outline grown by 100 x the tolerance (either orientation)
+        # can be that close: the exact distance is then measured for them alone
+        band = np.zeros(out.size, dtype=bool)
+        for grow in (100 * tol, -100 * tol):
+            band |= path.contains_points(points[out], radius=grow)
+        out = out[band]
         for a in range(0, out.size, 4096):  # in chunks: the temporaries are (chunk, vertices)
             part = out[a:a + 4096]
             inside[part] = _boundary_distance(vertices, points[part]) <= tol
@@ -580,3 +586,62 @@ def _zones(doc: Fields, base: Path, files: list) -> tuple[Zone, ...]:
                           "give each zone its own rank, 1 = least restraint")
         zones.append(Zone(name, order, vertices, dwell))
     return tuple(sorted(zones, key=lambda z: z.order))
+
+
+def star_shaped(steps: np.ndarray) -> bool:
+    """Whether a polygon winds once around a point without turning back.
+
+    Parameters
+    ----------
+    steps : (m,) ndarray
+        The angle [rad] each edge turns through about the point, in (-pi, pi].
+
+    Returns
+    -------
+    bool
+        True when every ray from the point crosses the polygon once (star-shaped about it).
+    """
+    return bool((np.all(steps > 0) or np.all(steps < 0))
+                and abs(abs(steps.sum()) - 2 * np.pi) <= 1e-6)
+
+
+def ray_fraction(vertices: np.ndarray, center: np.ndarray, points: np.ndarray) -> np.ndarray:
+    """:func:`checker.limits.outside_fraction`, fast for a polygon star-shaped about a point.
+
+    When the vertices' angles about ``center`` turn monotonically once around (every ray
+    from ``center`` crosses the boundary once), each point's edge is found by binary search
+    on the angle, O(n log m); otherwise the general routine is used.
+
+    Parameters
+    ----------
+    vertices : (m, 2) ndarray
+        Polygon vertices in order [g0].
+    center : (2,) ndarray
+        Point inside the polygon the rays start from [g0].
+    points : (n, 2) ndarray
+        Points [g0].
+
+    Returns
+    -------
+    fraction : (n,) ndarray
+        |p - c| / |boundary - c| - 1 along each point's ray: 0 on the boundary, positive
+        outside, negative inside; inf where undefined (e.g. a point at ``center``) [-].
+    """
+    a = vertices - center
+    ang = np.arctan2(a[:, 1], a[:, 0])
+    steps = np.angle(np.exp(1j * np.diff(np.append(ang, ang[0]))))
+    if not star_shaped(steps):
+        return outside_fraction(vertices, center, points)
+    if steps[0] < 0:  # walk the polygon counter-clockwise
+        a = a[::-1]
+        ang = ang[::-1]
+        steps = np.angle(np.exp(1j * np.diff(np.append(ang, ang[0]))))
+    unwrapped = ang[0] + np.concatenate([[0.0], np.cumsum(steps[:-1])])
+    p = np.asarray(points, dtype=float) - center
+    theta = np.mod(np.arctan2(p[:, 1], p[:, 0]) - ang[0], 2 * np.pi) + ang[0]
+    i = np.clip(np.searchsorted(unwrapped, theta, side="right") - 1, 0, len(a) - 1)
+    start, e = a[i], np.roll(a, -1, axis=0)[i] - a[i]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        t = (start[:, 0] * e[:, 1] - start[:, 1] * e[:, 0]) / (p[:, 0] * e[:, 1]
+                                                             - p[:, 1] * e[:, 0])
+    return np.where(np.isfinite(t) & (t > 0), 1.0 / t - 1.0, np.inf)

@@ -38,7 +38,7 @@ import numpy as np
 from .conditioning import group_delay_s, lowpass, onset_rate
 from .errors import InputError
 from .limits import AXES, REST, CombinedEnvelope, DurationLimit, LimitSet, contains
-from .limits import outside_fraction as _outside_fraction
+from .limits import ray_fraction as _outside_fraction
 
 AXIS_INDEX = {axis: i for i, axis in enumerate(AXES)}
 EXPOSURE_POINTS = 160  # durations drawn per exposure curve (log-spaced)

@@ -26,7 +26,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from .conditioning import onset_rate
-from .limits import AXES, REST, LimitSet, outside_fraction
+from .limits import AXES, REST, LimitSet, ray_fraction, star_shaped
 from .loadcases import LoadCase
 from .rules import duration_margin
 
@@ -176,55 +176,6 @@ class Sensitivity:
                 "skipped": dict(self.skipped), "rows": [r.to_dict() for r in self.rows]}
 
 
-def _star_shaped(steps: np.ndarray) -> bool:
-    """Whether the polygon whose vertices turn by ``steps`` [rad] about a point winds once
-    around it without turning back (every ray from the point crosses it once)."""
-    return bool((np.all(steps > 0) or np.all(steps < 0))
-                and abs(abs(steps.sum()) - 2 * np.pi) <= 1e-6)
-
-
-def ray_fraction(vertices: np.ndarray, center: np.ndarray, points: np.ndarray) -> np.ndarray:
-    """:func:`checker.limits.outside_fraction`, fast for a polygon star-shaped about a point.
-
-    When the vertices' angles about ``center`` turn monotonically once around (every ray
-    from ``center`` crosses the boundary once), each point's edge is found by binary search
-    on the angle, O(n log m); otherwise the general routine is used.
-
-    Parameters
-    ----------
-    vertices : (m, 2) ndarray
-        Polygon vertices in order [g0].
-    center : (2,) ndarray
-        Point inside the polygon the rays start from [g0].
-    points : (n, 2) ndarray
-        Points [g0].
-
-    Returns
-    -------
-    fraction : (n,) ndarray
-        |p - c| / |boundary - c| - 1 along each point's ray: 0 on the boundary, positive
-        outside, negative inside; inf where undefined (e.g. a point at ``center``) [-].
-    """
-    a = vertices - center
-    ang = np.arctan2(a[:, 1], a[:, 0])
-    steps = np.angle(np.exp(1j * np.diff(np.append(ang, ang[0]))))
-    if not _star_shaped(steps):
-        return outside_fraction(vertices, center, points)
-    if steps[0] < 0:  # walk the polygon counter-clockwise
-        a = a[::-1]
-        ang = ang[::-1]
-        steps = np.angle(np.exp(1j * np.diff(np.append(ang, ang[0]))))
-    unwrapped = ang[0] + np.concatenate([[0.0], np.cumsum(steps[:-1])])
-    p = np.asarray(points, dtype=float) - center
-    theta = np.mod(np.arctan2(p[:, 1], p[:, 0]) - ang[0], 2 * np.pi) + ang[0]
-    i = np.clip(np.searchsorted(unwrapped, theta, side="right") - 1, 0, len(a) - 1)
-    start, e = a[i], np.roll(a, -1, axis=0)[i] - a[i]
-    with np.errstate(divide="ignore", invalid="ignore"):
-        t = (start[:, 0] * e[:, 1] - start[:, 1] * e[:, 0]) / (p[:, 0] * e[:, 1]
-                                                             - p[:, 1] * e[:, 0])
-    return np.where(np.isfinite(t) & (t > 0), 1.0 / t - 1.0, np.inf)
-
-
 def _polygon_margin(pair: np.ndarray, env) -> float:
     """-100 x the largest outside fraction of the samples [% of the envelope]. For a polygon
     that is star-shaped about the rest point, a sample at distance d from it has a fraction
@@ -236,7 +187,7 @@ def _polygon_margin(pair: np.ndarray, env) -> float:
         return 100.0
     rel = env.vertices - center
     ang = np.arctan2(rel[:, 1], rel[:, 0])
-    if _star_shaped(np.angle(np.exp(1j * np.diff(np.append(ang, ang[0]))))):
+    if star_shaped(np.angle(np.exp(1j * np.diff(np.append(ang, ang[0]))))):
         dist = np.hypot(pair[:, 0] - center[0], pair[:, 1] - center[1])
         edge = np.roll(rel, -1, axis=0) - rel
         along = np.clip(-np.sum(rel * edge, axis=1) / np.sum(edge * edge, axis=1), 0.0, 1.0)

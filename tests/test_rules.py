@@ -216,3 +216,33 @@ def test_windows_above_floor_match_full_windows(values, floor):
         assert np.all(x[a:b + 1] >= x[i])
         assert a == 0 or x[a - 1] < x[i]
         assert b == len(x) - 1 or x[b + 1] < x[i]
+
+
+@settings(max_examples=100, deadline=None)
+@given(st.lists(st.tuples(st.floats(-3, 3), st.floats(-3, 3)), min_size=3, max_size=7),
+       st.lists(st.tuples(st.integers(0, 6), st.floats(0, 1)), min_size=1, max_size=20),
+       st.sampled_from([0.0, 1e-12, 1e-6, 1e-3]))
+def test_points_on_or_near_the_boundary_are_classified_by_their_distance(vertices, places,
+                                                                         push):
+    # Points on an edge (and pushed off it along the edge's normal by `push`) count as inside
+    # exactly when shapely's distance to the outline is within the relative 1e-9 tolerance
+    # or shapely puts them inside.
+    v = np.asarray(vertices)
+    if polygon_problem(v) is not None or not Polygon(v).is_valid:
+        return
+    shape = Polygon(v)
+    tol = 1e-9 * max(1.0, float(np.abs(v).max()))
+    pts = []
+    for edge, u in places:
+        a, b = v[edge % len(v)], v[(edge + 1) % len(v)]
+        normal = np.array([b[1] - a[1], a[0] - b[0]])
+        normal /= np.hypot(*normal)
+        for side in (1.0, -1.0):
+            pts.append(a + u * (b - a) + side * push * normal)
+    p = np.asarray(pts)
+    for pt, inside in zip(p, contains(v, p)):
+        d = shape.exterior.distance(Point(pt))
+        if d <= 0.5 * tol:
+            assert inside
+        elif d > 2 * tol:
+            assert inside == shape.contains(Point(pt))
