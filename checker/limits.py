@@ -300,12 +300,14 @@ def contains(vertices: np.ndarray, points: np.ndarray) -> np.ndarray:
     from matplotlib.path import Path as MplPath
 
     path = MplPath(np.vstack([vertices, vertices[:1]]), closed=True)
-    inside = path.contains_points(points)
     tol = 1e-9 * max(1.0, float(np.abs(vertices).max()))
     low, high = vertices.min(axis=0) - tol, vertices.max(axis=0) + tol
     px, py = points[:, 0], points[:, 1]
-    near_box = (px >= low[0]) & (px <= high[0]) & (py >= low[1]) & (py <= high[1])
-    out = np.flatnonzero(~inside & near_box)
+    in_box = np.flatnonzero((px >= low[0]) & (px <= high[0]) & (py >= low[1])
+                            & (py <= high[1]))  # nothing beyond the bounding box is inside
+    inside = np.zeros(len(points), dtype=bool)
+    inside[in_box] = path.contains_points(points[in_box])
+    out = in_box[~inside[in_box]]
     if out.size:  # points reported outside but on the boundary count as inside
         # only those inside the outline grown by 100 x the tolerance (either orientation)
         # can be that close: the exact distance is then measured for them alone
