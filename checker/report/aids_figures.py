@@ -22,7 +22,7 @@ def zones_figure(zones, traces: list[tuple[str, np.ndarray, np.ndarray]], title:
 
     Parameters
     ----------
-    zones : sequence of RestraintZone
+    zones : sequence of checker.limits.Zone
         Objects with ``name``, ``order`` and ``vertices`` (m, 2) [g] in (Gx, Gz).
     traces : list of (str, numpy.ndarray, numpy.ndarray)
         (label, gx, gz) [g] of each seat drawn (reduced with
