@@ -25,6 +25,20 @@ from .zones import overall_highest
 
 
 def uplift_document(evaluation: Evaluation) -> dict:
+    """The ``uplift`` part of the findings JSON.
+
+    Parameters
+    ----------
+    evaluation : Evaluation
+        A check's evaluation; seats without an uplift summary are left out.
+
+    Returns
+    -------
+    dict
+        ``free_travel_m`` (the limit set's free travel [m], or None), ``worst`` (seat, case
+        and the highest flight of any seat, or None when no seat leaves its seat) and
+        ``seats`` (per seat and case: the seat's uplift summary, its flights included).
+    """
     seats = []
     worst = None
     for s in evaluation.seats:
@@ -40,6 +54,20 @@ def uplift_document(evaluation: Evaluation) -> dict:
 
 
 def zones_document(evaluation: Evaluation) -> dict | None:
+    """The ``zones`` part of the findings JSON, when the limits carry a restraint-zone diagram.
+
+    Parameters
+    ----------
+    evaluation : Evaluation
+        A check's evaluation.
+
+    Returns
+    -------
+    dict or None
+        ``diagram`` (each zone's name, order, dwell time [s] and vertices [g]), ``highest``
+        (seat, case and the highest zone reached for its dwell time, or None) and ``seats``
+        (per seat and case: its zone summary); None when the limit set has no zones.
+    """
     limits = evaluation.limits
     if not limits.zones:
         return None
@@ -56,6 +84,21 @@ def zones_document(evaluation: Evaluation) -> dict | None:
 
 
 def sustained_document(evaluation: Evaluation) -> list[dict]:
+    """The ``sustained`` part of the findings JSON: one entry per sustained combined rule.
+
+    Parameters
+    ----------
+    evaluation : Evaluation
+        A check's evaluation.
+
+    Returns
+    -------
+    list of dict
+        Per rule: ``rule``, ``axes``, ``findings`` (their number); where a seat has a margin
+        for it, the governing seat's ``seat``, ``case``, ``margin`` [% of the envelope] and
+        ``ratio`` (``(1 - margin / 100) ** 2``; 1 on the boundary); where it has findings,
+        ``worst_finding_ratio`` and ``admissible_g`` [g] of the most severe one.
+    """
     out = []
     for env in evaluation.limits.combined:
         if env.source != "sustained":
@@ -77,7 +120,22 @@ def sustained_document(evaluation: Evaluation) -> list[dict]:
 
 
 def aids_document(evaluation: Evaluation, sensitivity=None) -> dict:
-    """The aids' part of the findings JSON."""
+    """The aids' part of the findings JSON.
+
+    Parameters
+    ----------
+    evaluation : Evaluation
+        A check's evaluation.
+    sensitivity : Sensitivity or None, optional
+        The result of :mod:`checker.sensitivity` (``--sensitivity``), or None.
+
+    Returns
+    -------
+    dict
+        ``uplift`` (:func:`uplift_document`), ``sustained`` (:func:`sustained_document`),
+        ``zones`` when the limits carry a diagram (:func:`zones_document`) and
+        ``sensitivity`` when given.
+    """
     doc: dict = {"uplift": uplift_document(evaluation),
                  "sustained": sustained_document(evaluation)}
     zones = zones_document(evaluation)
@@ -89,7 +147,21 @@ def aids_document(evaluation: Evaluation, sensitivity=None) -> dict:
 
 
 def aids_summary(evaluation: Evaluation, sensitivity=None) -> str:
-    """Terminal lines: worst uplift, highest zone, sustained rules, sensitivity table."""
+    """Terminal lines: worst uplift, highest zone, sustained rules, sensitivity table.
+
+    Parameters
+    ----------
+    evaluation : Evaluation
+        A check's evaluation.
+    sensitivity : Sensitivity or None, optional
+        The sensitivity result; its table is appended when given.
+
+    Returns
+    -------
+    str
+        Newline-separated lines, without a trailing newline (not cleaned of control
+        characters: the terminal stream does that).
+    """
     lines = []
     up = uplift_document(evaluation)
     w = up["worst"]

@@ -72,7 +72,15 @@ DEMO_REVISIONS = (("A", "circular loop"), ("B", "teardrop loop"))
 
 @dataclass(frozen=True)
 class InputFile:
-    """One input file as recorded: its path as given and the SHA-256 of its bytes."""
+    """One input file as recorded: its path as given and the SHA-256 of its bytes.
+
+    Attributes
+    ----------
+    path : str
+        The path as given (not resolved).
+    sha256 : str
+        Hex digest of the file's bytes.
+    """
 
     path: str
     sha256: str
@@ -84,12 +92,17 @@ class Provenance:
 
     Attributes
     ----------
-    inputs : every input file with its SHA-256 (track, train, operation, cases, limits and
-        the tables the limits name).
-    parameters : (name, value with unit) of every parameter of the run.
-    call : the call that reproduces the result: a shell-quoted command line when made by the
-        command line, a Python call when made from Python.
-    version : the tool's version.
+    inputs : tuple of InputFile
+        Every input file with its SHA-256 (track, train, operation, cases, limits and the
+        tables the limits name).
+    parameters : tuple of (str, str)
+        (name, value with unit) of every parameter of the run.
+    call : str
+        The call that reproduces the result: a shell-quoted command line when made by the
+        command line, a Python call (``checker.NAME(...)`` with the arguments that differ
+        from their defaults) when made from Python.
+    version : str
+        The tool's version.
     """
 
     inputs: tuple[InputFile, ...]
@@ -100,7 +113,21 @@ class Provenance:
 
 @dataclass(frozen=True)
 class Labels:
-    """Names printed on the documents (they change no number)."""
+    """Names printed on the documents (they change no number).
+
+    Attributes
+    ----------
+    project : str
+        Project name.
+    layout : str
+        Layout name.
+    revision : str
+        Revision label.
+    page_size : str
+        ``"a4"`` or ``"letter"``.
+    seat_pages : str
+        Seat pages of figures in a check's PDF: ``"all"``, ``"governing"`` or ``"none"``.
+    """
 
     project: str = "(not given)"
     layout: str = "(not given)"
@@ -184,8 +211,10 @@ def group_events(evaluation: Evaluation, ride: RideResult | None) -> tuple:
 
     Parameters
     ----------
-    evaluation : the rules' outcome.
-    ride : the simulated ride (places and sections), or None for a recorded history.
+    evaluation : Evaluation
+        The rules' outcome.
+    ride : RideResult or None
+        The simulated ride (places and sections), or None for a recorded history.
 
     Returns
     -------
@@ -201,19 +230,29 @@ def group_events(evaluation: Evaluation, ride: RideResult | None) -> tuple:
 
 @dataclass(frozen=True, eq=False)
 class LayoutCheck:
-    """A layout (or a recorded history) checked against a limit set: everything the
-    documents need, made once.
+    """A layout (or a recorded history) checked against a limit set: everything the documents
+    need, made once.
 
     Attributes
     ----------
-    evaluation : every seat (and load case) against every rule, with warnings and stalls.
-    events : findings grouped into events (see :func:`group_events`).
-    signals : {(seat, case): raw signal} for the figures [g0] (read-only).
-    ride : the simulated ride (geometry, motion) for the layout views, or None for a history.
-    sweep : every load case's outcome when load cases were run, else None.
-    labels : project, layout, revision and page size for the documents.
-    provenance : input files with SHA-256, parameters, tool version, reproducing call.
-    sensitivity : the parameter sensitivity of each rule's margin when asked for, else None.
+    evaluation : Evaluation
+        Every seat (and load case) against every rule, with warnings and stalls.
+    events : tuple of checker.events.Event
+        Findings grouped into events, most severe first (see :func:`group_events`).
+    signals : Mapping
+        Read-only ``{(seat, case): raw signal}`` for the figures [g0]: a
+        :class:`checker.kinematics.SeatHistory` for a simulated seat, a
+        :class:`checker.history.RecordedSignal` for a recorded one.
+    ride : RideResult or None
+        The simulated ride (geometry, motion) for the layout views, or None for a history.
+    sweep : Sweep or None
+        Every load case's outcome when load cases were run, else None.
+    labels : Labels
+        Project, layout, revision, page size and seat pages for the documents.
+    provenance : Provenance
+        Input files with SHA-256, parameters, tool version, reproducing call.
+    sensitivity : checker.sensitivity.Sensitivity or None
+        The parameter sensitivity of each rule's margin when asked for, else None.
     """
 
     evaluation: Evaluation
@@ -252,7 +291,13 @@ class LayoutCheck:
         return self.evaluation.limits
 
     def summary(self) -> str:
-        """The terminal summary: a line per seat, the load-case tables, notes and caution."""
+        """The terminal summary: events table, aids, load-case tables, notes and caution.
+
+        Returns
+        -------
+        str
+            Newline-separated lines, no trailing newline.
+        """
         lines = [summary_table(self.evaluation, list(self.events)),
                  aids_summary(self.evaluation, self.sensitivity)]
         if self.sweep is not None:
@@ -264,7 +309,15 @@ class LayoutCheck:
         return "\n".join(lines)
 
     def document(self) -> dict:
-        """The JSON record (a dict of plain values, floats to 6 significant digits)."""
+        """The JSON record (:func:`checker.documents.evaluation_document`).
+
+        Returns
+        -------
+        dict
+            Plain values, floats to 6 significant digits; besides the evaluation's record it
+            holds ``stall``, ``parameters``, the sweep's ``cases``/``matrix``/``governing`` when
+            load cases were run and ``sensitivity`` when asked for.
+        """
         extra = {"stall": self.stall,
                  "parameters": [{"name": n, "value": v} for n, v in self.provenance.parameters]}
         if self.sweep is not None:
@@ -280,39 +333,46 @@ class LayoutCheck:
 
         Parameters
         ----------
-        path : where to write it.
+        path : str or pathlib.Path
+            Where to write it. Not checked against the inputs here (the command line does that
+            with :func:`checker.paths.check_run_paths`).
 
         Returns
         -------
-        Path
+        pathlib.Path
             The path written.
 
         Raises
         ------
         InputError
-            When the output's folder does not exist or the path is a folder.
+            When the output's folder does not exist or is not writable, the path is a folder or
+            another non-regular file, or the write fails (the old file is kept).
         """
         return _write_json(path, self.document())
 
     def write_pdf(self, path: str | Path,
                   json_path: str | Path | None = None) -> tuple[Path, Path]:
-        """Write the PDF report and its JSON sidecar, as a pair.
+        """Write the PDF report and its JSON sidecar, as a pair (both or neither).
+
+        The PDF is rendered in memory first (matplotlib, weasyprint load on the first one).
 
         Parameters
         ----------
-        path : where to write the PDF.
-        json_path : where to write the JSON sidecar (default: beside the PDF, ``.json``).
+        path : str or pathlib.Path
+            Where to write the PDF.
+        json_path : str or pathlib.Path or None, optional
+            Where to write the JSON sidecar (default: beside the PDF, with ``.json``).
 
         Returns
         -------
-        tuple of Path
+        tuple of pathlib.Path
             The PDF and the JSON written.
 
         Raises
         ------
         InputError
-            When an output's folder does not exist or a path is a folder; nothing is
-            written then.
+            When an output's folder does not exist or is not writable, a path is a folder, or a
+            write fails; nothing is written then.
         """
         return _write_pair(path, lambda: _report().check_report_pdf(self), json_path,
                            to_json(self.document()))
@@ -333,33 +393,56 @@ def check_layout(track: str | Path, *, train: str | Path | None = None, ideal: b
 
     Parameters
     ----------
-    track : centerline CSV (x, y, z [m or ft]; optional roll_deg or up_x, up_y, up_z).
-    train : train TOML; None (or ``ideal=True``) gives one rider on the centerline with no
+    track : str or pathlib.Path
+        Centerline CSV (x, y, z [m or ft]; optional roll_deg or up_x, up_y, up_z).
+    train : str or pathlib.Path or None, optional
+        Train TOML; None (or ``ideal=True``) gives one rider on the centerline with no
         rolling resistance and no drag.
-    ideal : force the ideal single rider even when ``train`` is given.
-    operation : operation TOML (start speed, lifts, launches, brakes); None = free rolling.
-    start_speed_m_s : speed at the start [m/s]; overrides the operation file.
-    limits : limits TOML; None uses the bundled ILLUSTRATIVE set.
-    cases : load-case TOML, or ``"standard"`` for the shipped set; None runs one case.
-    case : name of the single load case when ``cases`` is None.
-    rate_hz : output sample rate [Hz].
-    units : ``"m"`` or ``"ft"``, the track file's length unit.
-    smoothing_m : RMS tolerance for fitting noisy CAD samples [m]; 0 fits through every
-        sample; None: half the grid a rounded file's coordinates sit on.
-    step_m : station grid step of the simulation [m].
-    sensitivity : also rank how the ride's parameters move each rule's margin (16 more runs;
-        not with ``cases``).
-    project, layout, revision, page_size : labels for the documents (``layout`` defaults to
-        the track file's name; ``page_size`` is ``"a4"`` or ``"letter"``).
-    seat_pages : seat pages of figures in the PDF: ``"governing"`` (the governing seat of
-        each event and seats that differ), ``"all"`` (every seat with a finding) or
-        ``"none"``.
-    workers : local worker processes for the load cases (default: all cores).
-    scheduler : a Dask scheduler address (``tcp://host:port``) to run the cases on.
-    scheduler_timeout_s : how long to wait for the scheduler and its first worker [s].
-    progress : called with (done, total) as load cases finish.
-    call : the call to record as reproducing the result (the command line passes its own);
-        default: this Python call.
+    ideal : bool, optional
+        Use the ideal single rider even when ``train`` is given.
+    operation : str or pathlib.Path or None, optional
+        Operation TOML (start speed, lifts, launches, brakes); None: free rolling.
+    start_speed_m_s : float or None, optional
+        Speed at the start [m/s]; overrides the operation file.
+    limits : str or pathlib.Path or None, optional
+        Limits TOML; None uses the bundled ILLUSTRATIVE set.
+    cases : str or pathlib.Path or None, optional
+        Load-case TOML, or ``"standard"`` for the shipped set; None runs one case.
+    case : str, optional
+        Name of the single load case when ``cases`` is None.
+    rate_hz : float, optional
+        Output sample rate [Hz] (default 200).
+    units : str, optional
+        ``"m"`` or ``"ft"``, the track file's length unit.
+    smoothing_m : float or None, optional
+        RMS tolerance for fitting noisy CAD samples [m]; 0 fits through every sample; None:
+        half the grid a rounded file's coordinates sit on.
+    step_m : float, optional
+        Station grid step of the simulation [m] (default
+        :data:`checker.geometry.STATION_STEP_M`, 0.2 m).
+    sensitivity : bool, optional
+        Also rank how the ride's parameters move each rule's margin (16 more rides; not with
+        ``cases``).
+    project, revision : str, optional
+        Labels for the documents.
+    layout : str or None, optional
+        Layout name for the documents; None: the track file's name without suffix.
+    page_size : str, optional
+        ``"a4"`` or ``"letter"``.
+    seat_pages : str, optional
+        Seat pages of figures in the PDF: ``"governing"`` (the governing seat of each event
+        and seats whose events differ), ``"all"`` (every seat with a finding) or ``"none"``.
+    workers : int or None, optional
+        Local worker processes for the load cases and sensitivity rides (default: all cores).
+    scheduler : str or None, optional
+        A Dask scheduler address (``tcp://host:port``) to run them on.
+    scheduler_timeout_s : float, optional
+        How long to wait for the scheduler and its first worker [s] (default 30).
+    progress : callable or None, optional
+        Called as ``progress(done, total)`` as load cases (or sensitivity rides) finish.
+    call : str or None, optional
+        The call to record as reproducing the result (the command line passes its own);
+        None: this Python call.
 
     Returns
     -------
@@ -369,7 +452,22 @@ def check_layout(track: str | Path, *, train: str | Path | None = None, ideal: b
     Raises
     ------
     InputError
-        For a bad or missing input file (naming the file, row or key, and what to do).
+        For a bad or missing input file (naming the file, row or key, and what to do), a
+        load case that does not fit the train, ``sensitivity`` together with ``cases``, a
+        ride over the memory cap, or an unreachable scheduler.
+
+    Examples
+    --------
+    >>> from checker import check_layout
+    >>> from checker.resources import demo_folder
+    >>> demo = demo_folder()
+    >>> result = check_layout(demo / "thistle_comet_revA.csv",
+    ...                       train=demo / "thistle_comet_train.toml",
+    ...                       operation=demo / "thistle_comet_revA.operation.toml")
+    >>> str(result.verdict), result.limits.illustrative
+    ('fail', True)
+    >>> result.events[0].rule
+    'onset gz'
     """
     call = call or _python_call(check_layout, locals())
     if sensitivity and cases:
@@ -427,27 +525,47 @@ def check_history(history: str | Path, *, units: str = "g", limits: str | Path |
 
     Parameters
     ----------
-    history : CSV with t [s], gx, gy, gz and optionally seat.
-    units : ``"g"`` (multiples of g0) or ``"m/s2"``, the unit of gx, gy, gz in the file.
-    limits : limits TOML; None uses the bundled ILLUSTRATIVE set.
-    case : name of the load case the record stands for.
-    instrument : instrument TOML describing a logger export (columns, units, mounting,
-        seats); None reads the plain format.
-    resample_hz : uniform rate [Hz] to re-sample irregular time stamps onto; None refuses
-        them, naming the rows.
-    project, layout, revision, page_size, seat_pages : as for :func:`check_layout`
-        (``layout`` defaults to the history file's name).
-    call : the call to record as reproducing the result; default: this Python call.
+    history : str or pathlib.Path
+        CSV with t [s], gx, gy, gz and optionally seat (plain format), or a logger export
+        described by ``instrument``.
+    units : str, optional
+        ``"g"`` (multiples of g0) or ``"m/s2"``, the unit of gx, gy, gz in a plain file.
+    limits : str or pathlib.Path or None, optional
+        Limits TOML; None uses the bundled ILLUSTRATIVE set.
+    case : str, optional
+        Name of the load case the record stands for.
+    instrument : str or pathlib.Path or None, optional
+        Instrument TOML describing a logger export (columns, units, mounting, seats); None
+        reads the plain format.
+    resample_hz : float or None, optional
+        Uniform rate [Hz] to re-sample irregular time stamps onto; None refuses them, naming
+        the rows.
+    project, revision, page_size, seat_pages : str, optional
+        As for :func:`check_layout`.
+    layout : str or None, optional
+        Layout name; None: the history file's name without suffix.
+    call : str or None, optional
+        The call to record as reproducing the result; None: this Python call.
 
     Returns
     -------
     LayoutCheck
-        The frozen result (without a ride: a record has no layout to draw).
+        The frozen result (without a ride: a record has no layout to draw); its warnings
+        include the record's review items and a rest-level check of Gz.
 
     Raises
     ------
     InputError
         For a bad or missing input file.
+
+    Examples
+    --------
+    >>> from checker import check_history
+    >>> from checker.resources import demo_folder
+    >>> demo = demo_folder()
+    >>> result = check_history(demo / "thistle_comet_revB_recorded_synthetic.csv")
+    >>> str(result.verdict), result.ride is None
+    ('pass', True)
     """
     call = call or _python_call(check_history, locals())
     limit_set = _limits(limits)
@@ -475,7 +593,26 @@ def check_history(history: str | Path, *, units: str = "g", limits: str | Path |
 
 @dataclass(frozen=True, eq=False)
 class ComparisonFocus:
-    """The seat and case the comparison's figures show, with both revisions' signals."""
+    """The seat and case the comparison's figures show, with both revisions' signals.
+
+    Attributes
+    ----------
+    seat : str
+        The seat shown (the new revision's governing seat, else the old one's, else the
+        first seat).
+    case : str
+        Its load case.
+    old : SeatResult
+        The seat's result in the old revision, with its filtered signal.
+    old_ride : RideResult
+        The old revision's ride in that case.
+    new : SeatResult
+        The seat's result in the new revision.
+    new_signal : checker.kinematics.SeatHistory
+        The seat's raw signal in the new revision [g0].
+    new_ride : RideResult
+        The new revision's ride in that case.
+    """
 
     seat: str
     case: str
@@ -492,16 +629,27 @@ class LayoutComparison:
 
     Attributes
     ----------
-    comparison : peaks before and after, and every finding's change.
-    old, new : every load case of each revision.
-    old_file, new_file : the centerline files as given.
-    old_name, new_name : short names for the documents.
-    cases : the load cases' names.
-    limits : the limit set.
-    new_stalls : stalls of the new revision in cases where the old one did not stall.
-    focus : the governing seat and case with both revisions' signals for the figures, or
-        None when made without them.
-    labels, provenance : as for :class:`LayoutCheck`.
+    comparison : Comparison
+        Peaks before and after, and every finding's change.
+    old, new : Sweep
+        Every load case of each revision.
+    old_file, new_file : str
+        The centerline files as given.
+    old_name, new_name : str
+        Short names for the documents (the files' names without suffix).
+    cases : tuple of str
+        The load cases' names.
+    limits : LimitSet
+        The limit set.
+    new_stalls : tuple of str
+        Stalls of the new revision in cases where the old one did not stall.
+    focus : ComparisonFocus or None
+        The governing seat and case with both revisions' signals for the figures, or None
+        when made with ``plot_signals=False``.
+    labels : Labels
+        Project and page size.
+    provenance : Provenance
+        As for :class:`LayoutCheck`.
     """
 
     comparison: Comparison
@@ -524,7 +672,13 @@ class LayoutComparison:
         return self.comparison.regressed or bool(self.new_stalls)
 
     def summary(self) -> str:
-        """The terminal summary: verdicts, finding changes, peaks, regression, caution."""
+        """The terminal summary: verdicts, finding changes, peaks, regression, caution.
+
+        Returns
+        -------
+        str
+            Newline-separated lines, no trailing newline; peaks as ``old>new`` [g0] per seat.
+        """
         c = self.comparison
         lines = [f"old {self.old_name}: {c.old_verdict.upper()} ({len(self.old.findings)} "
                  f"findings); new {self.new_name}: {c.new_verdict.upper()} "
@@ -548,7 +702,13 @@ class LayoutComparison:
         return "\n".join(lines)
 
     def document(self) -> dict:
-        """The JSON record of the comparison."""
+        """The JSON record of the comparison (:func:`checker.documents.comparison_document`).
+
+        Returns
+        -------
+        dict
+            Plain values, floats to 6 significant digits.
+        """
         return comparison_document(
             self.comparison, self.limits, self.old_file, self.new_file,
             len(self.old.findings), len(self.new.findings), self.regressed,
@@ -556,22 +716,39 @@ class LayoutComparison:
             [(f.path, f.sha256) for f in self.provenance.inputs], self.provenance.call)
 
     def write_json(self, path: str | Path) -> Path:
-        """Write the JSON record atomically; returns the path (see
-        :meth:`LayoutCheck.write_json`)."""
+        """Write the JSON record atomically (see :meth:`LayoutCheck.write_json`).
+
+        Parameters
+        ----------
+        path : str or pathlib.Path
+            Where to write it.
+
+        Returns
+        -------
+        pathlib.Path
+            The path written.
+
+        Raises
+        ------
+        InputError
+            As :meth:`LayoutCheck.write_json`.
+        """
         return _write_json(path, self.document())
 
     def write_pdf(self, path: str | Path,
                   json_path: str | Path | None = None) -> tuple[Path, Path]:
-        """Write the comparison PDF and its JSON sidecar, as a pair.
+        """Write the comparison PDF and its JSON sidecar, as a pair (both or neither).
 
         Parameters
         ----------
-        path : where to write the PDF.
-        json_path : where to write the JSON sidecar (default: beside the PDF, ``.json``).
+        path : str or pathlib.Path
+            Where to write the PDF.
+        json_path : str or pathlib.Path or None, optional
+            Where to write the JSON sidecar (default: beside the PDF, with ``.json``).
 
         Returns
         -------
-        tuple of Path
+        tuple of pathlib.Path
             The PDF and the JSON written.
 
         Raises
@@ -579,7 +756,7 @@ class LayoutComparison:
         ValueError
             When the comparison was made with ``plot_signals=False``.
         InputError
-            When an output's folder does not exist or a path is a folder.
+            As :meth:`LayoutCheck.write_pdf`.
         """
         if self.focus is None:
             raise ValueError("this comparison was made with plot_signals=False; it has no "
@@ -605,26 +782,47 @@ def compare_layouts(old: str | Path, new: str | Path, *, train: str | Path | Non
 
     Parameters
     ----------
-    old, new : the two revisions' centerline CSV files.
-    train, ideal, start_speed_m_s, limits, cases, rate_hz, units, smoothing_m, workers,
-    scheduler, scheduler_timeout_s, progress : as for :func:`check_layout`, shared by both
-        revisions.
-    operation : operation TOML for both revisions.
-    old_operation, new_operation : operation TOML for one revision (overrides ``operation``).
-    project, page_size : labels for the documents.
-    plot_signals : also compute the governing seat's signals in both revisions, which the
-        PDF draws (one more ride per revision); False when no PDF will be written.
-    call : the call to record as reproducing the result; default: this Python call.
+    old, new : str or pathlib.Path
+        The two revisions' centerline CSV files.
+    train, ideal, start_speed_m_s, limits, cases, rate_hz, units, smoothing_m, step_m
+        As for :func:`check_layout`, shared by both revisions.
+    workers, scheduler, scheduler_timeout_s, progress
+        As for :func:`check_layout`; both revisions' rides share one pool.
+    operation : str or pathlib.Path or None, optional
+        Operation TOML for both revisions.
+    old_operation, new_operation : str or pathlib.Path or None, optional
+        Operation TOML for one revision (overrides ``operation``).
+    project, page_size : str, optional
+        Labels for the documents.
+    plot_signals : bool, optional
+        Also compute the governing seat's signals in both revisions, which the PDF draws
+        (one more ride per revision); False when no PDF will be written.
+    call : str or None, optional
+        The call to record as reproducing the result; None: this Python call.
 
     Returns
     -------
     LayoutComparison
-        The frozen result; ``regressed`` says whether the new revision got worse.
+        The frozen result; ``regressed`` says whether the new revision got worse (a new or
+        worse finding, or a new stall).
 
     Raises
     ------
     InputError
-        For a bad or missing input file.
+        For a bad or missing input file, or as :func:`check_layout`.
+
+    Examples
+    --------
+    >>> from checker import compare_layouts
+    >>> from checker.resources import demo_folder
+    >>> demo = demo_folder()
+    >>> result = compare_layouts(demo / "thistle_comet_revA.csv", demo / "thistle_comet_revB.csv",
+    ...                          train=demo / "thistle_comet_train.toml",
+    ...                          old_operation=demo / "thistle_comet_revA.operation.toml",
+    ...                          new_operation=demo / "thistle_comet_revB.operation.toml",
+    ...                          plot_signals=False)
+    >>> result.regressed, str(result.comparison.new_verdict)
+    (False, 'pass')
     """
     call = call or _python_call(compare_layouts, locals())
     limit_set = _limits(limits)
@@ -688,8 +886,10 @@ class Simulation:
 
     Attributes
     ----------
-    ride : geometry, motion, histories and plausibility warnings.
-    provenance : input files with SHA-256, parameters, tool version, reproducing call.
+    ride : RideResult
+        Geometry, motion, histories and plausibility warnings.
+    provenance : Provenance
+        Input files with SHA-256, parameters, tool version, reproducing call.
     """
 
     ride: RideResult
@@ -701,7 +901,18 @@ class Simulation:
         return None if self.ride.motion.stall is None else str(self.ride.motion.stall)
 
     def summary(self, path: str | Path) -> str:
-        """What was written to ``path``: seats, rows, ride time, smoothing."""
+        """What was written to ``path``: seats, rows, ride time, smoothing.
+
+        Parameters
+        ----------
+        path : str or pathlib.Path
+            The CSV written (named in the first line only).
+
+        Returns
+        -------
+        str
+            One line, and a second on the smoothing fit when there was one.
+        """
         motion, rows = self.ride.motion, sum(len(h.t) for h in self.ride.histories)
         lines = [f"wrote {path}: {len(self.ride.histories)} seats, {rows} rows, "
                  f"ride time {motion.duration_s:.1f} s, {motion.end_reason}"]
@@ -715,7 +926,23 @@ class Simulation:
         return "\n".join(lines)
 
     def write_csv(self, path: str | Path) -> Path:
-        """Write every seat's history (one row per seat and sample) atomically."""
+        """Write every seat's history (one row per seat and sample) atomically.
+
+        Parameters
+        ----------
+        path : str or pathlib.Path
+            The CSV to write (:func:`checker.ride.histories_csv`).
+
+        Returns
+        -------
+        pathlib.Path
+            The path written.
+
+        Raises
+        ------
+        InputError
+            When the path cannot be written (see :meth:`LayoutCheck.write_json`).
+        """
         return atomic_write_bytes(check_writable(path), histories_csv(self.ride.histories))
 
 
@@ -723,7 +950,14 @@ def simulate_ride(track: str | Path, *, train: str | Path | None = None, ideal: 
                   operation: str | Path | None = None, start_speed_m_s: float | None = None,
                   rate_hz: float = 200.0, units: str = "m", smoothing_m: float | None = None,
                   step_m: float = STATION_STEP_M, call: str | None = None) -> Simulation:
-    """Simulate a ride without checking it (parameters as for :func:`check_layout`).
+    """Simulate a ride without checking it.
+
+    Parameters
+    ----------
+    track, train, ideal, operation, start_speed_m_s, rate_hz, units, smoothing_m, step_m
+        As for :func:`check_layout`.
+    call : str or None, optional
+        The call to record as reproducing the result; None: this Python call.
 
     Returns
     -------
@@ -733,7 +967,17 @@ def simulate_ride(track: str | Path, *, train: str | Path | None = None, ideal: 
     Raises
     ------
     InputError
-        For a bad or missing input file.
+        For a bad or missing input file, or a ride over the memory cap.
+
+    Examples
+    --------
+    >>> from checker import simulate_ride
+    >>> from checker.resources import demo_folder
+    >>> demo = demo_folder()
+    >>> sim = simulate_ride(demo / "thistle_comet_revA.csv", ideal=True,
+    ...                     operation=demo / "thistle_comet_revA.operation.toml")
+    >>> len(sim.ride.histories), sim.stall
+    (1, None)
     """
     call = call or _python_call(simulate_ride, locals())
     line, the_train, ops = load_inputs(track, train, ideal=ideal, operation=operation,
@@ -750,12 +994,19 @@ class BankAdvisory:
 
     Attributes
     ----------
-    advice : :class:`checker.bank.BankAdvice` (stations [m], given and advised bank [deg]).
-    track_text : the banked track as CSV text (x, y, z in the input's unit, roll_deg).
-    track : the track file advised on.
-    seats : how many seats the advice serves (1 for the centerline rider).
-    settings : roll-rate limit [deg/s], |Gy| tolerance [g], roll smoothing [s], page size.
-    provenance : input files with SHA-256, parameters, tool version, reproducing call.
+    advice : checker.bank.BankAdvice
+        Stations [m], given and advised bank [deg], target and where the rate limit binds.
+    track_text : str
+        The banked track as CSV text (x, y, z in the input's unit, roll_deg).
+    track : str
+        The track file advised on.
+    seats : int
+        How many seats the advice serves (seats per car times cars; 1 for the centerline
+        rider).
+    settings : Mapping
+        ``roll_rate`` [deg/s], ``tolerance`` [g], ``smoothing`` [s], ``page_size``.
+    provenance : Provenance
+        Input files with SHA-256, parameters, tool version, reproducing call.
     """
 
     advice: object
@@ -766,7 +1017,15 @@ class BankAdvisory:
     provenance: Provenance
 
     def summary(self) -> str:
-        """The terminal summary of the advice."""
+        """The terminal summary of the advice.
+
+        Returns
+        -------
+        str
+            Five lines: the roll-rate limit, the largest change [deg] and fastest roll [deg/s],
+            the worst unfiltered |Gy| [g] given, advised and where every seat can be met, and the
+            length [m] where the bank cannot meet every seat.
+        """
         d = self.advice.to_dict()
         name = Path(self.track).name
         riders = "centerline rider" if self.advice.ideal else f"{self.seats} seats"
@@ -783,8 +1042,31 @@ class BankAdvisory:
 
     def write(self, output: str | Path, plot: str | Path, json_path: str | Path | None = None,
               pdf_path: str | Path | None = None) -> list[Path]:
-        """Write the banked track, its SVG plot and, when named, the JSON and the PDF: all of
-        them or none (:func:`checker.outputs.commit`). Returns the paths written."""
+        """Write the banked track, its SVG plot and, when named, the JSON and the PDF: all of them
+        or none (:func:`checker.outputs.commit`).
+
+        Parameters
+        ----------
+        output : str or pathlib.Path
+            The banked track CSV. Not checked against the input track here (the command line
+            does that).
+        plot : str or pathlib.Path
+            The SVG figure of given, advised and target bank.
+        json_path : str or pathlib.Path or None, optional
+            The JSON record.
+        pdf_path : str or pathlib.Path or None, optional
+            The PDF page.
+
+        Returns
+        -------
+        list of pathlib.Path
+            The paths written: output, plot, then JSON and PDF when named.
+
+        Raises
+        ------
+        InputError
+            When a path cannot be written; nothing is written then.
+        """
         from .report.aids_figures import bank_figure, bank_pdf
 
         a = self.advice
@@ -819,13 +1101,18 @@ def advise_bank_angle(track: str | Path, *, train: str | Path | None = None,
 
     Parameters
     ----------
-    track, train, ideal, operation, start_speed_m_s, rate_hz, units, smoothing_m, step_m :
-        as for :func:`check_layout`.
-    roll_rate_deg_s : highest roll rate any car may see [deg/s].
-    tolerance_g : |Gy| accepted at each seat when choosing the bank [g0].
-    roll_smoothing_s : moving-average window that softens the roll acceleration [s].
-    page_size : ``"a4"`` or ``"letter"`` for the PDF.
-    call : the call to record as reproducing the result; default: this Python call.
+    track, train, ideal, operation, start_speed_m_s, rate_hz, units, smoothing_m, step_m
+        As for :func:`check_layout`.
+    roll_rate_deg_s : float, optional
+        Highest roll rate any car may see [deg/s] (default 60).
+    tolerance_g : float, optional
+        |Gy| accepted at each seat when choosing the bank [g0] (default 0.02).
+    roll_smoothing_s : float, optional
+        Moving-average window that softens the roll acceleration [s] (default 0.6).
+    page_size : str, optional
+        ``"a4"`` or ``"letter"`` for the PDF.
+    call : str or None, optional
+        The call to record as reproducing the result; None: this Python call.
 
     Returns
     -------
@@ -869,13 +1156,20 @@ class RideCorrelation:
 
     Attributes
     ----------
-    correlations : one :class:`checker.correlate.Correlation` per recorded seat.
-    notes : review items from loading the record and warnings from the simulation.
-    filter : the filter applied to both signals, described.
-    record_method : how the record was conditioned (time base, re-sampling).
-    labels : project and page size for the PDF; layout is the track file's name.
-    record_name : the record file's name.
-    provenance : input files with SHA-256, parameters, tool version, reproducing call.
+    correlations : tuple of checker.correlate.Correlation
+        One per recorded seat.
+    notes : tuple of str
+        Review items from loading the record and warnings from the simulation.
+    filter : str
+        The filter applied to both signals, described.
+    record_method : str
+        How the record was conditioned (time base, re-sampling).
+    labels : Labels
+        Project and page size for the PDF; layout is the track file's name.
+    record_name : str
+        The record file's name.
+    provenance : Provenance
+        Input files with SHA-256, parameters, tool version, reproducing call.
     """
 
     correlations: tuple
@@ -887,7 +1181,14 @@ class RideCorrelation:
     provenance: Provenance
 
     def summary(self) -> str:
-        """A table of the per-axis differences, the filter note and the caution."""
+        """A table of the per-axis differences, the filter note and the caution.
+
+        Returns
+        -------
+        str
+            One line per recorded seat: alignment method, offset [s], RMS and largest
+            difference per axis [g0] (recorded minus simulated, both filtered).
+        """
         lines = [f"{'recorded seat':<20}{'aligned by':<34}{'offset [s]':>11}"
                  + "".join(f"{a + ' rms':>10}{a + ' max':>10}" for a in ("gx", "gy", "gz"))]
         for c in self.correlations:
@@ -898,7 +1199,14 @@ class RideCorrelation:
         return "\n".join(lines)
 
     def document(self) -> dict:
-        """The JSON record."""
+        """The JSON record.
+
+        Returns
+        -------
+        dict
+            ``kind``, ``caution``, ``command``, ``filter``, ``record_conditioning``, ``inputs``,
+            ``review_items`` and ``correlations`` (floats not rounded here).
+        """
         return {"kind": "correlation", "caution": CAUTION, "command": self.provenance.call,
                 "filter": self.filter, "record_conditioning": self.record_method,
                 "inputs": [{"file": f.path, "sha256": f.sha256}
@@ -907,13 +1215,46 @@ class RideCorrelation:
                 "correlations": [c.to_dict() for c in self.correlations]}
 
     def write_json(self, path: str | Path) -> Path:
-        """Write the JSON record atomically; returns the path written."""
+        """Write the JSON record atomically.
+
+        Parameters
+        ----------
+        path : str or pathlib.Path
+            Where to write it.
+
+        Returns
+        -------
+        pathlib.Path
+            The path written.
+
+        Raises
+        ------
+        InputError
+            As :meth:`LayoutCheck.write_json`.
+        """
         return _write_json(path, self.document())
 
     def write_pdf(self, path: str | Path,
                   json_path: str | Path | None = None) -> tuple[Path, Path]:
-        """Write the PDF with the figures and its JSON sidecar as a pair (both or neither);
-        returns the PDF and the JSON written."""
+        """Write the PDF with the figures and its JSON sidecar as a pair (both or neither).
+
+        Parameters
+        ----------
+        path : str or pathlib.Path
+            Where to write the PDF.
+        json_path : str or pathlib.Path or None, optional
+            Where to write the JSON sidecar (default: beside the PDF, with ``.json``).
+
+        Returns
+        -------
+        tuple of pathlib.Path
+            The PDF and the JSON written.
+
+        Raises
+        ------
+        InputError
+            As :meth:`LayoutCheck.write_pdf`.
+        """
         from .report.correlation import correlation_pdf
 
         def render() -> bytes:
@@ -939,16 +1280,24 @@ def correlate_ride(record: str | Path, track: str | Path, *, record_units: str =
 
     Parameters
     ----------
-    record : recorded history CSV (plain format, or described by ``instrument``).
-    track : the layout's centerline CSV.
-    record_units : ``"g"`` or ``"m/s2"`` for a plain-format record.
-    instrument, resample_hz : as for :func:`check_history`.
-    train, ideal, operation, start_speed_m_s, rate_hz, units, smoothing_m, step_m : as for
-        :func:`check_layout`.
-    seat : simulated seat to compare every recorded seat with (default: the same name).
-    limits : limits TOML whose filter is applied to both signals (default: the bundled set).
-    project, page_size : labels for the PDF.
-    call : the call to record as reproducing the result; default: this Python call.
+    record : str or pathlib.Path
+        Recorded history CSV (plain format, or described by ``instrument``).
+    track : str or pathlib.Path
+        The layout's centerline CSV.
+    record_units : str, optional
+        ``"g"`` or ``"m/s2"`` for a plain-format record.
+    instrument, resample_hz
+        As for :func:`check_history`.
+    train, ideal, operation, start_speed_m_s, rate_hz, units, smoothing_m, step_m
+        As for :func:`check_layout`.
+    seat : str or None, optional
+        Simulated seat to compare every recorded seat with (default: the same name).
+    limits : str or pathlib.Path or None, optional
+        Limits TOML whose filter is applied to both signals (default: the bundled set).
+    project, page_size : str, optional
+        Labels for the PDF.
+    call : str or None, optional
+        The call to record as reproducing the result; None: this Python call.
 
     Returns
     -------
@@ -991,12 +1340,13 @@ def correlate_ride(record: str | Path, track: str | Path, *, record_units: str =
 
 @dataclass(frozen=True, eq=False)
 class DemoRun:
-    """Both revisions of the fictional demo layout checked against the bundled
-    ILLUSTRATIVE limits.
+    """Both revisions of the fictional demo layout checked against the bundled ILLUSTRATIVE
+    limits.
 
     Attributes
     ----------
-    revisions : (revision letter, what changed, its check) for revisions A and B.
+    revisions : tuple of (str, str, LayoutCheck)
+        (revision letter, what changed, its check) for revisions A and B.
     """
 
     revisions: tuple[tuple[str, str, LayoutCheck], ...]
@@ -1004,15 +1354,20 @@ class DemoRun:
     def write_reports(self, folder: str | Path) -> list[tuple[Path, Path]]:
         """Write each revision's PDF and JSON into ``folder`` (made when missing).
 
+        Parameters
+        ----------
+        folder : str or pathlib.Path
+            The output folder; files are named ``thistle_comet_rev<letter>.pdf`` and ``.json``.
+
         Returns
         -------
-        list of (Path, Path)
+        list of (pathlib.Path, pathlib.Path)
             The PDF and JSON of each revision.
 
         Raises
         ------
         InputError
-            When the folder cannot be made.
+            When the folder cannot be made or a file cannot be written.
         """
         out = Path(folder)
         try:
@@ -1029,15 +1384,24 @@ def run_demo(*, page_size: str = "a4", seat_pages: str = "governing") -> DemoRun
 
     Parameters
     ----------
-    page_size : ``"a4"`` or ``"letter"`` for the reports.
-    seat_pages : seat pages of figures, as for :func:`check_layout`.
+    page_size : str, optional
+        ``"a4"`` or ``"letter"`` for the reports.
+    seat_pages : str, optional
+        Seat pages of figures, as for :func:`check_layout`.
 
     Returns
     -------
     DemoRun
         Revision A (circular loop) fails at the bottom of its loop; revision B (teardrop
-        loop) passes. Each revision's call is the ``checker check`` command that
-        reproduces it.
+        loop) passes. Each revision's call is the ``checker check`` command that reproduces
+        it.
+
+    Examples
+    --------
+    >>> from checker import run_demo
+    >>> demo = run_demo()
+    >>> [(rev, str(check.verdict)) for rev, _, check in demo.revisions]
+    [('A', 'fail'), ('B', 'pass')]
     """
     here = demo_folder()
     train = here / "thistle_comet_train.toml"

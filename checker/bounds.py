@@ -34,7 +34,26 @@ BYTES_PER_CAR_SAMPLE = 200  # station, speed and rider frame sampled for every c
 
 def number_option(low: float, high: float, unit: str = "", hint: str = "",
                   integer: bool = False) -> Callable[[str], float]:
-    """An argparse type: a finite number (whole if ``integer``) from ``low`` to ``high``."""
+    """An argparse type: a finite number (whole if ``integer``) from ``low`` to ``high``.
+
+    Parameters
+    ----------
+    low, high : float
+        The accepted range, both ends included.
+    unit : str, optional
+        Appended to the range in the message (e.g. ``" Hz"``).
+    hint : str, optional
+        Added to the message after ``;``.
+    integer : bool, optional
+        Parse with ``int`` (a whole number) instead of ``float``.
+
+    Returns
+    -------
+    callable
+        ``parse(text) -> float`` (an ``int`` when ``integer``) for argparse's ``type=``; it
+        raises :class:`argparse.ArgumentTypeError` for text that is not a number, not finite
+        or outside the range.
+    """
     kind = "a whole number" if integer else "a number"
 
     def parse(text: str) -> float:
@@ -52,7 +71,19 @@ def number_option(low: float, high: float, unit: str = "", hint: str = "",
 
 
 def name_option(max_chars: int = 200) -> Callable[[str], str]:
-    """An argparse type: a name of at most ``max_chars`` characters (it titles figures)."""
+    """An argparse type: a name of at most ``max_chars`` characters (it titles figures).
+
+    Parameters
+    ----------
+    max_chars : int, optional
+        The longest name accepted (default 200).
+
+    Returns
+    -------
+    callable
+        ``parse(text) -> str`` for argparse's ``type=``; it raises
+        :class:`argparse.ArgumentTypeError` for a longer name.
+    """
 
     def parse(text: str) -> str:
         if len(text) > max_chars:
@@ -64,7 +95,21 @@ def name_option(max_chars: int = 200) -> Callable[[str], str]:
 
 
 def megabytes_from_env(name: str, upper: float, example: int) -> float | None:
-    """A size [MB] from environment variable ``name`` (None when unset or empty).
+    """A size [MB] from an environment variable.
+
+    Parameters
+    ----------
+    name : str
+        The environment variable (also named as the "file" of the error).
+    upper : float
+        Values must be below this [MB].
+    example : int
+        A sensible value, quoted in the hint [MB].
+
+    Returns
+    -------
+    float or None
+        The size [MB]; None when the variable is unset or empty (blank).
 
     Raises
     ------
@@ -85,6 +130,14 @@ def megabytes_from_env(name: str, upper: float, example: int) -> float | None:
 
 
 def machine_memory_bytes() -> int | None:
+    """The machine's physical memory [bytes], from ``os.sysconf``.
+
+    Returns
+    -------
+    int or None
+        Page size times the number of physical pages; None where ``sysconf`` cannot tell
+        (e.g. Windows).
+    """
     try:
         return os.sysconf("SC_PAGE_SIZE") * os.sysconf("SC_PHYS_PAGES")
     except (AttributeError, ValueError, OSError):
@@ -95,13 +148,31 @@ _parallel = {"runs": 1}  # rides running at once in this machine (a sweep's loca
 
 
 def share_memory(runs: int) -> None:
-    """Set how many rides run at once; each gets that share of the cap (worker initializer)."""
+    """Set how many rides run at once; each gets that share of the cap (worker initializer).
+
+    Parameters
+    ----------
+    runs : int
+        Rides running at once in this machine; values below 1 count as 1.
+    """
     _parallel["runs"] = max(1, int(runs))
 
 
 def memory_cap_bytes() -> int | None:
-    """The memory one ride may take: ``CHECKER_MAX_MEMORY_MB``, else a fraction of the
-    machine's memory, shared by the rides running at once (None: unknown)."""
+    """The memory one ride may take.
+
+    Returns
+    -------
+    int or None
+        ``CHECKER_MAX_MEMORY_MB`` megabytes, else :data:`DEFAULT_MEMORY_FRACTION` of the
+        machine's memory, divided by the rides running at once (:func:`share_memory`)
+        [bytes]; None when no cap is set and the machine's memory is unknown.
+
+    Raises
+    ------
+    InputError
+        When ``CHECKER_MAX_MEMORY_MB`` is not a number above 0 and below 1e9.
+    """
     megabytes = megabytes_from_env(MEMORY_ENV, 1e9, example=4000)
     if megabytes is not None:
         return int(megabytes * 1e6 / _parallel["runs"])
@@ -110,14 +181,50 @@ def memory_cap_bytes() -> int | None:
 
 
 def ride_memory_bytes(seats: int, cars: int, duration_s: float, rate_hz: float) -> float:
-    """Estimated memory of one ride's histories and their evaluation [bytes]."""
+    """Estimated memory of one ride's histories and their evaluation [bytes].
+
+    Parameters
+    ----------
+    seats : int
+        Seats simulated.
+    cars : int
+        Cars of the train.
+    duration_s : float
+        Ride duration [s].
+    rate_hz : float
+        Output sample rate [Hz].
+
+    Returns
+    -------
+    float
+        ``(duration_s * rate_hz + 1) * (seats * BYTES_PER_SEAT_SAMPLE + cars *
+        BYTES_PER_CAR_SAMPLE)`` [bytes].
+    """
     samples = duration_s * rate_hz + 1
     return samples * (seats * BYTES_PER_SEAT_SAMPLE + cars * BYTES_PER_CAR_SAMPLE)
 
 
 def check_memory(seats: int, cars: int, duration_s: float, rate_hz: float,
                  source=None) -> None:
-    """Refuse, before the per-seat work, a ride whose estimate exceeds the memory cap."""
+    """Refuse, before the per-seat work, a ride whose estimate exceeds the memory cap.
+
+    Parameters
+    ----------
+    seats, cars : int
+        Seats and cars of the ride.
+    duration_s : float
+        Ride duration [s].
+    rate_hz : float
+        Output sample rate [Hz].
+    source : str or pathlib.Path or None, optional
+        What to name as the error's file (e.g. the layout).
+
+    Raises
+    ------
+    InputError
+        When :func:`ride_memory_bytes` exceeds :func:`memory_cap_bytes` (no cap: never),
+        or when ``CHECKER_MAX_MEMORY_MB`` is malformed.
+    """
     need = ride_memory_bytes(seats, cars, duration_s, rate_hz)
     cap = memory_cap_bytes()
     if cap is not None and need > cap:

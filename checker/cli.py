@@ -128,8 +128,18 @@ def _add_case_options(p: argparse.ArgumentParser) -> None:
 
 
 def build_parser() -> argparse.ArgumentParser:
-    """The argument parser of every command (adding a command: one ``add_parser`` block here,
-    one ``_cmd_`` function and one entry in :data:`COMMANDS`)."""
+    """The argument parser of every command.
+
+    Adding a command: one ``add_parser`` block here, one ``_cmd_`` function and one entry in
+    :data:`COMMANDS`.
+
+    Returns
+    -------
+    argparse.ArgumentParser
+        The ``checker`` parser with its sub-commands (``simulate``, ``check``,
+        ``check-history``, ``compare``, ``demo``, ``advise-bank``, ``correlate``); numeric
+        options are range-checked by :func:`checker.bounds.number_option`.
+    """
     parser = argparse.ArgumentParser(
         prog="checker",
         description=f"Acceleration-envelope self-check for roller coaster layouts. {CAUTION}")
@@ -234,7 +244,26 @@ def build_parser() -> argparse.ArgumentParser:
 
 
 class Progress:
-    """A one-line progress bar on stderr, only on a terminal."""
+    """A one-line progress bar on stderr, only on a terminal.
+
+    Called as ``progress(done, total)`` (the ``progress`` callback of
+    :func:`checker.sweep.run_cases`); it redraws the bar with a carriage return and ends the
+    line when ``done == total``.
+
+    Parameters
+    ----------
+    label : str
+        Text before the bar.
+    quiet : bool
+        ``--quiet``: draw nothing.
+
+    Attributes
+    ----------
+    label : str
+        As given.
+    active : bool
+        Whether the bar is drawn (not quiet and stderr is a terminal).
+    """
 
     def __init__(self, label: str, quiet: bool) -> None:
         self.label = label
@@ -439,7 +468,38 @@ def _interrupted_message() -> str:
 
 
 def main(argv: Sequence[str] | None = None) -> int:
-    """Run one command; returns its exit code."""
+    """Run one command; returns its exit code.
+
+    The numerical libraries load only after the arguments parse. Errors are printed as one
+    line on stderr: bad input, an output that cannot be written, a dead worker or running out
+    of memory exit 2; an interruption (SIGINT/SIGTERM) exits 130 naming what was written; any
+    other exception is an internal error, exit 3 (the traceback with ``--debug``).
+
+    Parameters
+    ----------
+    argv : sequence of str or None, optional
+        The arguments after the program name; None reads ``sys.argv[1:]``.
+
+    Returns
+    -------
+    int
+        0 every rule holds (or the command ran), 1 at least one finding, stall or (for
+        ``compare``) regression, 2 bad input or usage (also without a command, after printing
+        the help), 3 internal error, 130 interrupted.
+
+    Raises
+    ------
+    SystemExit
+        From argparse: code 2 for a usage error, 0 for ``--help`` and ``--version``.
+
+    Examples
+    --------
+    >>> from checker.cli import main
+    >>> main(["--version"])
+    Traceback (most recent call last):
+        ...
+    SystemExit: 0
+    """
     argv = list(sys.argv[1:] if argv is None else argv)
     parser = build_parser()
     args = parser.parse_args(argv)

@@ -73,9 +73,34 @@ def _text_bytes(cells) -> np.ndarray:
 
 
 def fixed_csv(header: list[str], columns: list[tuple[np.ndarray, int | None]]) -> bytes:
-    """CSV bytes: ``header`` and one row per element of the columns. Each column is
-    (values, decimals) for numbers or (strings, None) for text (str, or bytes in an ``S``
-    array; no commas in text)."""
+    r"""CSV bytes of a header and columns, each number at its own fixed decimals.
+
+    Numbers are rounded to their column's decimals (``numpy.rint``: halves to even),
+    trailing zeros of the fraction are dropped and a value that rounds to zero is ``0``.
+    Values too large for exact integer arithmetic (above about 9e15 once scaled) and
+    non-finite values are formatted one by one with Python's formatting instead.
+
+    Parameters
+    ----------
+    header : list of str
+        Column names, written comma-separated as the first line (not quoted).
+    columns : list of (numpy.ndarray, int or None)
+        One pair per column, all of the same length n: ``(values, decimals)`` for numbers, or
+        ``(strings, None)`` for text (str, or bytes in an ``S`` array; no commas or newlines,
+        nothing is quoted).
+
+    Returns
+    -------
+    bytes
+        UTF-8 CSV: the header line and n data lines, each ending in ``\n``.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from checker.csvformat import fixed_csv
+    >>> fixed_csv(["t_s", "gz"], [(np.array([0.0, 0.005]), 3), (np.array([1.0, -2e-9]), 4)])
+    b't_s,gz\n0,1\n0.005,0\n'
+    """
     parts = []
     n = len(columns[0][0]) if columns else 0
     for k, (values, decimals) in enumerate(columns):

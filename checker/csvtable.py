@@ -33,7 +33,22 @@ NEWLINE, COMMA, HASH, CR = 10, 44, 35, 13
 
 @dataclass(frozen=True)
 class NumericTable:
-    """Columns of a numeric CSV file, with the file line number of every data row."""
+    """Columns of a numeric CSV file, with the file line number of every data row.
+
+    ``len(table)`` is the number of data rows.
+
+    Attributes
+    ----------
+    path : pathlib.Path
+        The file read.
+    columns : dict of str to numpy.ndarray
+        Each numeric column present in the header, float64, shape (rows,), all finite.
+    lines : numpy.ndarray
+        1-based line number in the file of each data row, integer, shape (rows,).
+    text_columns : dict of str to numpy.ndarray
+        Each text column present in the header, its cells stripped of surrounding blank
+        space (object arrays of str, shape (rows,)).
+    """
 
     path: Path
     columns: dict[str, np.ndarray]
@@ -44,6 +59,18 @@ class NumericTable:
         return len(self.lines)
 
     def has(self, name: str) -> bool:
+        """Whether the file had column ``name`` (numeric or text).
+
+        Parameters
+        ----------
+        name : str
+            A column name.
+
+        Returns
+        -------
+        bool
+            True when ``name`` is a key of :attr:`columns` or :attr:`text_columns`.
+        """
         return name in self.columns or name in self.text_columns
 
 
@@ -115,9 +142,38 @@ def read_numeric_csv(
 ) -> NumericTable:
     """Read a comma-separated table with a header row.
 
-    Lines starting with ``#`` and blank lines are skipped. Every column must be known, appear
-    once, and every cell of a numeric column must be a finite plain decimal number. Columns in
-    ``text`` are kept as stripped strings.
+    Lines starting with ``#`` and blank lines are skipped (a lone carriage return counts as
+    blank space). Every column must be known and appear once, every data line must hold the
+    header's number of values, and every cell of a numeric column must be a finite plain
+    decimal number (ASCII digits, optional sign, point and exponent). Columns in ``text``
+    are kept as stripped strings. Nothing is quoted: a quote character is part of the cell.
+
+    Parameters
+    ----------
+    path : str or pathlib.Path
+        The CSV file (UTF-8, read through :func:`checker.textfiles.read_checked_bytes`).
+    required : iterable of str
+        Columns that must be present.
+    optional : iterable of str, optional
+        Further numeric columns that may be present.
+    text : iterable of str, optional
+        Columns that may be present and hold text.
+    what : str, optional
+        What the table is, for the messages (e.g. ``"track centerline"``).
+
+    Returns
+    -------
+    NumericTable
+        The columns present, with the file line of each data row.
+
+    Raises
+    ------
+    InputError
+        Naming the file, the 1-based row and the column where it applies: the file cannot be
+        read or is not UTF-8; it has no header or no data rows; the header is not
+        comma-separated, has an empty, repeated or unknown column name, or lacks a required
+        column; a cell is not a number or not finite (the first such cell in file order); a
+        line has the wrong number of values.
     """
     path = Path(path)
     required = list(required)

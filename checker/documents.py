@@ -44,7 +44,21 @@ STATION_NOTE = (
 
 
 def with_unit(value: float | None, unit: str) -> str:
-    """A value with its unit: 2 decimals in g, 1 in g/s and %, '-' when there is none."""
+    """A value with its unit: 2 decimals in g and m/s, 1 in any other unit (g/s, %), '-' when
+    there is none.
+
+    Parameters
+    ----------
+    value : float or None
+        The value; None or a non-finite value prints as ``-``.
+    unit : str
+        Its unit (``"g"``, ``"g/s"``, ``"%"``, ``"m/s"``...).
+
+    Returns
+    -------
+    str
+        E.g. ``"-0.35 g"``, ``"12.4 g/s"``, ``"-"``.
+    """
     if value is None or not math.isfinite(value):
         return "-"
     digits = {"g": 2, "m/s": 2}.get(unit, 1)
@@ -52,14 +66,41 @@ def with_unit(value: float | None, unit: str) -> str:
 
 
 def margin_text(item) -> str:
-    """The margin of a finding or event with its unit ('stall' for a stall)."""
+    """The margin of a finding or event with its unit ('stall' for a stall).
+
+    Parameters
+    ----------
+    item : Finding or Event
+        Anything with ``kind``, ``margin`` and ``unit``.
+
+    Returns
+    -------
+    str
+        ``"stall"`` for a stall, else :func:`with_unit` of the margin in its unit.
+    """
     if item.kind == "stall":
         return "stall"
     return with_unit(item.margin, item.unit)
 
 
 def event_record(event) -> dict:
-    """One event as a JSON object."""
+    """One event as a JSON object.
+
+    Parameters
+    ----------
+    event : Event
+        An event of :func:`checker.events.group_findings` (after
+        :func:`checker.events.explain_events`, which fills place and remedy).
+
+    Returns
+    -------
+    dict
+        Id, rule, kind, axis and unit; station range [m] (None for recorded data) and time
+        range [s]; place; seats, cases and findings counted, seat and case names; the
+        governing finding's seat, case, peak and limit (in ``peak_unit``), margin (in
+        ``unit``), ``s_worst_m``, ``s_motion_m`` [m], ``t_worst`` [s], attitude and message;
+        the remedy (quantity, value, unit, formula, text) or None. Floats are not rounded here.
+    """
     remedy = event.remedy
     g = event.governing
     return {
@@ -84,8 +125,32 @@ def event_record(event) -> dict:
 def evaluation_document(evaluation: Evaluation, inputs: list[tuple[str, str]],
                         command: str, extra: dict | None = None,
                         events: list | None = None) -> dict:
-    """The JSON record of a check: verdict, events (worst first) and every finding, each
-    naming its event."""
+    """The JSON record of a check: verdict, events (worst first) and every finding, each naming
+    its event.
+
+    Parameters
+    ----------
+    evaluation : Evaluation
+        The check's evaluation.
+    inputs : list of (str, str)
+        ``(file, SHA-256 hex digest)`` of every input.
+    command : str
+        The call that reproduces the run.
+    extra : dict or None, optional
+        Further top-level keys, added last (they replace keys of the same name).
+    events : list of Event or None, optional
+        The events, when already grouped from ``evaluation.findings`` in that order;
+        None groups and explains them here.
+
+    Returns
+    -------
+    dict
+        Tool, version, caution (with the illustrative note when the limits are
+        illustrative), verdict, limits (title, revision, file, SHA-256, filter), inputs,
+        command, warnings, margin convention, station note, per-seat summaries, events,
+        every finding with its ``event`` id and the aids (:func:`checker.aids.aids_document`).
+        Floats are rounded to 6 significant digits and non-finite ones become None.
+    """
     from .events import event_of_finding, explain_events, group_findings
 
     limits = evaluation.limits
@@ -124,11 +189,40 @@ def evaluation_document(evaluation: Evaluation, inputs: list[tuple[str, str]],
 
 
 def to_json(doc: dict) -> str:
+    """The JSON text of a document: indented by 2, keys sorted, a final newline.
+
+    Parameters
+    ----------
+    doc : dict
+        A document of this module (already rounded and free of NaN/inf).
+
+    Returns
+    -------
+    str
+        The text; the same document gives the same bytes.
+    """
     return json.dumps(doc, indent=2, sort_keys=True) + "\n"
 
 
 def events_table(events: list, verdict: str, finding_count: int) -> str:
-    """Terminal view: one line per event, worst first, then the overall verdict."""
+    """Terminal view: one line per event, worst first, then the overall verdict.
+
+    Parameters
+    ----------
+    events : list of Event
+        Explained events, worst first.
+    verdict : str
+        The overall verdict (``"pass"``/``"fail"``), printed upper case.
+    finding_count : int
+        How many findings the events group.
+
+    Returns
+    -------
+    str
+        The table: a header, one line per event (with the stall's cause and the remedy on
+        their own lines), the overall line and, when there are events, a note on margins and
+        places. No trailing newline.
+    """
     head = (f"{'event':<5} {'rule':<24} {'where':<17} {'element':<20} {'seats':>5} "
             f"{'cases':>5}  {'worst margin':>13}  governing")
     lines = [head, "-" * len(head)]
@@ -159,7 +253,20 @@ def events_table(events: list, verdict: str, finding_count: int) -> str:
 
 
 def summary_table(evaluation: Evaluation, events: list | None = None) -> str:
-    """Terminal summary: the events table (see :func:`events_table`)."""
+    """Terminal summary: the events table (see :func:`events_table`).
+
+    Parameters
+    ----------
+    evaluation : Evaluation
+        The check's evaluation.
+    events : list of Event or None, optional
+        The events when already grouped; None groups and explains them here.
+
+    Returns
+    -------
+    str
+        The events table.
+    """
     from .events import explain_events, group_findings
 
     findings = evaluation.findings
@@ -169,7 +276,21 @@ def summary_table(evaluation: Evaluation, events: list | None = None) -> str:
 
 
 def sweep_document(sweep) -> dict:
-    """Cases, the seat x case verdict matrix and the governing finding of each rule."""
+    """Cases, the seat x case verdict matrix and the governing finding of each rule.
+
+    Parameters
+    ----------
+    sweep : Sweep
+        A load-case sweep (:func:`checker.sweep.run_cases`).
+
+    Returns
+    -------
+    dict
+        ``cases`` (case, verdict, number of findings, stall, top speed [m/s], ride time
+        [s]), ``matrix`` (seat -> case -> ``"pass"``/``"fail"``/``"stall"``) and
+        ``governing`` (per rule: seat, case, peak and limit, margin in ``unit``,
+        ``s_worst_m`` [m]); floats rounded to 6 significant digits.
+    """
     seats, cases, cells = sweep.matrix()
     return _clean({
         "cases": [{"case": o.case, "verdict": o.verdict,
@@ -185,7 +306,19 @@ def sweep_document(sweep) -> dict:
 
 
 def sweep_tables(sweep) -> str:
-    """Terminal view of a sweep: governing seat and case per rule, and the verdict matrix."""
+    """Terminal view of a sweep: governing seat and case per rule, and the verdict matrix.
+
+    Parameters
+    ----------
+    sweep : Sweep
+        A load-case sweep.
+
+    Returns
+    -------
+    str
+        The lines (no trailing newline); the matrix numbers the cases and names them
+        below it.
+    """
     lines = ["governing seat and case per rule:"]
     governing = sweep.governing()
     for f in governing:
@@ -212,7 +345,37 @@ def sweep_tables(sweep) -> str:
 def comparison_document(comparison, limits, old_file: str, new_file: str, old_count: int,
                         new_count: int, regressed: bool, new_stalls: list[str],
                         cases: list[str], inputs: list[tuple[str, str]], command: str) -> dict:
-    """The JSON record of a revision comparison."""
+    """The JSON record of a revision comparison.
+
+    Parameters
+    ----------
+    comparison : Comparison
+        The result of :func:`checker.compare.compare_sweeps`.
+    limits : LimitSet
+        The limit set both revisions were checked against.
+    old_file, new_file : str
+        The two layouts' file names.
+    old_count, new_count : int
+        Their numbers of findings.
+    regressed : bool
+        Whether the new revision is worse (the comparison's verdict).
+    new_stalls : list of str
+        Stalls of the new revision, one line each.
+    cases : list of str
+        The load cases' names.
+    inputs : list of (str, str)
+        ``(file, SHA-256 hex digest)`` of every input.
+    command : str
+        The call that reproduces the run.
+
+    Returns
+    -------
+    dict
+        Tool, version, caution, both revisions (file, verdict, findings), ``regression``,
+        ``new_stalls``, limits, cases, inputs, command, peaks and every change (status,
+        rule, seat, case, how it was matched, old and new finding); floats rounded to 6
+        significant digits.
+    """
     return _clean({
         "tool": "checker", "version": __version__,
         "caution": CAUTION + (" " + ILLUSTRATIVE_NOTE if limits.illustrative else ""),
@@ -232,8 +395,19 @@ def comparison_document(comparison, limits, old_file: str, new_file: str, old_co
 
 
 def change_text(change) -> str:
-    """One line of a comparison: status, rule, seat, case, place and the margin before and
-    after with its unit; a gone finding shows its old margin and "gone", a new one "new"."""
+    """One line of a comparison: status, rule, seat, case, place and the margin before and after
+    with its unit; a gone finding shows its old margin and "gone", a new one "new".
+
+    Parameters
+    ----------
+    change : FindingChange
+        One finding change of a comparison.
+
+    Returns
+    -------
+    str
+        The line; the place is the station [m], or the time [s] for recorded data.
+    """
     f = change.new or change.old
     where = (f"{f.s_worst_m:.1f} m" if f.s_worst_m is not None else f"t {f.t_worst:.2f} s")
     before = margin_text(change.old) if change.old is not None else "new"

@@ -14,8 +14,37 @@ from pathlib import Path
 class InputError(Exception):
     """Bad input, located as precisely as the format allows.
 
-    ``row`` is the 1-based line number in a text file (the header is line 1 of a CSV, after any
-    comment lines). ``key`` names a TOML key path such as ``cars.spacing_m``.
+    The message is one line: the file, then ``row``, ``column`` and ``key`` where given, the
+    problem and, after `` -- ``, the hint. The command line prints it and exits with code 2.
+
+    Parameters
+    ----------
+    file : str or pathlib.Path or None
+        The input at fault (a file, or a name such as an environment variable or ``-``);
+        None prints as ``<input>``.
+    problem : str
+        What is wrong.
+    hint : str, optional
+        What to do about it (empty: no hint).
+    row : int or None, optional
+        The 1-based line number in a text file (the header is line 1 of a CSV, after any
+        comment lines).
+    column : str or None, optional
+        The CSV column name.
+    key : str or None, optional
+        A TOML key path such as ``cars.spacing_m``.
+
+    Attributes
+    ----------
+    file, problem, hint, row, column, key
+        As given.
+
+    Examples
+    --------
+    >>> from checker.errors import InputError
+    >>> str(InputError("track.csv", "'x' is not a number", "write a decimal number",
+    ...                row=4, column="z_m"))
+    "track.csv, row 4, column 'z_m': 'x' is not a number -- write a decimal number"
     """
 
     file: str | Path | None
@@ -29,6 +58,13 @@ class InputError(Exception):
         super().__init__(self.message())
 
     def message(self) -> str:
+        """The one-line message: location, problem and `` -- hint``.
+
+        Returns
+        -------
+        str
+            The message with all whitespace runs (newlines included) collapsed to one space.
+        """
         where = [str(self.file) if self.file is not None else "<input>"]
         if self.row is not None:
             where.append(f"row {self.row}")
@@ -48,11 +84,27 @@ class InputError(Exception):
 class TrainStalled(Exception):
     """The train came to rest outside a stopping brake.
 
-    ``cause`` says why: ``"start"`` (no speed at the start), ``"crest"`` (it cannot crest a
-    hill) or ``"inverted"`` / ``"on its side"`` (it stops in an element where the riders would
-    hang in their restraints). ``attitude`` is the riders' attitude there (the worst car):
-    ``"upright"``, ``"on its side"`` or ``"inverted"``. ``station_m`` is the lead car's
-    station, the one station a stall is reported at.
+    Parameters
+    ----------
+    station_m : float
+        The lead car's station where the train comes to rest [m], the one station a stall is
+        reported at.
+    time_s : float
+        Ride time at that point [s].
+    speed_m_s : float
+        Speed there [m/s] (zero or nearly).
+    cause : str, optional
+        Why: ``"start"`` (no speed at the start), ``"crest"`` (it cannot crest a hill; the
+        default) or ``"inverted"`` / ``"on its side"`` (it stops in an element where the riders
+        would hang in their restraints).
+    attitude : str, optional
+        The riders' attitude there (the worst car): ``"upright"`` (default), ``"on its side"``
+        or ``"inverted"``.
+
+    Attributes
+    ----------
+    station_m, time_s, speed_m_s, cause, attitude
+        As given.
     """
 
     def __init__(self, station_m: float, time_s: float, speed_m_s: float,
@@ -65,6 +117,13 @@ class TrainStalled(Exception):
         super().__init__(self.message())
 
     def message(self) -> str:
+        """The one-line message: where the train stops, why, and what to change.
+
+        Returns
+        -------
+        str
+            The message, its advice after `` -- ``.
+        """
         where = (f"with its lead car at station {self.station_m:.1f} m (t = {self.time_s:.2f} s, "
                  f"speed {self.speed_m_s:.2f} m/s)")
         if self.cause == "start":

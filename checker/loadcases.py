@@ -22,7 +22,35 @@ STANDARD_CASES = standard_cases()
 
 @dataclass(frozen=True)
 class LoadCase:
-    """Overrides of one load case; None keeps the train's or operation's value."""
+    """Overrides of one load case; None keeps the train's or operation's value.
+
+    Attributes
+    ----------
+    name : str
+        The case's name (unique within a file).
+    occupancy : str or float or tuple of float or None
+        Seats filled: a word of :data:`OCCUPANCY_WORDS` (``"empty"``, ``"full"``,
+        ``"front-half"``, ``"rear-half"``; with an odd number of cars the half cases fill the
+        larger half), a fraction 0..1 for every car (a Python ``float``), or one fraction per
+        car, lead car first.
+    rider_mass_kg : float or None
+        Mass of one rider [kg].
+    rolling_coefficient : float or None
+        Rolling resistance coefficient [-], replacing the train's.
+    rolling_coefficient_factor : float
+        Factor on the rolling coefficient (the train's or the one above) [-]; default 1.
+    drag_area_m2 : float or None
+        Drag coefficient times frontal area [m^2].
+    air_density_kg_m3 : float or None
+        Air density [kg/m^3].
+    head_wind_m_s : float or None
+        Wind against the direction of travel [m/s] (negative: from behind); air speed is
+        speed plus head wind.
+    start_speed_m_s : float or None
+        Speed at the start of the track [m/s].
+    lift_speed_factor : float
+        Factor on the speed of every lift section [-]; default 1.
+    """
 
     name: str = "nominal"
     occupancy: str | float | tuple[float, ...] | None = None
@@ -36,6 +64,19 @@ class LoadCase:
     lift_speed_factor: float = 1.0
 
     def occupancy_by_car(self, cars: int) -> tuple[float, ...] | None:
+        """The occupancy fraction of each car, or None to keep the train's.
+
+        Parameters
+        ----------
+        cars : int
+            Number of cars of the train.
+
+        Returns
+        -------
+        tuple of float or None
+            One fraction 0..1 per car; a tuple given per car is returned as is (its length is
+            checked by :func:`apply_case`).
+        """
         occ = self.occupancy
         if occ is None:
             return None
@@ -50,6 +91,37 @@ class LoadCase:
 
 
 def load_cases(path: str | Path) -> list[LoadCase]:
+    """Read a load-cases TOML file: ``[[case]]`` tables, each with a ``name``.
+
+    Keys of a case: ``name`` (required, unique), ``occupancy``, ``rider_mass_kg`` (above 0,
+    at most 500), ``rolling_coefficient`` (0 to 0.5), ``rolling_coefficient_factor`` (0 to
+    10), ``drag_area_m2`` (0 to 100), ``air_density_kg_m3`` (above 0, at most 5),
+    ``head_wind_m_s`` (-60 to 60), ``start_speed_m_s`` (0 to 100) and ``lift_speed_factor``
+    (above 0, at most 5); see :class:`LoadCase`.
+
+    Parameters
+    ----------
+    path : str or pathlib.Path
+        The TOML file (:data:`STANDARD_CASES` is the shipped one).
+
+    Returns
+    -------
+    list of LoadCase
+        The cases in file order.
+
+    Raises
+    ------
+    InputError
+        When the file cannot be read or parsed, a name is missing or repeated, a value is of
+        the wrong type or out of range, an occupancy is not a known word, a fraction 0..1 or a
+        non-empty list of fractions, a key is unknown, or the file holds no case.
+
+    Examples
+    --------
+    >>> from checker.loadcases import STANDARD_CASES, load_cases
+    >>> [case.name for case in load_cases(STANDARD_CASES)][:2]
+    ['full-nominal', 'empty']
+    """
     path = Path(path)
     doc = Fields(path, load_toml(path))
     cases = []
@@ -97,7 +169,32 @@ def load_cases(path: str | Path) -> list[LoadCase]:
 
 def apply_case(train: Train, operation: Operation, options: RideOptions,
                case: LoadCase) -> tuple[Train, Operation, RideOptions]:
-    """The train, operation and options of one load case."""
+    """The train, operation and options of one load case.
+
+    Parameters
+    ----------
+    train : Train
+        The train as loaded.
+    operation : Operation
+        The operation as loaded.
+    options : RideOptions
+        The ride options.
+    case : LoadCase
+        The overrides.
+
+    Returns
+    -------
+    tuple of (Train, Operation, RideOptions)
+        New objects (the inputs are not changed): occupancy, rider mass, rolling coefficient
+        (times its factor), drag area and air density on the train; every lift's speed times
+        ``lift_speed_factor`` and the start speed on the operation; the head wind on the
+        options.
+
+    Raises
+    ------
+    InputError
+        When a per-car occupancy does not have one value per car (the error names no file).
+    """
     occ = case.occupancy_by_car(train.car_count)
     if occ is not None and len(occ) != train.car_count:
         raise InputError(None, f"load case '{case.name}' gives occupancy for {len(occ)} cars; "

@@ -48,8 +48,18 @@ def _on_signal(signum, frame):
 
 @contextlib.contextmanager
 def interrupt_handling() -> Iterator[None]:
-    """For the length of a command: SIGINT and SIGTERM raise ``KeyboardInterrupt`` and are
-    remembered (:func:`was_interrupted`); the previous handlers come back afterwards."""
+    """For the length of a command, SIGINT and SIGTERM raise ``KeyboardInterrupt`` and are
+    remembered.
+
+    A context manager. On entry the interruption flag (:func:`was_interrupted`) and the list
+    :data:`written` are cleared; the handlers are installed only in the main thread (elsewhere
+    signals keep their handlers). The previous handlers come back and the flag is cleared on
+    leaving.
+
+    Yields
+    ------
+    None
+    """
     _state["interrupted"] = False
     written.clear()
     saved = {}
@@ -64,11 +74,35 @@ def interrupt_handling() -> Iterator[None]:
 
 
 def was_interrupted() -> bool:
+    """Whether SIGINT or SIGTERM arrived inside :func:`interrupt_handling`.
+
+    Returns
+    -------
+    bool
+        True from the signal until the ``interrupt_handling`` block ends, even when the
+        ``KeyboardInterrupt`` was swallowed by a library.
+    """
     return _state["interrupted"]
 
 
 def check_writable(path: str | Path) -> Path:
-    """Fail early (before any work) for an output that could not be written."""
+    """Fail early (before any work) for an output that could not be written.
+
+    Parameters
+    ----------
+    path : str or pathlib.Path
+        The output path.
+
+    Returns
+    -------
+    pathlib.Path
+        ``path`` as a :class:`~pathlib.Path`.
+
+    Raises
+    ------
+    InputError
+        As :func:`checker.paths.check_output`.
+    """
     return check_output(path)
 
 
@@ -158,13 +192,30 @@ def _folder_locks(folders: list[Path]) -> Iterator[None]:
 def commit(files: dict[str | Path, bytes]) -> list[Path]:
     """Write every file of a run's record, all of them or none.
 
+    Each file is staged beside its target (a temporary file, fsynced); then, with the target
+    folders ``flock``ed and SIGINT/SIGTERM held back, each is renamed over its target. A
+    failed rename puts back the files already replaced. The targets are appended to
+    :data:`written`.
+
     Parameters
     ----------
-    files : {target path: content}. Every target must be distinct.
+    files : dict of (str or pathlib.Path) to bytes
+        Target path -> content. The targets must be distinct files; this is not checked here
+        (:func:`checker.paths.check_run_paths` does it before the run).
 
     Returns
     -------
-    The target paths, in the order given.
+    list of pathlib.Path
+        The target paths, in the order given.
+
+    Raises
+    ------
+    InputError
+        When a target is refused (:func:`checker.paths.check_output`) or a file cannot be
+        written (a full disk included); no target is changed then.
+    KeyboardInterrupt
+        When the run was interrupted (:func:`was_interrupted`) before the renames, even if the
+        first ``KeyboardInterrupt`` was swallowed; nothing is written.
     """
     targets = [check_writable(p) for p in files]
     if was_interrupted():  # a swallowed KeyboardInterrupt must not reach the disk
@@ -223,9 +274,46 @@ def _swap_in(staged: list[tuple[Path, str]]) -> None:
 
 
 def atomic_write_bytes(path: str | Path, data: bytes) -> Path:
-    """Write one file whole (see :func:`commit`)."""
+    """Write one file whole (see :func:`commit`).
+
+    Parameters
+    ----------
+    path : str or pathlib.Path
+        The target.
+    data : bytes
+        Its content.
+
+    Returns
+    -------
+    pathlib.Path
+        The target path.
+
+    Raises
+    ------
+    InputError, KeyboardInterrupt
+        As :func:`commit`.
+    """
     return commit({path: data})[0]
 
 
 def atomic_write_text(path: str | Path, text: str) -> Path:
+    """Write one text file whole, UTF-8 encoded (see :func:`commit`).
+
+    Parameters
+    ----------
+    path : str or pathlib.Path
+        The target.
+    text : str
+        Its content.
+
+    Returns
+    -------
+    pathlib.Path
+        The target path.
+
+    Raises
+    ------
+    InputError, KeyboardInterrupt
+        As :func:`commit`.
+    """
     return atomic_write_bytes(path, text.encode("utf-8"))

@@ -15,9 +15,16 @@ import time
 def watch_parent(parent_pid: int, interval_s: float = 0.5) -> None:
     """Pool initializer: the worker exits when its parent is gone (even after SIGKILL).
 
-    A thread polls the parent's process id; when the worker has been re-parented (the parent
-    died), it ends the worker at once. On Linux the kernel is also asked to send SIGKILL when
-    the parent dies (``prctl(PR_SET_PDEATHSIG)``).
+    A daemon thread polls the parent's process id; when the worker has been re-parented (the
+    parent died), it ends the worker at once with ``os._exit(1)``. On Linux the kernel is also
+    asked to send SIGKILL when the parent dies (``prctl(PR_SET_PDEATHSIG)``).
+
+    Parameters
+    ----------
+    parent_pid : int
+        The process id of the parent that made the pool (``os.getpid()`` there).
+    interval_s : float, optional
+        Polling interval [s] (default 0.5).
     """
     if sys.platform.startswith("linux"):
         try:

@@ -28,7 +28,20 @@ DEFAULT_MAX_INPUT_MB = 256.0
 
 
 def max_input_bytes() -> int:
-    """The largest input file read [bytes]: ``CHECKER_MAX_INPUT_MB`` or the default."""
+    """The largest input file read [bytes]: ``CHECKER_MAX_INPUT_MB`` or the default.
+
+    Returns
+    -------
+    int
+        The cap in bytes (1 MB = 10**6 bytes); :data:`DEFAULT_MAX_INPUT_MB` when the
+        environment variable is unset or empty.
+
+    Raises
+    ------
+    InputError
+        When ``CHECKER_MAX_INPUT_MB`` is set to something that is not a number above 0 and
+        below 1e7.
+    """
     megabytes = megabytes_from_env(MAX_INPUT_ENV, 1e7, example=500)
     return int((DEFAULT_MAX_INPUT_MB if megabytes is None else megabytes) * 1e6)
 
@@ -53,7 +66,24 @@ def _too_large(path: Path, size: int, cap: int) -> InputError:
 
 
 def check_input(path: str | Path) -> Path:
-    """Refuse an input that is missing, not a regular file or larger than the cap."""
+    """Refuse an input that is missing, not a regular file or larger than the cap.
+
+    Parameters
+    ----------
+    path : str or pathlib.Path
+        The input file.
+
+    Returns
+    -------
+    pathlib.Path
+        ``path`` as a :class:`~pathlib.Path`.
+
+    Raises
+    ------
+    InputError
+        When the file does not exist or cannot be examined, is a folder, device, FIFO or
+        socket, or is larger than :func:`max_input_bytes`.
+    """
     path = Path(path)
     try:
         info = os.stat(path)
@@ -72,7 +102,28 @@ def check_input(path: str | Path) -> Path:
 
 
 def read_input_bytes(path: str | Path) -> bytes:
-    """The bytes of an input file, read without blocking and at most up to the cap."""
+    """The bytes of an input file, read without blocking and at most up to the cap.
+
+    The file is opened with ``O_NONBLOCK`` and checked on the open descriptor, so a FIFO
+    with no writer cannot hang the run and a swap between check and read is caught; reading
+    stops one byte past the cap.
+
+    Parameters
+    ----------
+    path : str or pathlib.Path
+        The input file.
+
+    Returns
+    -------
+    bytes
+        The whole content.
+
+    Raises
+    ------
+    InputError
+        When the file is missing, a folder or another non-regular file, unreadable, or
+        larger than :func:`max_input_bytes` (also when it grows past the cap while read).
+    """
     path = Path(path)
     cap = max_input_bytes()
     flags = os.O_RDONLY | getattr(os, "O_NONBLOCK", 0) | getattr(os, "O_BINARY", 0)
@@ -109,8 +160,20 @@ def read_input_bytes(path: str | Path) -> bytes:
 
 
 def report_sidecar(pdf: str | Path, json: str | Path | None) -> Path:
-    """The JSON written beside a PDF report: ``--json`` when given, else the PDF's name with
-    ``.json``."""
+    """The JSON written beside a PDF report.
+
+    Parameters
+    ----------
+    pdf : str or pathlib.Path
+        The PDF report's path.
+    json : str or pathlib.Path or None
+        The ``--json`` path, if given.
+
+    Returns
+    -------
+    pathlib.Path
+        ``json`` when given (not empty), else the PDF's path with the suffix ``.json``.
+    """
     return Path(json) if json else Path(pdf).with_suffix(".json")
 
 
@@ -125,7 +188,27 @@ def _identity(path: Path) -> tuple:
 
 
 def check_output(path: str | Path, option: str = "output") -> Path:
-    """Refuse an output that is not a regular file and not a new name in a writable folder."""
+    """Refuse an output that is not a regular file and not a new name in a writable folder.
+
+    Parameters
+    ----------
+    path : str or pathlib.Path
+        The output path.
+    option : str, optional
+        The option that named it, for the message (default ``"output"``).
+
+    Returns
+    -------
+    pathlib.Path
+        ``path`` as a :class:`~pathlib.Path`.
+
+    Raises
+    ------
+    InputError
+        When the path is ``-``, has no file name (empty, ``.`` or ``..``), exists and is not a
+        regular file, or its folder does not exist or is not writable. A dangling link is
+        accepted (it would be replaced, its target never written).
+    """
     if str(path) == "-":
         raise InputError("-", f"{option} '-' is not supported (outputs are files, written "
                          "whole; the summary goes to the terminal)",
@@ -156,8 +239,23 @@ def check_run_paths(inputs: Iterable[str | Path | None],
                     outputs: Iterable[tuple[str, str | Path | None]]) -> None:
     """Check every output of a run against every input and against each other.
 
-    ``outputs`` holds (option name, path) pairs; None paths are skipped. Raises
-    :class:`InputError` for the first problem found, before any work is done.
+    Called before any work, so that a refused run writes nothing.
+
+    Parameters
+    ----------
+    inputs : iterable of str or pathlib.Path or None
+        The run's input files; None entries are skipped. Each goes through
+        :func:`check_input`.
+    outputs : iterable of (str, str or pathlib.Path or None)
+        ``(option name, path)`` pairs; None paths are skipped. Each goes through
+        :func:`check_output`.
+
+    Raises
+    ------
+    InputError
+        For the first problem found: an input or output refused as above, or an output that
+        is the same file (same device and inode, or the same resolved name when it does not
+        exist yet) as an input or as another output.
     """
     seen: dict[tuple, str] = {}
     for item in inputs:

@@ -27,7 +27,25 @@ NOISE_RMS_PER_M = 0.01  # curvature a 2 mm fit removes, RMS over samples: noisy 
 
 
 def fitting_warnings(geometry: TrackGeometry, line, automatic: bool) -> list[str]:
-    """What the curve fit did about rounded coordinates, and curvature noise left in them."""
+    """What the curve fit did about rounded coordinates, and curvature noise left in them.
+
+    Parameters
+    ----------
+    geometry : TrackGeometry
+        The fitted track.
+    line : Centerline
+        The loaded centerline (its ``resolution_text`` names the grid of a rounded file).
+    automatic : bool
+        Whether the smoothing tolerance was chosen automatically (half the grid of a rounded
+        file) rather than given; only then is the fit reported.
+
+    Returns
+    -------
+    list of str
+        At most two warnings: the automatic fit (tolerance [mm], curvature removed [1/m]),
+        and curvature noise when the 2 mm probe fit removes more than
+        :data:`NOISE_RMS_PER_M` RMS.
+    """
     out = []
     sm = geometry.smoothing
     if automatic and sm is not None:
@@ -49,7 +67,25 @@ def fitting_warnings(geometry: TrackGeometry, line, automatic: bool) -> list[str
 
 
 def track_warnings(geometry: TrackGeometry, points: np.ndarray) -> list[str]:
-    """Unit, sampling and curvature-spike checks on a centerline."""
+    """Unit, sampling and curvature-spike checks on a centerline.
+
+    Parameters
+    ----------
+    geometry : TrackGeometry
+        The fitted track.
+    points : numpy.ndarray
+        The centerline samples, shape (n, 3) [m], z up.
+
+    Returns
+    -------
+    list of str
+        Warnings for: a length above :data:`LONGEST_PLAUSIBLE_M` or a height range above
+        :data:`TALLEST_PLAUSIBLE_M` (feet or millimetres read as metres?), a length below
+        :data:`SHORTEST_PLAUSIBLE_M`, a turn of more than :data:`TURN_PER_SAMPLE_DEG` between
+        samples (the first place, with the count), and the first curvature spike between
+        samples (above :data:`SPIKE_FLOOR` and :data:`SPIKE_RATIO` times the curvature at the
+        samples).
+    """
     out = []
     height = float(np.ptp(points[:, 2]))
     length = geometry.length
@@ -87,7 +123,26 @@ def track_warnings(geometry: TrackGeometry, points: np.ndarray) -> list[str]:
 
 def motion_warnings(geometry: TrackGeometry, motion: RideMotion,
                     operation: Operation) -> list[str]:
-    """Roll rate and the energy check on a simulated ride."""
+    """Roll rate and the energy check on a simulated ride.
+
+    Parameters
+    ----------
+    geometry : TrackGeometry
+        The fitted track.
+    motion : RideMotion
+        The simulated motion (stations [m] and speeds [m/s] at the output times).
+    operation : Operation
+        Start speed and powered sections.
+
+    Returns
+    -------
+    list of str
+        Warnings for: a roll rate (d roll / ds times speed) above :data:`ROLL_RATE_DEG_S`;
+        without a launch, a start speed more than :data:`ENERGY_TOLERANCE_M_S` above what the
+        height range gives (``sqrt(2 g0 h)``); unless a force launch without a speed cap is
+        present, a top speed more than :data:`ENERGY_TOLERANCE_M_S` above
+        ``sqrt(v_p**2 + 2 g0 h)``, ``v_p`` the largest start, lift or launch speed.
+    """
     out = []
     (roll,) = geometry.sample(motion.s, "roll_deg")
     rate = np.abs(np.gradient(roll, motion.s)) * motion.v
@@ -129,7 +184,18 @@ NEIGHBOUR_FACTOR = 4.0  # stretches closer along the track than this x clearance
 
 def history_warnings(signals) -> list[str]:
     """A recorded Gz whose median is far from the 1 g of a seated rider: wrong units or a
-    sensor mounted with its z axis not up."""
+    sensor mounted with its z axis not up.
+
+    Parameters
+    ----------
+    signals : iterable of RecordedSignal
+        Recorded seats, each with ``seat`` and ``g`` (shape (n, 3), [g], x, y, z).
+
+    Returns
+    -------
+    list of str
+        One warning per seat whose median Gz is outside :data:`REST_GZ_RANGE`.
+    """
     out = []
     for sig in signals:
         rest = float(np.median(sig.g[:, 2]))
@@ -141,7 +207,19 @@ def history_warnings(signals) -> list[str]:
 
 
 def filter_warnings(spec) -> list[str]:
-    """A low-pass corner far outside the range usual for ride accelerations."""
+    """A low-pass corner far outside the range usual for ride accelerations.
+
+    Parameters
+    ----------
+    spec : FilterSpec
+        The limit set's filter (``kind``, ``corner_hz`` [Hz]).
+
+    Returns
+    -------
+    list of str
+        Empty for no filter (``kind == "none"``) or a corner within
+        :data:`USUAL_CORNER_HZ`; else one warning.
+    """
     if spec.kind == "none":
         return []
     low, high = USUAL_CORNER_HZ
@@ -154,7 +232,19 @@ def filter_warnings(spec) -> list[str]:
 
 
 def train_clearance_m(train) -> float:
-    """Radius around the rails that a train and its riders take up [m] (rough)."""
+    """Radius around the rails that a train and its riders take up [m] (rough).
+
+    Parameters
+    ----------
+    train : Train
+        The train; its seats' ``left_m`` and ``up_m`` offsets [m] are used.
+
+    Returns
+    -------
+    float
+        The farthest seat's distance from the rails plus :data:`BODY_REACH_M`, at least
+        :data:`MIN_CLEARANCE_M` [m].
+    """
     reach = max((float(np.hypot(s.left_m, s.up_m)) for s in train.seats), default=0.0)
     return max(MIN_CLEARANCE_M, reach + BODY_REACH_M)
 
@@ -165,6 +255,18 @@ def crossing_warnings(geometry: TrackGeometry, clearance_m: float) -> list[str]:
     Points of the station grid are paired with a KD-tree (scipy.spatial.cKDTree); pairs
     closer along the track than ``NEIGHBOUR_FACTOR`` clearances are the same stretch. A
     layout whose ends meet (a circuit) counts distance along the track around the circuit.
+
+    Parameters
+    ----------
+    geometry : TrackGeometry
+        The fitted track (its station grid).
+    clearance_m : float
+        The train's clearance [m] (:func:`train_clearance_m`).
+
+    Returns
+    -------
+    list of str
+        Empty, or one warning naming the closest pair of stations [m] and their distance.
     """
     from scipy.spatial import cKDTree
 

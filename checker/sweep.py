@@ -34,8 +34,31 @@ from .train import Train
 
 @dataclass(frozen=True, eq=False)
 class CaseOutcome:
-    """One load case of a sweep: its evaluation (without signals), stall, peaks [g0],
-    top speed [m/s], ride time [s] and track length [m]."""
+    """One load case of a sweep.
+
+    Attributes
+    ----------
+    case : str
+        The load case's name.
+    evaluation : Evaluation
+        Its evaluation; only the seats in ``kept`` carry their signals (small enough to
+        travel between processes).
+    stall : str or None
+        Where the train stopped short of the end, or None.
+    peaks : dict
+        Seat -> {axis: (min, max)} of the filtered signal [g0].
+    top_speed_m_s : float
+        Highest speed of the ride [m/s].
+    duration_s : float
+        Ride time [s].
+    track_length_m : float
+        Length of the track [m].
+    motion : RideMotion or None
+        The case's simulated motion (:class:`checker.dynamics.RideMotion`).
+    kept : dict
+        Seat -> (SeatResult with its filtered signal, raw SeatHistory) for the seats that can
+        govern an event or a rule across cases (every seat of the sweep's first case).
+    """
 
     case: str
     evaluation: Evaluation  # without signals (small enough to travel between processes)
@@ -56,7 +79,18 @@ class CaseOutcome:
 
 @dataclass(frozen=True, eq=False)
 class Sweep:
-    """Every case of one layout."""
+    """Every case of one layout.
+
+    Attributes
+    ----------
+    outcomes : tuple of CaseOutcome
+        One per load case, in the order the cases were given.
+    limits : LimitSet
+        The limit set used.
+    geometry : TrackGeometry or None
+        The layout's geometry (:class:`checker.geometry.TrackGeometry`), built once for
+        every case.
+    """
 
     outcomes: tuple[CaseOutcome, ...]
     limits: LimitSet
@@ -64,22 +98,40 @@ class Sweep:
 
     @property
     def findings(self) -> list[Finding]:
+        """Every finding of every case, the most severe first (ties: seat, case, start time)."""
         return sorted((f for o in self.outcomes for f in o.evaluation.findings),
                       key=lambda f: (-f.severity, f.seat, f.case, f.t_start))
 
     @property
     def verdict(self) -> str:
+        """``"fail"`` when any case fails (a stall included), else ``"pass"``."""
         return verdict_of(*(o.verdict == "fail" for o in self.outcomes))
 
     def governing(self) -> list[Finding]:
-        """For each rule, the most severe finding (its seat and case govern)."""
+        """For each rule, the most severe finding (its seat and case govern).
+
+        Returns
+        -------
+        list of Finding
+            One per rule that has findings, in the order of :attr:`findings`.
+        """
         best: dict[str, Finding] = {}
         for f in self.findings:
             best.setdefault(f.rule, f)
         return list(best.values())
 
     def matrix(self) -> tuple[list[str], list[str], dict]:
-        """Seats, cases and {(seat, case): "pass", "fail" or "stall"}."""
+        """The seat-by-case verdict matrix.
+
+        Returns
+        -------
+        seats : list of str
+            The seats of the first case, in their order.
+        cases : list of str
+            The cases, in their order.
+        cells : dict
+            ``(seat, case) -> "pass"``, ``"fail"`` or ``"stall"`` (a stall finding at that seat).
+        """
         cases = [o.case for o in self.outcomes]
         seats = [s.seat for s in self.outcomes[0].evaluation.seats] if self.outcomes else []
         cells = {(s.seat, o.case): ("stall" if any(f.kind == "stall" for f in s.findings)
@@ -137,9 +189,43 @@ def run_cases(centerline: Centerline, train: Train, operation: Operation, limits
               scheduler: str | None = None,
               progress: Callable[[int, int], None] | None = None,
               scheduler_timeout_s: float = 30.0) -> Sweep:
-    """Evaluate every case; ``workers`` local processes (default: all cores), or the Dask
-    cluster at ``scheduler`` (``tcp://host:port``), waiting at most ``scheduler_timeout_s``
-    [s] for it and its first worker."""
+    """Evaluate every load case of one layout, in parallel.
+
+    Parameters
+    ----------
+    centerline : Centerline
+        The layout.
+    train : Train
+        The train as loaded (each case overrides it).
+    operation : Operation
+        The operation as loaded (each case overrides it).
+    limits : LimitSet
+        The limit set.
+    options : RideOptions
+        Numerical options (each case may set the head wind).
+    cases : list of LoadCase
+        The load cases (names distinct).
+    workers : int or None, optional
+        Local processes; None (or 0) uses every core, 1 runs in this process.
+    scheduler : str or None, optional
+        A Dask scheduler address (``tcp://host:port``) to run on instead of local processes.
+    progress : callable or None, optional
+        Called as ``progress(done, total)`` in cases after each ride finishes.
+    scheduler_timeout_s : float, optional
+        How long to wait for the scheduler and its first worker [s] (default 30).
+
+    Returns
+    -------
+    Sweep
+        Every case's outcome; the same whichever executor ran them.
+
+    Raises
+    ------
+    InputError
+        When a case does not fit the train (per-car occupancy), a ride is refused (track too
+        short, memory cap), or the Dask scheduler is missing, unreachable, malformed or has
+        no worker in time.
+    """
     return run_layouts([(centerline, train, operation)], limits, options, cases,
                        workers=workers, scheduler=scheduler, progress=progress,
                        scheduler_timeout_s=scheduler_timeout_s)[0]
@@ -150,9 +236,34 @@ def run_layouts(layouts: list[tuple[Centerline, Train, Operation]], limits: Limi
                 scheduler: str | None = None,
                 progress: Callable[[int, int], None] | None = None,
                 scheduler_timeout_s: float = 30.0) -> list[Sweep]:
-    """Every case of every layout in one pool (layouts and rides run in parallel). Each
-    layout's geometry is built once; cases whose train, operation and options come out the
-    same share one ride."""
+    """Every case of every layout in one pool (layouts and rides run in parallel).
+
+    Each layout's geometry is built once; cases whose train, operation and options come out
+    the same share one ride.
+
+    Parameters
+    ----------
+    layouts : list of (Centerline, Train, Operation)
+        The layouts with their train and operation.
+    limits : LimitSet
+        The limit set.
+    options : RideOptions
+        Numerical options.
+    cases : list of LoadCase
+        The load cases (names distinct), applied to every layout.
+    workers, scheduler, progress, scheduler_timeout_s
+        As for :func:`run_cases` (``progress`` counts cases of all layouts).
+
+    Returns
+    -------
+    list of Sweep
+        One per layout, in the order given.
+
+    Raises
+    ------
+    InputError
+        As :func:`run_cases`.
+    """
     jobs, places, geometries = [], [], []
     for i, (line, train, ops) in enumerate(layouts):
         geometry = layout_geometry(line, options)
@@ -257,7 +368,18 @@ def _dask_client(client_class, scheduler: str, timeout_s: float):
 
 
 def peak_summary(sweep: Sweep) -> dict:
-    """{seat: {axis: (min, max)}} over all cases."""
+    """The filtered extremes of every seat over all cases.
+
+    Parameters
+    ----------
+    sweep : Sweep
+        A sweep.
+
+    Returns
+    -------
+    dict
+        ``{seat: {axis: (min, max)}}`` [g0].
+    """
     out: dict = {}
     for o in sweep.outcomes:
         for seat, axes in o.peaks.items():
@@ -270,8 +392,35 @@ def peak_summary(sweep: Sweep) -> dict:
 
 def sweep_check_run(sweep: Sweep, centerline: Centerline, train: Train, operation: Operation,
                     limits: LimitSet, options: RideOptions, cases: list[LoadCase]):
-    """A CheckRun of the whole sweep for documents: every seat x case result, with signals
-    recomputed for the governing (seat, case) pairs so that their figures can be drawn."""
+    """A CheckRun of the whole sweep for documents: every seat x case result, with the kept
+    signals of the governing (seat, case) pairs so that their figures can be drawn.
+
+    Nothing is simulated again: the signals are those kept by the sweep
+    (:attr:`CaseOutcome.kept`); a governing pair whose signals were not kept is drawn without
+    them. The ride is that of the first case with a governing pair (the first case when
+    every case passes).
+
+    Parameters
+    ----------
+    sweep : Sweep
+        The sweep.
+    centerline : Centerline
+        The layout (its geometry is built again only when the sweep has none).
+    train, operation : Train, Operation
+        As loaded (before the cases).
+    limits : LimitSet
+        The limit set.
+    options : RideOptions
+        Numerical options.
+    cases : list of LoadCase
+        The sweep's cases.
+
+    Returns
+    -------
+    CheckRun
+        The evaluation of every seat and case (warnings and stalls prefixed with their case),
+        the ride (None when no case kept a motion) and the raw signals by (seat, case).
+    """
 
     by_name = {c.name: c for c in cases}
     outcome_of = {o.case: o for o in sweep.outcomes}

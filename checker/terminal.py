@@ -29,12 +29,38 @@ def _escape(match: re.Match) -> str:
 
 
 def clean(text: str) -> str:
-    """``text`` with every control character written as a visible escape."""
+    r"""``text`` with every control character written as a visible escape.
+
+    Parameters
+    ----------
+    text : str
+        Text that may come from user files (names of seats, cases, files, cells).
+
+    Returns
+    -------
+    str
+        The text with C0 controls except newline and tab, DEL, C1, U+2028/U+2029 and the
+        bidirectional overrides and isolates written as ``\x1b`` or ``\u202e`` style escapes.
+    """
     return _CONTROL.sub(_escape, text)
 
 
 def shorten(text: str, limit: int = 80) -> str:
-    """``text`` cut to at most ``limit`` characters, the cut marked with '...'."""
+    """``text`` cut to at most ``limit`` characters, the cut marked with '...'.
+
+    Parameters
+    ----------
+    text : object
+        Converted with ``str``.
+    limit : int, optional
+        Longest result [characters] (default 80). Below 4 a cut text keeps one character and
+        the marker, so it is 4 characters long.
+
+    Returns
+    -------
+    str
+        ``text`` unchanged when it fits, else its first ``limit - 3`` characters and ``...``.
+    """
     text = str(text)
     if len(text) <= limit:
         return text
@@ -42,7 +68,24 @@ def shorten(text: str, limit: int = 80) -> str:
 
 
 class TerminalStream:
-    """A text stream that cleans what it is given and survives a closed reader."""
+    """A text stream that cleans what it is given and survives a closed reader.
+
+    Every write goes through :func:`clean`. A ``BrokenPipeError`` (the reader went away) sets
+    :attr:`closed_reader`, points the stream's descriptor at the null device and makes every
+    later write and flush a no-op. Other attributes are those of the wrapped stream.
+
+    Parameters
+    ----------
+    stream : TextIO
+        The stream wrapped (``sys.stdout`` or ``sys.stderr``).
+
+    Attributes
+    ----------
+    stream : TextIO
+        As given.
+    closed_reader : bool
+        True once a write or flush met a closed pipe.
+    """
 
     def __init__(self, stream: TextIO) -> None:
         self.stream = stream
@@ -59,17 +102,44 @@ class TerminalStream:
             return None
 
     def write(self, text: str) -> int:
+        """Write ``text`` cleaned of control characters.
+
+        Parameters
+        ----------
+        text : str
+            The text.
+
+        Returns
+        -------
+        int
+            ``len(text)`` (the length given, not the length of the escaped text), also when the
+            reader has gone.
+        """
         self._guard(self.stream.write, clean(text))
         return len(text)
 
     def write_raw(self, text: str) -> None:
-        """Our own control sequences (the progress bar's carriage return)."""
+        """Write our own control sequences (the progress bar's carriage return) uncleaned.
+
+        Parameters
+        ----------
+        text : str
+            Text from this program only, never from user files.
+        """
         self._guard(self.stream.write, text)
 
     def flush(self) -> None:
+        """Flush the wrapped stream (nothing once the reader has gone)."""
         self._guard(self.stream.flush)
 
     def isatty(self) -> bool:
+        """Whether the wrapped stream is a terminal.
+
+        Returns
+        -------
+        bool
+            ``stream.isatty()``.
+        """
         return self.stream.isatty()
 
     def __getattr__(self, name: str):
@@ -92,7 +162,15 @@ def _silence(stream: TextIO) -> None:
 
 
 def write_raw(stream: TextIO, text: str) -> None:
-    """Write our own control sequences, past the cleaning of a :class:`TerminalStream`."""
+    r"""Write our own control sequences, past the cleaning of a :class:`TerminalStream`.
+
+    Parameters
+    ----------
+    stream : TextIO
+        A :class:`TerminalStream` or any text stream.
+    text : str
+        Text from this program only (e.g. ``"\r"``).
+    """
     if isinstance(stream, TerminalStream):
         stream.write_raw(text)
     else:
@@ -101,7 +179,15 @@ def write_raw(stream: TextIO, text: str) -> None:
 
 @contextmanager
 def terminal_streams() -> Iterator[None]:
-    """Clean stdout and stderr (and survive a closed reader) for the length of a command."""
+    """Clean stdout and stderr (and survive a closed reader) for the length of a command.
+
+    A context manager: ``sys.stdout`` and ``sys.stderr`` are wrapped in
+    :class:`TerminalStream` and restored (after a flush) on leaving.
+
+    Yields
+    ------
+    None
+    """
     saved = sys.stdout, sys.stderr
     sys.stdout, sys.stderr = TerminalStream(sys.stdout), TerminalStream(sys.stderr)
     try:

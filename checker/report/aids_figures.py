@@ -20,7 +20,20 @@ def zones_figure(zones, traces: list[tuple[str, np.ndarray, np.ndarray]], title:
     """Filtered (Gx, Gz) traces over the zone polygons (highest order drawn first, so nested
     diagrams show every band).
 
-    zones: objects with name, order, vertices (m, 2) [g]; traces: (label, gx, gz) [g].
+    Parameters
+    ----------
+    zones : sequence of checker.limits.Zone
+        Objects with ``name``, ``order`` and ``vertices`` (m, 2) [g] in (Gx, Gz).
+    traces : list of (str, numpy.ndarray, numpy.ndarray)
+        (label, gx, gz) [g] of each seat drawn (reduced with
+        :func:`checker.report.figures.path_decimate`, 0.02 g).
+    title : str
+        Figure title.
+
+    Returns
+    -------
+    str
+        The SVG document.
     """
     fig, ax = plt.subplots(figsize=(WIDTH_IN, 2.5))
     for k, z in sorted(enumerate(zones), key=lambda p: -p[1].order):
@@ -48,7 +61,22 @@ def uplift_figure(points: list[tuple[float, float, str]], free_travel_m: float |
                   xlabel: str, title: str) -> str:
     """Peak rise off the seat [m] of every flight against its station (or time).
 
-    points: (station or time, peak [m], seat label).
+    Parameters
+    ----------
+    points : list of (float, float, str)
+        (station [m] or time [s], peak rise [m], seat label) of each flight; the rise is
+        drawn on a log axis.
+    free_travel_m : float or None
+        The limit set's free travel [m]: flights above it are red and the limit is drawn.
+    xlabel : str
+        Label of the x axis (station or time).
+    title : str
+        Figure title.
+
+    Returns
+    -------
+    str
+        The SVG document.
     """
     fig, ax = plt.subplots(figsize=(WIDTH_IN, 1.7))
     if points:
@@ -75,7 +103,22 @@ def uplift_figure(points: list[tuple[float, float, str]], free_travel_m: float |
 
 
 def ratio_figure(t: np.ndarray, ratios: list[tuple[str, np.ndarray]], title: str) -> str:
-    """Sustained combined ratio (a/A)^2 + (b/B)^2 against time, with the limit 1."""
+    """Sustained combined ratio (a/A)^2 + (b/B)^2 against time, with the limit 1.
+
+    Parameters
+    ----------
+    t : numpy.ndarray
+        Time, shape (n,) [s].
+    ratios : list of (str, numpy.ndarray)
+        (label, ratio of shape (n,) [-]) of each curve.
+    title : str
+        Figure title.
+
+    Returns
+    -------
+    str
+        The SVG document.
+    """
     fig, ax = plt.subplots(figsize=(WIDTH_IN, 1.9))
     for label, r in ratios:
         ax.plot(t, r, lw=0.8, label=label)
@@ -93,6 +136,26 @@ def sensitivity_figure(rules: list[str], labels: list[str], effects: np.ndarray,
     """Heat map: the change of each rule's margin for a typical change of each parameter, in
     % of that margin (rows: rules, columns: parameters), so rules of different units compare;
     red loses margin, blue gains it.
+
+    Parameters
+    ----------
+    rules : list of str
+        Row labels (rule and seat).
+    labels : list of str
+        Column labels (parameters).
+    effects : numpy.ndarray
+        Margin change for a typical change of each parameter, shape (rules, parameters), in
+        each rule's unit; NaN where unknown.
+    margins : numpy.ndarray
+        Each rule's margin, shape (rules,), same unit; a margin of (nearly) zero leaves its
+        row blank.
+    title : str
+        Figure title.
+
+    Returns
+    -------
+    str
+        The SVG document.
     """
     scale = np.where(np.abs(margins) > 1e-9, np.abs(margins), np.nan)[:, None]
     rel = 100.0 * effects / scale
@@ -117,7 +180,25 @@ def sensitivity_figure(rules: list[str], labels: list[str], effects: np.ndarray,
 
 def bank_figure(s: np.ndarray, given: np.ndarray, advised: np.ndarray, target: np.ndarray,
                 unmet: np.ndarray, title: str) -> str:
-    """Given and advised bank [deg] against station, with the unsmoothed target."""
+    """Given and advised bank [deg] against station, with the unsmoothed target.
+
+    Parameters
+    ----------
+    s : numpy.ndarray
+        Stations, shape (n,) [m].
+    given, advised, target : numpy.ndarray
+        Bank (roll) at each station, shape (n,) [deg]: as given, as advised, and the
+        unsmoothed roll that cancels Gy at rail level.
+    unmet : numpy.ndarray
+        Bool, shape (n,): where the advice cannot meet every seat (drawn red).
+    title : str
+        Figure title.
+
+    Returns
+    -------
+    str
+        The SVG document.
+    """
     fig, ax = plt.subplots(figsize=(WIDTH_IN, 2.8))
     ax.plot(s, target, color="#bbbbbb", lw=0.8, label="cancelling Gy at rail level")
     ax.plot(s, given, color="#222222", lw=1.0, label="given")
@@ -149,7 +230,23 @@ def _governing(evaluation, rule: str):
 
 
 def aids_section(evaluation, sensitivity=None) -> dict:
-    """Template context of the aids section: tables and SVG figures (not yet assets)."""
+    """Template context of the aids section: tables and SVG figures (not yet assets).
+
+    Parameters
+    ----------
+    evaluation : Evaluation
+        The check; figures use the seats that carry their filtered signal.
+    sensitivity : checker.sensitivity.Sensitivity or None, optional
+        Adds the sensitivity table and heat map when it has rows.
+
+    Returns
+    -------
+    dict
+        ``uplift`` (free travel, the three highest seats, the worst flight, figure),
+        ``zones`` (None without a diagram), ``sustained`` (one entry per sustained rule, its
+        ratio figure at the governing seat with signals) and ``sensitivity`` (or None);
+        each ``figure`` is SVG text (empty when there is nothing to draw).
+    """
     from ..aids import sustained_document, uplift_document, zones_document
 
     limits = evaluation.limits
@@ -230,7 +327,23 @@ def aids_section(evaluation, sensitivity=None) -> dict:
 
 
 def aids_context(evaluation, sensitivity, asset) -> dict:
-    """:func:`aids_section` with every figure handed to ``asset`` (SVG text -> its URL)."""
+    """:func:`aids_section` with every figure handed to ``asset`` (SVG text -> its URL).
+
+    Parameters
+    ----------
+    evaluation : Evaluation
+        The check.
+    sensitivity : checker.sensitivity.Sensitivity or None
+        As for :func:`aids_section`.
+    asset : callable
+        ``asset(svg) -> str``: registers an SVG figure and returns its ``checker-asset:``
+        URL.
+
+    Returns
+    -------
+    dict
+        The section with figure URLs in place of SVG text.
+    """
     section = aids_section(evaluation, sensitivity)
     for part in (section["uplift"], section["zones"], section["sensitivity"],
                  *section["sustained"]):
@@ -242,8 +355,21 @@ def aids_context(evaluation, sensitivity, asset) -> dict:
 def bank_pdf(advice, svg: str, info: dict) -> bytes:
     """A short PDF of a bank advice: caution, figures, plot, inputs and command.
 
-    info: track, output, riders, inputs [(file, sha256)], command, page_size, roll_rate,
-    tolerance, smoothing.
+    Parameters
+    ----------
+    advice : checker.bank.BankAdvice
+        The advice (its ``to_dict`` figures fill the table).
+    svg : str
+        The figure from :func:`bank_figure`.
+    info : dict
+        ``track``, ``output``, ``riders``, ``inputs`` (list of (file, sha256)),
+        ``command``, ``roll_rate`` [deg/s], ``tolerance`` [g] and ``smoothing`` [s] are
+        required; ``page_size`` (``"a4"`` or ``"letter"``) is optional.
+
+    Returns
+    -------
+    bytes
+        The PDF, rendered in memory (nothing is written).
     """
     import jinja2
 

@@ -18,8 +18,25 @@ from .pdf import ASSET_SCHEME, TemplatesOnlyFetcher, render_pdf
 
 
 def comparison_pdf(comparison: Comparison, focus: dict, meta: dict) -> bytes:
-    """focus: seat, case, and for 'old'/'new': (SeatResult with signals, raw signal, ride).
-    meta: project, old_name, new_name, limits (LimitSet), cases, inputs, command, page_size.
+    """The comparison PDF: both elevations, the focus seat's histories and exposure curves, the
+    finding changes and the peaks.
+
+    Parameters
+    ----------
+    comparison : Comparison
+        Peaks and finding changes of the two revisions.
+    focus : dict
+        ``seat``, ``case``, and for ``"old"`` and ``"new"`` a tuple (SeatResult with its
+        filtered signal, raw signal or None, RideResult); the new raw signal is drawn.
+    meta : dict
+        ``project``, ``old_name``, ``new_name``, ``limits`` (LimitSet), ``cases`` (text),
+        ``inputs`` (list of (file, sha256)) and ``command`` are required; ``page_size`` and
+        ``stalls`` (list of str) are optional.
+
+    Returns
+    -------
+    bytes
+        The PDF, rendered in memory (nothing is written).
     """
     env = _env()
     assets: dict[str, str] = {}

@@ -12,8 +12,22 @@ from .pdf import ASSET_SCHEME, TemplatesOnlyFetcher, render_pdf
 
 
 def correlation_pdf(correlations, meta: dict) -> bytes:
-    """correlations: list of checker.correlate.Correlation. meta: project, record_name,
-    track_name, filter, record_method, notes, inputs [(file, sha256)], command, page_size."""
+    """The correlation PDF: a table of per-axis differences and one figure per recorded seat.
+
+    Parameters
+    ----------
+    correlations : list of checker.correlate.Correlation
+        One per recorded seat.
+    meta : dict
+        ``record_name``, ``track_name``, ``filter``, ``inputs`` (list of (file, sha256)) and
+        ``command`` are required; ``project``, ``record_method``, ``notes`` and
+        ``page_size`` (``"a4"`` or ``"letter"``) are optional.
+
+    Returns
+    -------
+    bytes
+        The PDF, rendered in memory (nothing is written).
+    """
     env = _env()
     assets: dict[str, str] = {}
     rows, figs = [], []

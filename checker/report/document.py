@@ -57,15 +57,32 @@ class ReportMeta:
 
     Attributes
     ----------
-    project, layout, revision : labels printed on the title page.
-    page_size : ``"a4"`` or ``"letter"``.
-    command : the call that reproduces the report.
-    inputs : (file, SHA-256) of every input file.
-    parameters : (name, value with unit) of every parameter.
-    method : paragraphs of the method section.
-    stall : where the train stopped short, or None.
-    date : ISO date printed on the report (default today).
-    sweep : :class:`checker.sweep.Sweep` to add the governing and matrix tables, or None.
+    project, layout, revision : str
+        Labels printed on the title page.
+    page_size : str
+        ``"a4"`` or ``"letter"``.
+    command : str
+        The call that reproduces the report.
+    inputs : tuple of (str, str)
+        (file, SHA-256) of every input file.
+    parameters : tuple of (str, str)
+        (name, value with unit) of every parameter.
+    method : tuple of str
+        Paragraphs of the method section (default :data:`METHOD`, the simulation's).
+    stall : str or None
+        Where the train stopped short, or None.
+    date : str
+        ISO date printed on the report (empty: today).
+    sweep : checker.sweep.Sweep or None
+        Adds the governing and matrix tables when given.
+    seat_pages : str
+        Seat pages of figures: ``"all"``, ``"governing"`` (and seats that differ) or
+        ``"none"`` (see :func:`seats_to_show`).
+    recorded : bool
+        A recorded history: the appendix has no case or station column and the report
+        uses the measured-data wording.
+    sensitivity : checker.sensitivity.Sensitivity or None
+        Adds its table and figure to the design aids when given.
     """
 
     project: str = "(not given)"
@@ -155,7 +172,24 @@ def _seat_section(result, signal, limits, worst: bool) -> dict:
 
 
 def ride_statistics(ride, evaluation: Evaluation) -> list[tuple[str, str]]:
-    """Length, heights, speed, time and time below 0 g vertical (filtered, worst seat)."""
+    """Length, heights, speed, time and time below 0 g vertical (filtered, worst seat).
+
+    Parameters
+    ----------
+    ride : RideResult or None
+        The simulated ride (geometry and motion), or None for a recorded history.
+    evaluation : Evaluation
+        The check; only seats with their filtered signal count.
+
+    Returns
+    -------
+    list of (str, str)
+        (label, value with unit): track length [m], height range [m], top speed [m/s and
+        km/h] and ride time [s] for a ride; the largest total time any seat spends with
+        filtered Gz < 0 [s] (samples below 0 times the median step, not the longest single
+        stretch); for a record the sample rates [Hz] and seats checked, for a ride the
+        number of seat and case results.
+    """
     stats = []
     if ride is not None:
         geo, motion = ride.geometry, ride.motion
@@ -266,8 +300,24 @@ SEAT_PAGE_MODES = ("all", "governing", "none")
 
 
 def finding_lines(findings, ids: list[str], recorded: bool = False) -> list[str]:
-    """The appendix table of every finding as fixed-width text lines, header first (one
-    text line per finding lays out far faster than a table of cells)."""
+    """The appendix table of every finding as fixed-width text lines, header first (one text
+    line per finding lays out far faster than a table of cells).
+
+    Parameters
+    ----------
+    findings : list of Finding
+        The findings in the order listed (most severe first).
+    ids : list of str
+        The event id of each finding (same order).
+    recorded : bool, optional
+        Recorded data: leave out the case and station columns.
+
+    Returns
+    -------
+    list of str
+        Header, then one line per finding: number, event, rule, seat, case, start [s],
+        station [m], duration [s], peak, limit and margin with their units (long names cut).
+    """
     head = (f"{'#':>4} {'event':<5} {'rule':<22} {'seat':<12} "
             + ("" if recorded else f"{'case':<16} ")
             + f"{'start [s]':>9} " + ("" if recorded else f"{'station [m]':>11} ")
@@ -287,10 +337,24 @@ def finding_lines(findings, ids: list[str], recorded: bool = False) -> list[str]
 def seats_to_show(events: list[Event], evaluation: Evaluation, mode: str) -> list:
     """Seat results that get a page of figures.
 
-    ``governing`` (the default): the governing seat of each event, then each other seat
-    whose set of events is not contained in that of a seat already shown (its findings
-    differ). ``all``: every seat with a finding. ``none``: no seat page. Without any finding,
-    the most stressed seat, so that a passing report still shows its signals.
+    Parameters
+    ----------
+    events : list of Event
+        The run's events, most severe first.
+    evaluation : Evaluation
+        The check; only seats that carry their filtered signal can be shown.
+    mode : str
+        ``"governing"``: the governing seat of each event, then each other seat whose set of
+        events is not contained in that of a seat already shown (its findings differ).
+        ``"all"``: every seat with a finding. ``"none"``: no seat page. Any other value is
+        taken as ``"governing"``.
+
+    Returns
+    -------
+    list of SeatResult
+        In page order. Without any event (and unless ``"none"``), the most stressed seat
+        (largest departure from the rest level on any axis), so that a passing report still
+        shows its signals.
     """
     if mode == "none":
         return []
@@ -382,9 +446,28 @@ def build_html(evaluation: Evaluation, signals: dict, ride, meta: ReportMeta,
                events: list[Event] | None = None) -> tuple[str, dict[str, str]]:
     """The whole report as HTML with inline CSS, and its SVG figures by asset name.
 
-    signals: {(seat, case): object with raw ``g``, optional ``s``} for the raw traces.
-    ride: a ride result with ``geometry`` and ``motion`` for the layout views, or None.
-    events: the run's events (grouped here from the findings when not given).
+    The figures are drawn in parallel on every core.
+
+    Parameters
+    ----------
+    evaluation : Evaluation
+        The check.
+    signals : dict
+        ``{(seat, case): signal}`` with the raw ``g`` (shape (n, 3) [g]) and optionally ``s``
+        for the raw traces.
+    ride : RideResult or None
+        The ride with ``geometry`` and ``motion`` for the layout views, or None.
+    meta : ReportMeta
+        Labels, provenance and options of the report.
+    events : list of Event or None, optional
+        The run's events (grouped and explained here from the findings when not given).
+
+    Returns
+    -------
+    html : str
+        The report; figures are referenced as ``checker-asset:NAME`` URLs.
+    assets : dict of str to str
+        SVG text by asset name, for :class:`checker.report.pdf.TemplatesOnlyFetcher`.
     """
     env = _env()
     limits = evaluation.limits

@@ -49,7 +49,23 @@ def _svg(fig) -> str:
 
 
 def envelope_decimate(x: np.ndarray, y: np.ndarray, bins: int = 300):
-    """Keep the minimum and maximum of y in each of ``bins`` equal slices (peaks survive)."""
+    """Keep the minimum and maximum of y in each of ``bins`` equal slices (peaks survive).
+
+    Parameters
+    ----------
+    x : numpy.ndarray
+        Abscissa, shape (n,).
+    y : numpy.ndarray
+        Ordinate, shape (n,).
+    bins : int, optional
+        Number of slices (default 300).
+
+    Returns
+    -------
+    x, y : numpy.ndarray
+        The inputs unchanged when ``n <= 2 * bins``; else 2 points per slice (its minimum and
+        maximum, in their order along x).
+    """
     n = len(x)
     if n <= 2 * bins:
         return x, y
@@ -65,7 +81,22 @@ def envelope_decimate(x: np.ndarray, y: np.ndarray, bins: int = 300):
 
 def path_decimate(points: np.ndarray, tolerance: float) -> np.ndarray:
     """Indices of a 2-D path's points, keeping one whenever the path has moved more than
-    ``tolerance`` from the last kept point (no shortcuts across fast excursions)."""
+    ``tolerance`` from the last kept point (no shortcuts across fast excursions).
+
+    Parameters
+    ----------
+    points : numpy.ndarray
+        The path, shape (n, 2), n >= 1.
+    tolerance : float
+        Largest move along either coordinate before a point is kept (same unit as
+        ``points``; a Chebyshev distance).
+
+    Returns
+    -------
+    numpy.ndarray
+        Increasing integer indices; the first and the last point are always kept (the last
+        may appear twice).
+    """
     keep = [0]
     last = points[0]
     for i, p in enumerate(points.tolist()):
@@ -84,8 +115,28 @@ def layout_views(position: np.ndarray, s: np.ndarray, marks: list[tuple[float, s
     (when given) speed and bank against station, so a reader can see the input was
     understood.
 
-    marks: (station [m], label) of each exceedance location; speed: (lead car station [m],
-    speed [m/s]); bank_deg: roll against the level reference at each station of ``s``.
+    Parameters
+    ----------
+    position : numpy.ndarray
+        Track points on the station grid, shape (n, 3) [m], z up.
+    s : numpy.ndarray
+        Stations of those points, shape (n,) [m], increasing.
+    marks : list of (float, str)
+        (station [m], label) of each exceedance location, drawn as crosses.
+    station_every_m : float, optional
+        Spacing of the station ticks on the plan view [m] (default 100).
+    title : str, optional
+        Appended to the plan view's title.
+    speed : (numpy.ndarray, numpy.ndarray) or None, optional
+        (lead car station [m], speed [m/s]) for a speed panel.
+    bank_deg : numpy.ndarray or None, optional
+        Roll against the level reference at each station of ``s`` [deg], right side down
+        positive, for a bank panel.
+
+    Returns
+    -------
+    str
+        The SVG document (from ``<svg``).
     """
     extra = (speed is not None) + (bank_deg is not None)
     ratios = [3, 1.4] + [1.0] * extra
@@ -143,7 +194,21 @@ def layout_views(position: np.ndarray, s: np.ndarray, marks: list[tuple[float, s
 
 
 def elevation_pair(left: tuple, right: tuple, labels: tuple[str, str]) -> str:
-    """Two layouts' elevations side by side; each side is (s [m], z [m], marks)."""
+    """Two layouts' elevations side by side.
+
+    Parameters
+    ----------
+    left, right : tuple
+        ``(s, z, marks)``: stations [m], heights [m] (arrays of shape (n,)) and the stations
+        of finding marks [m] (list, may be empty).
+    labels : (str, str)
+        The two panels' titles.
+
+    Returns
+    -------
+    str
+        The SVG document.
+    """
     fig, axes = plt.subplots(1, 2, figsize=(WIDTH_IN, 2.6), sharey=True)
     for ax, (s, z, marks), label in zip(axes, (left, right), labels):
         ax.plot(s, z, color="#333333", lw=1.0)
@@ -162,8 +227,27 @@ def time_histories(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
                    overlay: tuple[np.ndarray, np.ndarray, str] | None = None) -> str:
     """Gx, Gy, Gz against time: filtered in colour, raw faint behind, findings shaded.
 
-    spans: (t_start, t_end, axis) of each finding; overlay: (t, filtered, label) of a second
-    signal drawn dashed (for comparisons).
+    Parameters
+    ----------
+    t : numpy.ndarray
+        Time, shape (n,) [s].
+    filtered : numpy.ndarray
+        Filtered signal, shape (n, 3) [g], columns gx, gy, gz.
+    raw : numpy.ndarray or None
+        Raw signal, shape (n, 3) [g], or None.
+    spans : list of (float, float, str)
+        (t_start [s], t_end [s], axis) of each finding; an axis such as ``"gx+gz"`` shades
+        both panels.
+    title : str
+        Figure title.
+    overlay : (numpy.ndarray, numpy.ndarray, str) or None, optional
+        (t [s], filtered (m, 3) [g], label) of a second signal drawn dashed (comparisons,
+        correlation).
+
+    Returns
+    -------
+    str
+        The SVG document; each signal is reduced with :func:`envelope_decimate`.
     """
     fig, axes = plt.subplots(3, 1, figsize=(WIDTH_IN, 3.8), sharex=True)
     for i, (ax, axis) in enumerate(zip(axes, ("gx", "gy", "gz"))):
@@ -186,12 +270,27 @@ def time_histories(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
 
 
 def exposure_curves(curves: list[dict], title: str) -> str:
-    """Exposure curves (highest level sustained for at least a duration) against limits,
-    one panel per axis with both directions, each curve drawn only on its own side of the
-    rider-at-rest level (Gz +1, Gx and Gy 0), a legend in every panel.
+    """Exposure curves against limits, one panel per axis with both directions.
 
-    Each dict: name, axis, durations [s], levels [g], limit_durations [s], limit_levels [g],
-    and optionally overlay_durations, overlay_levels with overlay_label.
+    An exposure curve is the highest level sustained for at least a duration. Each curve is
+    drawn only on its own side of the rider-at-rest level (Gz +1, Gx and Gy 0), the side of
+    its limit; a legend in every panel.
+
+    Parameters
+    ----------
+    curves : list of dict
+        Each: ``name``, ``axis`` (``"gx"``, ``"gy"`` or ``"gz"``), ``durations`` [s] and
+        ``levels`` [g] (equal length, increasing durations), ``limit_durations`` [s] and
+        ``limit_levels`` [g]; optionally ``step`` (draw the limit as steps),
+        ``overlay_durations``, ``overlay_levels`` and ``overlay_label`` (a second curve
+        drawn dotted).
+    title : str
+        Figure title.
+
+    Returns
+    -------
+    str
+        The SVG document (durations on a log axis).
     """
     axes_names = [a for a in ("gx", "gy", "gz") if any(c["axis"] == a for c in curves)]
     fig, axes = plt.subplots(1, max(len(axes_names), 1), figsize=(WIDTH_IN, 2.3),
@@ -237,11 +336,35 @@ def event_window(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
                  axes: list[int], span: tuple[float, float], limits: list[tuple[str, float]],
                  title: str, pad_s: float = 1.5,
                  onset: tuple[np.ndarray, float] | None = None) -> str:
-    """A few seconds around an event: the filtered (and raw) signal of its axes, the
-    event's time span shaded and each limit drawn as a dashed line; with ``onset`` = (rate
-    [g/s], limit [g/s]) a second panel shows dG/dt of the filtered signal against +-limit.
+    """A few seconds around an event: the filtered (and raw) signal of its axes, the event's
+    time span shaded and each limit drawn as a dashed line.
 
-    axes: column indices (0 gx, 1 gy, 2 gz); limits: (label, level [g]) lines.
+    Parameters
+    ----------
+    t : numpy.ndarray
+        Time, shape (n,) [s].
+    filtered : numpy.ndarray
+        Filtered signal, shape (n, 3) [g].
+    raw : numpy.ndarray or None
+        Raw signal, shape (n, 3) [g], or None.
+    axes : list of int
+        Column indices to draw (0 gx, 1 gy, 2 gz).
+    span : (float, float)
+        The event's start and end [s].
+    limits : list of (str, float)
+        (label, level [g]) of each limit line.
+    title : str
+        Figure title.
+    pad_s : float, optional
+        Time shown before and after the span [s] (default 1.5).
+    onset : (numpy.ndarray, float) or None, optional
+        (rate, shape (n,) [g/s], limit [g/s]): a second panel shows dG/dt of the filtered
+        signal against +-limit.
+
+    Returns
+    -------
+    str
+        The SVG document.
     """
     names = ("gx", "gy", "gz")
     a, b = span
@@ -280,7 +403,19 @@ def event_window(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
 def combined_scatter(panels: list[dict], title: str) -> str:
     """Filtered pairs of axes against each envelope polygon.
 
-    Each dict: name, axes (a, b), points (n, 2) [g], vertices (m, 2) [g], outside (n,) bool.
+    Parameters
+    ----------
+    panels : list of dict
+        Each: ``name``, ``axes`` (a, b) axis names, ``points`` (n, 2) [g], ``vertices``
+        (m, 2) [g] of the polygon and ``outside`` (n,) bool, the samples outside it (drawn
+        red).
+    title : str
+        Figure title.
+
+    Returns
+    -------
+    str
+        The SVG document; the trajectory is reduced with :func:`path_decimate` (0.04 g).
     """
     n = len(panels)
     fig, axes = plt.subplots(1, max(n, 1), figsize=(WIDTH_IN, 2.2), squeeze=False)

@@ -25,8 +25,23 @@ ASSET_SCHEME = "checker-asset"
 
 
 class TemplatesOnlyFetcher(URLFetcher):
-    """Serves ``file:`` URLs inside the templates folder and the figures made for this
-    report (``checker-asset:NAME``); refuses everything else."""
+    """A weasyprint URL fetcher that serves ``file:`` URLs inside the templates folder and the
+    figures made for this report (``checker-asset:NAME``); it refuses everything else.
+
+    Parameters
+    ----------
+    root : pathlib.Path, optional
+        The folder whose files may be fetched (default: the shipped templates).
+    assets : dict of str to str or None, optional
+        The report's SVG figures by name, served as ``checker-asset:NAME``.
+
+    Attributes
+    ----------
+    root : pathlib.Path
+        ``root`` resolved (links followed).
+    assets : dict of str to str
+        As given (empty when None).
+    """
 
     def __init__(self, root: Path = TEMPLATES, assets: dict[str, str] | None = None) -> None:
         super().__init__(allowed_protocols={"file", ASSET_SCHEME}, allow_redirects=False)
@@ -34,6 +49,27 @@ class TemplatesOnlyFetcher(URLFetcher):
         self.assets = assets or {}
 
     def fetch(self, url, headers=None):  # noqa: D401 - weasyprint's signature
+        """Serve one URL, or refuse it.
+
+        Parameters
+        ----------
+        url : str
+            The URL weasyprint asks for.
+        headers : object, optional
+            Request headers (weasyprint's signature; unused).
+
+        Returns
+        -------
+        weasyprint.urls.URLFetcherResponse
+            An asset as ``image/svg+xml``, or a regular file under :attr:`root` (after resolving
+            links) with its guessed MIME type.
+
+        Raises
+        ------
+        ValueError
+            For any other URL (other schemes, files outside the templates, unknown assets);
+            weasyprint logs it and leaves the resource out.
+        """
         if url.startswith(ASSET_SCHEME + ":") and url[len(ASSET_SCHEME) + 1:] in self.assets:
             body = self.assets[url[len(ASSET_SCHEME) + 1:]].encode("utf-8")
             return URLFetcherResponse(url, body, {"Content-Type": "image/svg+xml"})
@@ -47,7 +83,21 @@ class TemplatesOnlyFetcher(URLFetcher):
 
 
 def render_pdf(html: str, fetcher: TemplatesOnlyFetcher | None = None) -> bytes:
-    """The PDF bytes of the report HTML."""
+    """The PDF bytes of the report HTML.
+
+    Parameters
+    ----------
+    html : str
+        The whole report, CSS inline; relative URLs resolve against the templates folder.
+    fetcher : TemplatesOnlyFetcher or None, optional
+        The URL fetcher (with the report's figures as assets); None serves the templates
+        only. weasyprint's own log is silenced below CRITICAL (refusals are expected).
+
+    Returns
+    -------
+    bytes
+        The PDF, rendered in memory (nothing is written).
+    """
     fetcher = fetcher or TemplatesOnlyFetcher()
     logging.getLogger("weasyprint").setLevel(logging.CRITICAL)  # refusals are expected
     document = HTML(string=html, base_url=TEMPLATES.as_uri() + "/", url_fetcher=fetcher)
