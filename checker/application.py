@@ -42,8 +42,8 @@ from .history import load_record
 from .instrument import load_instrument
 from .limits import LimitSet, load_limits, sha256_of
 from .loadcases import STANDARD_CASES, LoadCase, apply_case, load_cases
-from .outputs import atomic_write_bytes, atomic_write_text, check_writable, commit
-from .paths import report_sidecar
+from .outputs import check_writable, commit
+from .paths import check_distinct, report_sidecar
 from .plausibility import filter_warnings, history_warnings
 from .resources import demo_folder
 from .ride import (
@@ -159,19 +159,27 @@ def _python_call(function: Callable, arguments: Mapping) -> str:
     return f"checker.{function.__name__}({', '.join(parts)})"
 
 
-def _write_json(path: str | Path, document: dict) -> Path:
-    """Write a result's JSON record atomically; returns the path written."""
-    return atomic_write_text(check_writable(path), to_json(document))
+def _write_json(path: str | Path, document: dict, provenance: Provenance) -> Path:
+    """Write a result's JSON record atomically (never over one of its inputs); returns the
+    path written."""
+    (path,) = commit({path: to_json(document).encode("utf-8")}, _input_paths(provenance))
+    return path
+
+
+def _input_paths(provenance: Provenance) -> list[str]:
+    return [f.path for f in provenance.inputs]
 
 
 def _write_pair(pdf_path: str | Path, pdf: Callable[[], bytes], json_path: str | Path | None,
-                json_text: str) -> tuple[Path, Path]:
+                json_text: str, provenance: Provenance) -> tuple[Path, Path]:
     """Render in memory first, then write the PDF and its JSON sidecar together (both or
-    neither, :func:`checker.outputs.commit`)."""
+    neither, :func:`checker.outputs.commit`; never over one of the result's inputs)."""
     pdf_path = check_writable(pdf_path)
     json_path = check_writable(report_sidecar(pdf_path, json_path))
+    check_distinct([json_path, pdf_path], _input_paths(provenance))  # before rendering
     pdf_bytes = pdf()
-    commit({json_path: json_text.encode("utf-8"), pdf_path: pdf_bytes})
+    commit({json_path: json_text.encode("utf-8"), pdf_path: pdf_bytes},
+           _input_paths(provenance))
     return pdf_path, json_path
 
 
@@ -348,7 +356,7 @@ class LayoutCheck:
             When the output's folder does not exist or is not writable, the path is a folder or
             another non-regular file, or the write fails (the old file is kept).
         """
-        return _write_json(path, self.document())
+        return _write_json(path, self.document(), self.provenance)
 
     def write_pdf(self, path: str | Path,
                   json_path: str | Path | None = None) -> tuple[Path, Path]:
@@ -375,7 +383,7 @@ class LayoutCheck:
             write fails; nothing is written then.
         """
         return _write_pair(path, lambda: _report().check_report_pdf(self), json_path,
-                           to_json(self.document()))
+                           to_json(self.document()), self.provenance)
 
 
 def check_layout(track: str | Path, *, train: str | Path | None = None, ideal: bool = False,
@@ -733,7 +741,7 @@ class LayoutComparison:
         InputError
             As :meth:`LayoutCheck.write_json`.
         """
-        return _write_json(path, self.document())
+        return _write_json(path, self.document(), self.provenance)
 
     def write_pdf(self, path: str | Path,
                   json_path: str | Path | None = None) -> tuple[Path, Path]:
@@ -762,7 +770,7 @@ class LayoutComparison:
             raise ValueError("this comparison was made with plot_signals=False; it has no "
                              "signals to draw")
         return _write_pair(path, lambda: _report().comparison_report_pdf(self), json_path,
-                           to_json(self.document()))
+                           to_json(self.document()), self.provenance)
 
 
 def compare_layouts(old: str | Path, new: str | Path, *, train: str | Path | None = None,
@@ -941,9 +949,12 @@ class Simulation:
         Raises
         ------
         InputError
-            When the path cannot be written (see :meth:`LayoutCheck.write_json`).
+            When the path cannot be written or is one of the inputs (see
+            :meth:`LayoutCheck.write_json`).
         """
-        return atomic_write_bytes(check_writable(path), histories_csv(self.ride.histories))
+        (written,) = commit({path: histories_csv(self.ride.histories)},
+                            _input_paths(self.provenance))
+        return written
 
 
 def simulate_ride(track: str | Path, *, train: str | Path | None = None, ideal: bool = False,
@@ -1086,7 +1097,7 @@ class BankAdvisory:
                 "roll_rate": self.settings["roll_rate"],
                 "tolerance": self.settings["tolerance"],
                 "smoothing": self.settings["smoothing"]})
-        commit(files)
+        commit(files, _input_paths(self.provenance))
         return list(files)
 
 
@@ -1232,7 +1243,7 @@ class RideCorrelation:
         InputError
             As :meth:`LayoutCheck.write_json`.
         """
-        return _write_json(path, self.document())
+        return _write_json(path, self.document(), self.provenance)
 
     def write_pdf(self, path: str | Path,
                   json_path: str | Path | None = None) -> tuple[Path, Path]:
@@ -1265,7 +1276,8 @@ class RideCorrelation:
                 "inputs": [(f.path, f.sha256) for f in self.provenance.inputs],
                 "command": self.provenance.call, "page_size": self.labels.page_size})
 
-        return _write_pair(path, render, json_path, to_json(self.document()))
+        return _write_pair(path, render, json_path, to_json(self.document()),
+                           self.provenance)
 
 
 def correlate_ride(record: str | Path, track: str | Path, *, record_units: str = "g",

@@ -22,11 +22,11 @@ import os
 import signal
 import tempfile
 import threading
-from collections.abc import Iterator
+from collections.abc import Iterable, Iterator
 from pathlib import Path
 
 from .errors import InputError
-from .paths import check_output
+from .paths import check_distinct, check_output
 
 try:  # POSIX
     import fcntl
@@ -189,7 +189,7 @@ def _folder_locks(folders: list[Path]) -> Iterator[None]:
             os.close(fd)
 
 
-def commit(files: dict[str | Path, bytes]) -> list[Path]:
+def commit(files: dict[str | Path, bytes], inputs: Iterable[str | Path] = ()) -> list[Path]:
     """Write every file of a run's record, all of them or none.
 
     Each file is staged beside its target (a temporary file, fsynced); then, with the target
@@ -200,8 +200,10 @@ def commit(files: dict[str | Path, bytes]) -> list[Path]:
     Parameters
     ----------
     files : dict of (str or pathlib.Path) to bytes
-        Target path -> content. The targets must be distinct files; this is not checked here
-        (:func:`checker.paths.check_run_paths` does it before the run).
+        Target path -> content. The targets must be distinct files and none of ``inputs``
+        (:func:`checker.paths.check_distinct`, before anything is staged).
+    inputs : iterable of str or pathlib.Path, optional
+        The files the record was made from: never overwritten.
 
     Returns
     -------
@@ -218,6 +220,7 @@ def commit(files: dict[str | Path, bytes]) -> list[Path]:
         first ``KeyboardInterrupt`` was swallowed; nothing is written.
     """
     targets = [check_writable(p) for p in files]
+    check_distinct(targets, inputs)
     if was_interrupted():  # a swallowed KeyboardInterrupt must not reach the disk
         raise KeyboardInterrupt
     staged: list[tuple[Path, str]] = []

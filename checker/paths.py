@@ -187,6 +187,37 @@ def _identity(path: Path) -> tuple:
         return ("name", os.path.normcase(os.path.realpath(path)))
 
 
+def check_distinct(outputs: Iterable[str | Path], inputs: Iterable[str | Path] = ()) -> None:
+    """Refuse an output that is the same file as an input or as another output.
+
+    Parameters
+    ----------
+    outputs : iterable of str or pathlib.Path
+        The files about to be written.
+    inputs : iterable of str or pathlib.Path, optional
+        The files the result was made from (never overwritten).
+
+    Raises
+    ------
+    InputError
+        For the first output that is an input or repeats another output (same device and
+        inode, or the same resolved name when it does not exist yet).
+    """
+    seen: dict[tuple, str] = {}
+    for item in inputs:
+        seen.setdefault(_identity(Path(item)), f"input {item}")
+    for item in outputs:
+        path = Path(item)
+        key = _identity(path)
+        if key in seen:
+            what = seen[key]
+            raise InputError(path, f"output is the same file as the {what}",
+                             "write the output to another file name; inputs are never "
+                             "overwritten" if what.startswith("input") else
+                             "give each output its own file name")
+        seen[key] = f"output {path}"
+
+
 def check_output(path: str | Path, option: str = "output") -> Path:
     """Refuse an output that is not a regular file and not a new name in a writable folder.
 

@@ -19,6 +19,7 @@ from checker.resources import bundled_limits
 
 ROOT = Path(__file__).resolve().parents[1]
 HEAVY = ("pandas", "scipy", "matplotlib", "weasyprint")
+SAMPLES = ROOT / "sample_tracks"
 
 
 def hill_track(folder: Path) -> Path:
@@ -130,3 +131,24 @@ def test_a_command_loads_them(tmp_path):
         f"main(['check', {str(hill_track(tmp_path))!r}, '--ideal', '--start-speed', '5'])\n"
         f"print(sorted(m for m in sys.modules if m in {HEAVY[:2]!r}))")
     assert heavy.splitlines()[-1] == "['pandas', 'scipy']"
+
+
+def test_a_result_never_writes_over_its_inputs(tmp_path):
+    # The command line checks outputs against inputs before the run; from Python the
+    # result's own writers refuse too, and leave the input whole.
+    import shutil
+
+    from checker import check_layout
+    from checker.errors import InputError
+
+    track = tmp_path / "track.csv"
+    shutil.copy(SAMPLES / "thistle_comet_revB.csv", track)
+    before = track.read_bytes()
+    result = check_layout(track, train=SAMPLES / "thistle_comet_train.toml",
+                          operation=SAMPLES / "thistle_comet_revB.operation.toml")
+    with pytest.raises(InputError, match="same file as the input"):
+        result.write_json(track)
+    with pytest.raises(InputError, match="same file as the input"):
+        result.write_pdf(tmp_path / "report.pdf", json_path=track)
+    assert track.read_bytes() == before
+    assert not (tmp_path / "report.pdf").exists()
