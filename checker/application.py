@@ -585,7 +585,9 @@ def check_history(history: str | Path, *, units: str = "g", limits: str | Path |
                          + tuple(record.notes) + tuple(history_warnings(signals))
                          + tuple(evaluation.warnings))
     parameters = (("history units", units if logger is None else "from the instrument"),
-                  ("filter", limit_set.filter.describe()))
+                  ("filter", limit_set.filter.describe()),
+                  ("re-sampling", "none (irregular stamps refused)" if resample_hz is None
+                   else f"irregular parts at {resample_hz:g} Hz"))
     if record.method:
         parameters += (("record conditioning", record.method),)
     return _layout_check(evaluation, {(s.seat, case): s for s in signals}, None, None,

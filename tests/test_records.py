@@ -236,3 +236,23 @@ def test_check_history_reads_a_logger_file_and_refuses_a_bad_instrument(tmp_path
                  "100"]) == 2
     err = capsys.readouterr().err
     assert "mounting.x" in err and len(err.strip().splitlines()) == 1
+
+
+def test_report_method_says_what_was_done_to_the_record(tmp_path):
+    # A record read through an instrument file and re-sampled on request: the report's method
+    # text must say so and must not claim that axes were left alone or stamps never
+    # re-sampled; a plain record keeps the plain wording.
+    from checker import check_history
+    from checker.report import method_of
+
+    rng = np.random.default_rng(5)
+    t = np.arange(0.0, 6.0, 0.01) + rng.uniform(-0.002, 0.002, 600)
+    t[0] = 0.0
+    instrument = write(tmp_path / "i.toml", INSTRUMENT)
+    done = " ".join(method_of(check_history(logger_file(tmp_path, t, rider_signal(t)),
+                                            instrument=instrument, resample_hz=100.0)))
+    assert "re-sampled as stated" in done and "mounting" in done
+    assert "never re-sampled" not in done and "rotate axes" not in done
+    assert "irregular parts re-sampled at 100 Hz" in done and "logger x = rider -y" in done
+    plain = " ".join(method_of(check_history(RECORD)))
+    assert "never re-sampled" in plain and "rotate axes" in plain
