@@ -47,13 +47,9 @@ def write_track(path: Path, points_in_file_units: np.ndarray, decimals: int) -> 
     return path
 
 
-OPEN_CASE = pytest.mark.xfail(strict=True, reason="open: measured 0.056 g of filtered Gz at the "
-                              "start of this loop, which begins mid-curve at full speed")
-
-
 @pytest.mark.parametrize("spacing, grid, units", [
     (0.25, 0.001, "m"), (0.1, 0.001, "m"), (0.25, 0.0001, "m"), (0.1, 0.0001, "m"),
-    pytest.param(0.25, 0.01, "ft", marks=OPEN_CASE), (0.1, 0.01, "ft")])
+    (0.25, 0.01, "ft"), (0.1, 0.01, "ft")])
 def test_rounded_loop_agrees_with_unrounded(tmp_path, spacing, grid, units):
     # The reference is the same loop from unrounded samples (full double precision) through
     # the exact interpolating fit; the rounded file (a CAD export writing 3 or 4 decimals of
