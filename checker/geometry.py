@@ -301,8 +301,10 @@ def _discrepancy_fit(u: np.ndarray, points: np.ndarray, u_all: np.ndarray,
     width h lambda^(1 / (2 PENALTY_ORDER)) [m], about the length it averages over."""
     intervals = len(u) - 1
     h = (u[-1] - u[0]) / intervals
-    before = int(np.ceil((u[0] - u_all[0]) / h))
-    after = int(np.ceil((u_all[-1] - u[-1]) / h))
+    # the knots must reach the outermost continuation; the margin keeps a last-bit rounding
+    # of h from leaving it outside (scipy then refuses the design matrix)
+    before = int(np.ceil((u[0] - u_all[0]) / h + 1e-6))
+    after = int(np.ceil((u_all[-1] - u[-1]) / h + 1e-6))
     knots = u[0] + h * np.arange(-degree - before, intervals + after + degree + 1)
     basis = BSpline.design_matrix(u_all, knots, degree).tocsc()
     count = basis.shape[1]
