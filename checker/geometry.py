@@ -48,6 +48,12 @@ PENALTY_ORDER = 5
 END_FIT_M = 2.0
 END_DEGREE = 5
 END_GHOST_M = 0.5
+# Then the ends are continued by the fit's own curvature (END_PASSES refits) over
+# END_GHOST_WIDTHS fit widths, the curvature a straight line through the last
+# END_WINDOW_WIDTHS widths (fit width: h lambda^(1 / (2 PENALTY_ORDER)), h the knot spacing).
+END_PASSES = 3
+END_GHOST_WIDTHS = 3.0
+END_WINDOW_WIDTHS = 4.5
 # Curvature-noise probe: a smoothing fit within this tolerance [m] is compared with the fit
 # used; noise shows as curvature the probe removes (RMS over the samples).
 NOISE_PROBE_M = 0.002
@@ -361,7 +367,7 @@ def _with_end_extensions(u: np.ndarray, points: np.ndarray, tolerance_m: float):
 
 
 def _penalized_fit(points: np.ndarray, u: np.ndarray, degree: int,
-                   tolerance_m: float) -> BSpline:
+                   tolerance_m: float, end_passes: int = END_PASSES) -> BSpline:
     """The smoothest spline on ``knots`` whose RMS distance from the samples is ``tolerance_m``.
 
     A penalized B-spline (P-spline) on equally spaced knots (one interval per sample on
@@ -371,7 +377,9 @@ def _penalized_fit(points: np.ndarray, u: np.ndarray, degree: int,
     that the sum of squared distances equals n * tolerance_m^2 (the discrepancy principle).
     High-order differences penalize the change of curvature, where rounding and CAD noise
     show, and leave circles and clothoids nearly untouched. The samples are first continued
-    past both ends (:func:`_with_end_extensions`).
+    past both ends (:func:`_with_end_extensions`), then ``end_passes`` times by the last
+    fit's own curvature (:func:`_curvature_continuation`); continuations are fitted through
+    but not counted in the discrepancy.
 
     References
     ----------
@@ -380,10 +388,33 @@ def _penalized_fit(points: np.ndarray, u: np.ndarray, degree: int,
     by the method of regularization", Soviet Math. Dokl. 7, 1966 (discrepancy principle).
     """
     u_all, points_all = _with_end_extensions(u, points, tolerance_m)
+    spline, log_lam, width = _discrepancy_fit(u, points, u_all, points_all, degree,
+                                              tolerance_m)
+    half = 0.5 * (u[-1] - u[0])
+    for _ in range(end_passes):
+        ghost, window = min(END_GHOST_WIDTHS * width, half), min(END_WINDOW_WIDTHS * width, half)
+        u_a, p_a = _curvature_continuation(spline, u[0], -1.0, window, ghost)
+        u_b, p_b = _curvature_continuation(spline, u[-1], 1.0, window, ghost)
+        spline, log_lam, width = _discrepancy_fit(
+            u, points, np.concatenate([u_a, u, u_b]), np.concatenate([p_a, points, p_b]),
+            degree, tolerance_m, near=log_lam)
+    return spline
+
+
+def _discrepancy_fit(u: np.ndarray, points: np.ndarray, u_all: np.ndarray,
+                     points_all: np.ndarray, degree: int,
+                     tolerance_m: float,
+                     near: float | None = None) -> tuple[BSpline, float, float]:
+    """The P-spline through the samples and their continuations ``u_all``, ``points_all``
+    (sorted, containing ``u``), lambda set by the samples' discrepancy alone (searched within
+    a decade of 10^``near`` first). Returns the spline, log10 of its relative lambda and its
+    width h lambda^(1 / (2 PENALTY_ORDER)) [m], about the length it averages over."""
     intervals = len(u) - 1
     h = (u[-1] - u[0]) / intervals
-    before = int(np.ceil((u[0] - u_all[0]) / h))
-    after = int(np.ceil((u_all[-1] - u[-1]) / h))
+    # the knots must reach the outermost continuation; the margin keeps a last-bit rounding
+    # of h from leaving it outside (scipy then refuses the design matrix)
+    before = int(np.ceil((u[0] - u_all[0]) / h + 1e-6))
+    after = int(np.ceil((u_all[-1] - u[-1]) / h + 1e-6))
     knots = u[0] + h * np.arange(-degree - before, intervals + after + degree + 1)
     basis = BSpline.design_matrix(u_all, knots, degree).tocsc()
     count = basis.shape[1]
@@ -393,7 +424,8 @@ def _penalized_fit(points: np.ndarray, u: np.ndarray, degree: int,
     normal = (basis.T @ basis).tocsc()
     penalty = (diff.T @ diff).tocsc()
     rhs = basis.T @ points_all
-    points = points_all
+    first = int(np.searchsorted(u_all, u[0]))
+    samples = basis[first:first + len(u)]  # the continuations carry no rounding to count
     scale = normal.diagonal().mean() / penalty.diagonal().mean()
     target = len(points) * tolerance_m**2
 
@@ -401,12 +433,64 @@ def _penalized_fit(points: np.ndarray, u: np.ndarray, degree: int,
         return splu((normal + (scale * 10.0**log_lam) * penalty).tocsc()).solve(rhs)
 
     def excess(log_lam: float) -> float:
-        residual = basis @ coefficients(log_lam) - points
+        residual = samples @ coefficients(log_lam) - points
         return float(np.sum(residual**2)) - target
 
     low, high = -14.0, 14.0
+    if near is not None and excess(near - 1.0) < 0 < excess(near + 1.0):
+        low, high = near - 1.0, near + 1.0
     log_lam = high if excess(high) <= 0 else brentq(excess, low, high, xtol=0.01)
-    return BSpline(knots, coefficients(log_lam), degree, axis=0)
+    width = h * (scale * 10.0**log_lam) ** (1.0 / (2 * PENALTY_ORDER))
+    return BSpline(knots, coefficients(log_lam), degree, axis=0), log_lam, float(width)
+
+
+def _curvature_continuation(spline: BSpline, u_end: float, sign: float, window: float,
+                            length: float) -> tuple[np.ndarray, np.ndarray]:
+    """Points continuing ``spline`` past ``u_end`` (sign -1: before the start, +1: after the
+    end) by its own curvature, at the knot spacing, over ``length`` [m].
+
+    The curvature vector's components in a rotation-minimizing (Bishop) frame are fitted by a
+    straight line over the last ``window`` of the curve and carried on; the continuation is
+    integrated from the end's position and frame (classical Runge-Kutta). A circle continues
+    as the circle, a clothoid as the clothoid, a helix nearly as the helix, so the penalty
+    does not bend the ends toward a polynomial.
+
+    Reference: R. L. Bishop, "There is more than one way to frame a curve", American
+    Mathematical Monthly 82(3), 1975 (the frame equations T' = k1 M1 + k2 M2, M' = -k T).
+    """
+    h = (spline.t[-1] - spline.t[0]) / (len(spline.t) - 1)
+    inward = np.linspace(0.0, window, max(int(np.ceil(window / (0.5 * h))), 4) + 1)
+    u = u_end - sign * inward
+    d1, d2 = _eval(spline, u, 1), _eval(spline, u, 2)
+    speed = np.linalg.norm(d1, axis=1)
+    tangent = d1 / speed[:, None]
+    curv = (d2 - np.einsum("ij,ij->i", d2, tangent)[:, None] * tangent) / speed[:, None] ** 2
+    seed = np.array([1.0, 0.0, 0.0]) if abs(tangent[0, 0]) < 0.9 else np.array([0, 1.0, 0])
+    m1 = rotation_minimizing_up(_eval(spline, u), tangent,
+                                _unit(seed - seed @ tangent[0] * tangent[0]))
+    m2 = np.cross(tangent, m1)
+    slope1, k1 = np.polyfit(inward, np.einsum("ij,ij->i", curv, m1), 1)
+    slope2, k2 = np.polyfit(inward, np.einsum("ij,ij->i", curv, m2), 1)
+
+    def rate(t: float, y: np.ndarray) -> np.ndarray:  # y = (position, T, M1, M2); t outward
+        c1, c2 = k1 - slope1 * t, k2 - slope2 * t
+        return sign * np.concatenate([y[3:6], c1 * y[6:9] + c2 * y[9:12],
+                                      -c1 * y[3:6], -c2 * y[3:6]])
+
+    steps = max(int(np.ceil(length / h)), 1)
+    dt = length / steps
+    y = np.concatenate([_eval(spline, np.array([u_end]))[0], tangent[0], m1[0], m2[0]])
+    out = np.empty((steps, 3))
+    for i in range(steps):
+        t = i * dt
+        a = rate(t, y)
+        b = rate(t + dt / 2, y + dt / 2 * a)
+        c = rate(t + dt / 2, y + dt / 2 * b)
+        d = rate(t + dt, y + dt * c)
+        y = y + dt / 6 * (a + 2 * b + 2 * c + d)
+        out[i] = y[:3]
+    u_out = u_end + sign * dt * np.arange(1, steps + 1)
+    return (u_out[::-1], out[::-1]) if sign < 0 else (u_out, out)
 
 
 def _fit_centerline(points: np.ndarray, smoothing_m: float):
@@ -563,7 +647,7 @@ def build_geometry(
     noise = None
     if smoothing_m < NOISE_PROBE_M and len(points) >= 8:
         probe = _penalized_fit(points, u, 5 if len(points) >= QUINTIC_MIN_SAMPLES else 3,
-                               NOISE_PROBE_M)
+                               NOISE_PROBE_M, end_passes=0)
         noise = _smoothing_report(points, probe, spline, u, sample_s, NOISE_PROBE_M)
     return TrackGeometry(s, position, tangent, left_v, up_v, curv, omega, domega, roll,
                          torsion, sample_s, report, noise)
