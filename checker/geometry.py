@@ -30,8 +30,8 @@ from scipy.interpolate import (
     make_interp_spline,
     make_smoothing_spline,
 )
+from scipy.linalg import solveh_banded
 from scipy.optimize import brentq
-from scipy.sparse.linalg import splu
 
 WORLD_UP = np.array([0.0, 0.0, 1.0])
 STATION_STEP_M = 0.2  # default station grid step [m] of every ride
@@ -429,8 +429,14 @@ def _discrepancy_fit(u: np.ndarray, points: np.ndarray, u_all: np.ndarray,
     scale = normal.diagonal().mean() / penalty.diagonal().mean()
     target = len(points) * tolerance_m**2
 
+    # both matrices are symmetric and banded: Cholesky on the band (LAPACK pbtrf/pbtrs) is
+    # O(count) per lambda
+    width_band = max(degree, PENALTY_ORDER)
+    normal_band, penalty_band = (_upper_band(m, width_band) for m in (normal, penalty))
+
     def coefficients(log_lam: float) -> np.ndarray:
-        return splu((normal + (scale * 10.0**log_lam) * penalty).tocsc()).solve(rhs)
+        return solveh_banded(normal_band + (scale * 10.0**log_lam) * penalty_band, rhs,
+                             check_finite=False)
 
     def excess(log_lam: float) -> float:
         residual = samples @ coefficients(log_lam) - points
@@ -442,6 +448,15 @@ def _discrepancy_fit(u: np.ndarray, points: np.ndarray, u_all: np.ndarray,
     log_lam = high if excess(high) <= 0 else brentq(excess, low, high, xtol=0.01)
     width = h * (scale * 10.0**log_lam) ** (1.0 / (2 * PENALTY_ORDER))
     return BSpline(knots, coefficients(log_lam), degree, axis=0), log_lam, float(width)
+
+
+def _upper_band(matrix, width: int) -> np.ndarray:
+    """A symmetric sparse matrix as LAPACK upper band storage (``width`` + 1 rows)."""
+    count = matrix.shape[0]
+    band = np.zeros((width + 1, count))
+    for k in range(width + 1):
+        band[width - k, k:] = matrix.diagonal(k)
+    return band
 
 
 def _curvature_continuation(spline: BSpline, u_end: float, sign: float, window: float,
