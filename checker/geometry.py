@@ -216,35 +216,32 @@ def rotation_minimizing_up(points: np.ndarray, tangent: np.ndarray,
     W. Wang, B. Juettler, D. Zheng and Y. Liu, "Computation of rotation minimizing frames",
     ACM Transactions on Graphics 27(1), article 2, 2008.
     """
-    n = len(points)
-    out = np.empty((n, 3))
-    rx, ry, rz = (float(c) for c in first_up)
-    out[0] = first_up
-    pts = points.tolist()
-    tans = tangent.tolist()
-    for i in range(n - 1):
-        (x0, y0, z0), (x1, y1, z1) = pts[i], pts[i + 1]
-        (tx, ty, tz), (ux, uy, uz) = tans[i], tans[i + 1]
-        v1x, v1y, v1z = x1 - x0, y1 - y0, z1 - z0
-        c1 = v1x * v1x + v1y * v1y + v1z * v1z
-        k = 2.0 / c1 * (v1x * rx + v1y * ry + v1z * rz)
-        rlx, rly, rlz = rx - k * v1x, ry - k * v1y, rz - k * v1z
-        k = 2.0 / c1 * (v1x * tx + v1y * ty + v1z * tz)
-        tlx, tly, tlz = tx - k * v1x, ty - k * v1y, tz - k * v1z
-        v2x, v2y, v2z = ux - tlx, uy - tly, uz - tlz
-        c2 = v2x * v2x + v2y * v2y + v2z * v2z
-        if c2 > 1e-30:
-            k = 2.0 / c2 * (v2x * rlx + v2y * rly + v2z * rlz)
-            rx, ry, rz = rlx - k * v2x, rly - k * v2y, rlz - k * v2z
-        else:
-            rx, ry, rz = rlx, rly, rlz
-        # re-orthogonalize against rounding drift
-        d = rx * ux + ry * uy + rz * uz
-        rx, ry, rz = rx - d * ux, ry - d * uy, rz - d * uz
-        norm = (rx * rx + ry * ry + rz * rz) ** 0.5
-        rx, ry, rz = rx / norm, ry / norm, rz / norm
-        out[i + 1] = (rx, ry, rz)
-    return out
+    points = np.asarray(points, dtype=float)
+    tangent = np.asarray(tangent, dtype=float)
+    # Each step's double reflection is a fixed linear map M_i = H2 H1 (it does not depend on
+    # the normal it carries), so the normals are a prefix product of 3 x 3 maps, taken in
+    # log2(n) batched rounds (Hillis-Steele scan) instead of a loop over the samples.
+    chord = np.diff(points, axis=0)
+    first_reflection = _householder(chord)
+    tang_reflected = np.einsum("nij,nj->ni", first_reflection, tangent[:-1])
+    second_reflection = _householder(tangent[1:] - tang_reflected)
+    prefix = second_reflection @ first_reflection  # M_i: normal at i -> normal at i + 1
+    step = 1
+    while step < len(prefix):
+        prefix[step:] = prefix[step:] @ prefix[:-step]
+        step *= 2
+    up = np.vstack([first_up, prefix @ np.asarray(first_up, dtype=float)])
+    # rounding drift: back onto the plane normal to the tangent, unit length
+    up -= np.sum(up * tangent, axis=1)[:, None] * tangent
+    return up / np.linalg.norm(up, axis=1)[:, None]
+
+
+def _householder(normal: np.ndarray) -> np.ndarray:
+    """Reflections (n, 3, 3) in the planes with the given normals (identity where a normal
+    vanishes, as when consecutive tangents agree)."""
+    length_sq = np.sum(normal * normal, axis=1)
+    scale = np.divide(2.0, length_sq, out=np.zeros_like(length_sq), where=length_sq > 1e-30)
+    return np.eye(3) - scale[:, None, None] * normal[:, :, None] * normal[:, None, :]
 
 
 def _bridge_gaps(s: np.ndarray, values: np.ndarray, good: np.ndarray) -> np.ndarray:

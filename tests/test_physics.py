@@ -264,3 +264,29 @@ def test_smoothing_tolerance_recovers_curvature_of_noisy_samples():
     report = smooth.smoothing
     assert report is not None and report.max_deviation_m < 0.015
     assert report.max_curvature_removed > 0.5 * raw_err
+
+
+def test_rotation_minimizing_normals_equal_the_stepwise_double_reflection():
+    # The batched prefix product against the double reflection applied step by step, as
+    # published (Wang, Juettler, Zheng and Liu, ACM TOG 27(1), 2008, algorithm 1), on a
+    # helix whose tangent turns in two planes at once.
+    from checker.geometry import rotation_minimizing_up
+
+    s = np.linspace(0.0, 60.0, 601)
+    pts = np.column_stack([8 * np.cos(s / 10), 8 * np.sin(s / 10), 0.3 * s])
+    tan = np.gradient(pts, s, axis=0)
+    tan /= np.linalg.norm(tan, axis=1)[:, None]
+    r = np.array([0.0, 0.0, 1.0]) - tan[0, 2] * tan[0]
+    r /= np.linalg.norm(r)
+    expected = [r]
+    for i in range(len(s) - 1):
+        v1 = pts[i + 1] - pts[i]
+        c1 = v1 @ v1
+        r_l = r - 2 / c1 * (v1 @ r) * v1
+        t_l = tan[i] - 2 / c1 * (v1 @ tan[i]) * v1
+        v2 = tan[i + 1] - t_l
+        c2 = v2 @ v2
+        r = r_l - 2 / c2 * (v2 @ r_l) * v2
+        expected.append(r)
+    got = rotation_minimizing_up(pts, tan, expected[0])
+    np.testing.assert_allclose(got, np.array(expected), atol=1e-12)
