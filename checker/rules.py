@@ -736,49 +736,75 @@ def duration_margin(x: np.ndarray, dt: float, rule: DurationLimit) -> float:
     # past the table's last corner the allowed level stays put while the exposure can only
     # fall: no longer window can do worse than that corner's
     last_corner = max(int(np.ceil(float(rule.durations_s[-1]) / dt - 1e-9)), 1)
-    longest = min(widest, last_corner)
-    return min(best, _margin_over_durations(SustainedWindows(compressed, longest), longest,
-                                            dt, rule, best))
+    return min(best, _margin_over_durations(compressed, min(widest, last_corner), dt, rule,
+                                            best))
 
 
-def _margin_over_durations(windows: SustainedWindows, longest: int, dt: float,
-                           rule: DurationLimit, best: float) -> float:
+def _margin_over_durations(x: np.ndarray, longest: int, dt: float, rule: DurationLimit,
+                           best: float) -> float:
     """The same margin as min over window lengths k of allowed(k dt) - E(k), E the exposure
-    (largest window minimum) of the compressed signal, by branch and bound on k: E at k
-    needs one pass over the sparse table, and between two evaluated lengths k1 < k2 no
-    length does better than allowed(k2 dt) - E(k1) (both are non-increasing in k)."""
-    x, table = windows.x, windows.table
-    count = len(x)
+    (largest window minimum) of the compressed signal ``x`` (-inf barriers), by branch and
+    bound on k: between two evaluated lengths k1 < k2 no length does better than
+    allowed(k2 dt) - E(k1) (both are non-increasing in k).
 
-    def exposure(k: int) -> float:
-        level = k.bit_length() - 1
-        if level >= len(table) or k > count:  # longer than any run between barriers
-            return -np.inf
-        t = table[level]
-        return float(np.max(np.minimum(t[: count - k + 1], t[k - (1 << level): count
-                                                               - (1 << level) + 1])))
+    E(k) is one pass over the power-of-two minima of level floor(log2 k). Those are rolled
+    up one level at a time and only the current level is kept (memory of a few copies of
+    the signal, whatever the longest window): a coarse grid of lengths first, ascending,
+    then the branch and bound inside each power-of-two range of k in turn.
+    """
+    count = len(x)
+    top = min(longest, count)
 
     def allowed(k: int) -> float:
         return float(rule.sign * rule.allowed(np.array([k * dt]))[0])
 
-    top = longest  # no longer window matters
+    def levels():  # (level, minima of x[i:i + 2^level]) for level 0, 1, ...
+        minima, level = x, 0
+        while True:
+            yield level, minima
+            span = 1 << level
+            if 2 * span > count:
+                return
+            minima, level = np.minimum(minima[:-span], minima[span:]), level + 1
+
+    def exposure(k: int, level: int, minima: np.ndarray) -> float:
+        span = 1 << level
+        return float(np.max(np.minimum(minima[: count - k + 1],
+                                       minima[k - span: count - span + 1])))
+
     grid = {1, top} | {int(k) for k in np.unique(np.rint(np.geomspace(1, top, 24)))}
     for d in rule.durations_s:  # the table's corners, and either side of them
         k = int(np.ceil(d / dt - 1e-9))
         grid |= {min(max(k + j, 1), top) for j in (-1, 0, 1)}
-    known = {k: exposure(k) for k in sorted(grid)}
+    known: dict[int, float] = {}
+    pending = sorted(grid)
+    for level, minima in levels():  # the grid, ascending
+        while pending and pending[0].bit_length() - 1 == level:
+            k = pending.pop(0)
+            known[k] = exposure(k, level, minima)
+        if not pending:
+            break
     best = min([best] + [allowed(k) - e for k, e in known.items() if np.isfinite(e)])
-    gaps = sorted(known)
-    stack = [(a, b) for a, b in zip(gaps[:-1], gaps[1:]) if b > a + 1]
-    while stack:
-        a, b = stack.pop()
-        if not np.isfinite(known[a]) or allowed(b) - known[a] >= best:
-            continue
-        mid = (a + b) // 2
-        known[mid] = exposure(mid)
-        if np.isfinite(known[mid]):
-            best = min(best, allowed(mid) - known[mid])
-        stack += [(lo, hi) for lo, hi in ((a, mid), (mid, b)) if hi > lo + 1]
+    for level, minima in levels():  # branch and bound, one power-of-two range at a time
+        lo, hi = 1 << level, min((2 << level) - 1, top)
+        if lo > top:
+            break
+        for k in (lo, hi):
+            if k not in known:
+                known[k] = exposure(k, level, minima)
+                if np.isfinite(known[k]):
+                    best = min(best, allowed(k) - known[k])
+        marks = sorted(k for k in known if lo <= k <= hi)
+        stack = [(a, b) for a, b in zip(marks[:-1], marks[1:]) if b > a + 1]
+        while stack:
+            a, b = stack.pop()
+            if not np.isfinite(known[a]) or allowed(b) - known[a] >= best:
+                continue
+            mid = (a + b) // 2
+            known[mid] = exposure(mid, level, minima)
+            if np.isfinite(known[mid]):
+                best = min(best, allowed(mid) - known[mid])
+            stack += [(p, q) for p, q in ((a, mid), (mid, b)) if q > p + 1]
     return best
 
 

@@ -176,6 +176,9 @@ class Sensitivity:
                 "skipped": dict(self.skipped), "rows": [r.to_dict() for r in self.rows]}
 
 
+CHUNK = 1 << 16  # samples traced at once (bounded temporaries)
+
+
 def _polygon_margin(pair: np.ndarray, env) -> float:
     """-100 x the largest outside fraction of the samples [% of the envelope]. For a polygon
     that is star-shaped about the rest point, a sample at distance d from it has a fraction
@@ -194,8 +197,23 @@ def _polygon_margin(pair: np.ndarray, env) -> float:
         r_min = float(np.min(np.hypot(*(rel + along[:, None] * edge).T)))
         r_max = float(np.max(np.hypot(rel[:, 0], rel[:, 1])))
         if r_min > 0:
-            away &= dist >= (dist.max() / r_max) * r_min * (1 - 1e-9)
-    return -100.0 * float(np.max(ray_fraction(env.vertices, center, pair[away])))
+            # the farthest sample's exact fraction bounds the answer from below; a sample
+            # can beat a bound f only when d / r_min - 1 >= f. Chunks keep the temporaries
+            # small, and each one's answer raises the bound for the rest.
+            far = int(np.argmax(np.where(away, dist, -np.inf)))
+            best = float(ray_fraction(env.vertices, center, pair[far:far + 1])[0])
+            best = max(best, float(dist[far]) / r_max - 1.0)
+            left = np.flatnonzero(away & (dist >= (best + 1.0) * r_min * (1 - 1e-9)))
+            while left.size:
+                chunk, left = left[:CHUNK], left[CHUNK:]
+                best = max(best, float(np.max(ray_fraction(env.vertices, center,
+                                                           pair[chunk]))))
+                left = left[dist[left] >= (best + 1.0) * r_min * (1 - 1e-9)]
+            return -100.0 * best
+    idx = np.flatnonzero(away)
+    return -100.0 * max(float(np.max(ray_fraction(env.vertices, center,
+                                                  pair[idx[i:i + CHUNK]])))
+                        for i in range(0, idx.size, CHUNK))
 
 
 def rule_margins(filtered: np.ndarray, dt: float, limits: LimitSet, t: np.ndarray,

@@ -121,6 +121,18 @@ def _runs(mask: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     return edges[::2], edges[1::2] - 1
 
 
+def _inside(vertices: np.ndarray, points: np.ndarray) -> np.ndarray:
+    """:func:`checker.limits.contains`, with the points inside an ellipse inscribed in the
+    polygon (about its bounding-box centre or the rest point) taken as inside at once."""
+    from .rules import inscribed_ellipse
+
+    ellipse = inscribed_ellipse(vertices, np.array([0.0, 1.0]))  # rest: (Gx, Gz) = (0, 1)
+    inside = ellipse.holds(points[:, 0], points[:, 1])
+    rest = np.flatnonzero(~inside)
+    inside[rest] = contains(vertices, points[rest])
+    return inside
+
+
 def seat_zones(gx: np.ndarray, gz: np.ndarray, t: np.ndarray, zones: tuple[Zone, ...],
                station: np.ndarray | None = None,
                position: np.ndarray | None = None) -> ZoneSummary:
@@ -154,7 +166,7 @@ def seat_zones(gx: np.ndarray, gz: np.ndarray, t: np.ndarray, zones: tuple[Zone,
     pts = np.column_stack([gx, gz])
     level = np.full(len(t), len(zones))  # index of each sample's zone; len(zones): outside
     for k in range(len(zones) - 1, -1, -1):  # the least-restraint zone containing it wins
-        level[contains(zones[k].vertices, pts)] = k
+        level[_inside(zones[k].vertices, pts)] = k
     inside_any = level < len(zones)
     reached = []
     for k, zone in enumerate(zones):

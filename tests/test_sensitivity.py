@@ -92,12 +92,15 @@ def test_fast_ray_fraction_equals_the_general_routine():
     np.testing.assert_allclose(ray_fraction(notched, c, pts), outside_fraction(notched, c, pts))
 
 
-def test_polygon_margin_skips_only_samples_that_cannot_be_the_worst():
+@pytest.mark.parametrize("chunk", [7, 1 << 16])
+def test_polygon_margin_skips_only_samples_that_cannot_be_the_worst(monkeypatch, chunk):
     """The distance pre-test of the envelope margin against every sample traced through
     checker.limits.outside_fraction (checked against shapely in test_rules)."""
+    from checker import sensitivity
     from checker.limits import CombinedEnvelope, outside_fraction
     from checker.sensitivity import _polygon_margin
 
+    monkeypatch.setattr(sensitivity, "CHUNK", chunk)  # several chunks, or one
     rng = np.random.default_rng(11)
     theta = np.linspace(0, 2 * np.pi, 40, endpoint=False)
     for _ in range(40):

@@ -84,3 +84,18 @@ def test_zones_in_a_limits_file_and_their_errors(tmp_path):
     path.write_text(head + zone.format(n="x", o=1, v="[[0, 0], [1, 1], [1, 0], [0, 1]]"))
     with pytest.raises(InputError, match="self-intersecting"):
         load_limits(path)
+
+
+def test_ellipse_screen_classifies_as_the_polygon_test():
+    # Points inside the inscribed ellipse are taken as inside without the polygon test; the
+    # answer must equal checker.limits.contains (itself checked against shapely) everywhere.
+    from checker.limits import contains
+    from checker.zones import _inside
+
+    rng = np.random.default_rng(3)
+    theta = np.linspace(0, 2 * np.pi, 9, endpoint=False)
+    for _ in range(30):
+        radius = rng.uniform(0.4, 2.5, 9)
+        poly = np.column_stack([radius * np.cos(theta), 1.0 + radius * np.sin(theta)])
+        pts = rng.normal([0.0, 1.0], rng.uniform(0.2, 2.0), (2000, 2))
+        np.testing.assert_array_equal(_inside(poly, pts), contains(poly, pts))
