@@ -170,6 +170,7 @@ def load_record(path: str | Path, units: str = "g", instrument: Instrument | Non
         raw = np.column_stack([table.columns[c][idx] for c in dict(instrument.groups)[
             name if len(instrument.groups) > 1 else instrument.groups[0][0]]])
         g = instrument.to_rider(raw)
+        del raw  # the logger-axis copy is not needed past here
         if len(t) < MIN_SAMPLES:
             raise InputError(path, f"seat '{name}' has {len(t)} samples; at least "
                              f"{MIN_SAMPLES} are needed", "export the whole ride",
@@ -197,6 +198,7 @@ def load_record(path: str | Path, units: str = "g", instrument: Instrument | Non
                 notes.append(f"seat '{label}' (rows {lines[part[0]]}-{lines[part[-1]]}) has "
                              f"only {len(part)} samples between gaps: left out")
                 continue
+            part = slice(int(part[0]), int(part[-1]) + 1)  # contiguous: views, not copies
             pt, pg = t[part], g[part]
             s = table.columns["s"][idx][part] if has_xyz else None
             pos = (np.column_stack([table.columns[c][idx][part] for c in "xyz"])
@@ -224,8 +226,8 @@ def _streams(path: Path, table, instrument: Instrument) -> list[tuple[str, np.nd
     """(seat name, row indices) for every seat: by seat column, by column group, or one."""
     if len(instrument.groups) > 1:
         return [(name, np.arange(len(table))) for name, _ in instrument.groups]
-    if instrument.seat_column is None:
-        return [(instrument.groups[0][0], np.arange(len(table)))]
+    if instrument.seat_column is None:  # every row, as a slice: columns are not copied
+        return [(instrument.groups[0][0], slice(None))]
     return _seat_rows(table, path, instrument.seat_column)
 
 
@@ -330,14 +332,19 @@ def _zero_offset_note(name: str, t: np.ndarray, g: np.ndarray, tolerance: float)
     width = int(round(REST_WINDOW_S / step))
     if width < 4 or len(t) < width + 1:
         return []
-    csum = np.cumsum(np.vstack([np.zeros(3), g]), axis=0)
-    csq = np.cumsum(np.vstack([np.zeros(3), g * g]), axis=0)
     # windows starting every tenth of a window: a stretch at rest lasts far longer than
-    # that, and the statistics of ~10 x fewer windows cost ~10 x less
+    # that, and the statistics of ~10 x fewer windows cost ~10 x less; one axis at a time
+    # (running sums of one column: a long record's memory stays near its own size)
     first = np.arange(0, len(g) - width + 1, max(1, width // 10))
-    mean = (csum[first + width] - csum[first]) / width
-    var = np.maximum((csq[first + width] - csq[first]) / width - mean**2, 0.0)
-    spread = np.sqrt(var).max(axis=1)
+    mean = np.empty((len(first), 3))
+    spread = np.zeros(len(first))
+    for axis in range(3):
+        column = g[:, axis]
+        total = np.concatenate([[0.0], np.cumsum(column)])
+        mean[:, axis] = (total[first + width] - total[first]) / width
+        total = np.concatenate([[0.0], np.cumsum(column * column)])
+        var = np.maximum((total[first + width] - total[first]) / width - mean[:, axis]**2, 0.0)
+        np.maximum(spread, np.sqrt(var), out=spread)
     steady = np.abs(np.linalg.norm(mean, axis=1) - 1.0) < REST_MAGNITUDE_G
     quiet = steady & (spread < REST_STD_G)
     if not quiet.any():
