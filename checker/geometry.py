@@ -194,8 +194,10 @@ def rotation_minimizing_up(points: np.ndarray, tangent: np.ndarray,
     """A rotation-minimizing (zero-twist) normal field along a sampled curve.
 
     Each step reflects the current normal in the bisector plane of the chord, then in the
-    plane that maps the reflected tangent onto the next tangent (double reflection); the
-    result is re-orthogonalized against the next tangent and normalized.
+    plane that maps the reflected tangent onto the next tangent (double reflection). The two
+    reflections of a step do not depend on the normal they carry, so the normals are the
+    prefix products of those maps, applied to ``first_up``; the results are then
+    re-orthogonalized against their tangents and normalized (rounding drift).
 
     Parameters
     ----------
@@ -370,7 +372,7 @@ def _penalized_fit(points: np.ndarray, u: np.ndarray, degree: int,
     A penalized B-spline (P-spline) on equally spaced knots (one interval per sample on
     average, extended past both ends so that every coefficient is alike): least squares on
     the samples plus lambda times the sum of squared PENALTY_ORDER-th differences of the
-    coefficients, solved as one sparse banded system. Lambda is found by root-finding so
+    coefficients, solved as one banded Cholesky system. Lambda is found by root-finding so
     that the sum of squared distances equals n * tolerance_m^2 (the discrepancy principle).
     High-order differences penalize the change of curvature, where rounding and CAD noise
     show, and leave circles and clothoids nearly untouched. The samples are first continued
