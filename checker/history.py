@@ -34,7 +34,6 @@ from .instrument import Instrument
 
 MIN_SAMPLES = 8  # fewer samples per seat cannot be filtered or checked meaningfully
 STEP_TOLERANCE = 0.01  # a step may differ from the median step by 1 %
-MIN_SAMPLES = 8
 GAP_STEPS = 10  # without a stated max_gap_s, a step this many times the median is a gap
 ANTI_ALIAS_FRACTION = 0.8  # anti-alias corner as a fraction of the new Nyquist frequency
 REST_WINDOW_S = 1.0
@@ -278,7 +277,7 @@ def resample(t: np.ndarray, g: np.ndarray, rate_hz: float):
     (4th-order Butterworth applied forward and backward by ``scipy.signal.sosfiltfilt``: zero
     phase, corner ANTI_ALIAS_FRACTION x rate_hz / 2) so that what the new rate cannot carry
     does not fold back (Nyquist-Shannon sampling theorem). A signal too short for
-    ``sosfiltfilt``'s padding is not filtered.
+    ``sosfiltfilt``'s padding is not filtered, and its note says so.
 
     Parameters
     ----------
@@ -318,8 +317,11 @@ def resample(t: np.ndarray, g: np.ndarray, rate_hz: float):
         sos = signal.butter(4, ANTI_ALIAS_FRACTION * rate_hz / 2, fs=own_rate, output="sos")
         if len(fine_t) > 3 * (2 * len(sos) + 1):
             fine = signal.sosfiltfilt(sos, fine, axis=0)
+            note += f" after an anti-alias low-pass at {ANTI_ALIAS_FRACTION * rate_hz / 2:g} Hz"
+        else:
+            note += (" without an anti-alias low-pass (the stretch is too short to filter: "
+                     "what the new rate cannot carry may fold back)")
         t, g = fine_t, fine
-        note += f" after an anti-alias low-pass at {ANTI_ALIAS_FRACTION * rate_hz / 2:g} Hz"
     count = int(np.floor((t[-1] - t[0]) * rate_hz + 1e-9)) + 1
     new_t = t[0] + np.arange(count) / rate_hz
     new_g = np.column_stack([np.interp(new_t, t, g[:, i]) for i in range(g.shape[1])])
