@@ -27,9 +27,9 @@ from .caution import CAUTION
 from .compare import ChangeState, Comparison, compare_sweeps
 from .documents import (
     BUNDLED_LIMITS,
-    change_text,
     comparison_document,
     evaluation_document,
+    event_change_text,
     summary_table,
     sweep_document,
     sweep_tables,
@@ -529,12 +529,13 @@ class LayoutComparison:
         lines = [f"old {self.old_name}: {c.old_verdict.upper()} ({len(self.old.findings)} "
                  f"findings); new {self.new_name}: {c.new_verdict.upper()} "
                  f"({len(self.new.findings)} findings)",
-                 "findings: " + ", ".join(f"{c.count(k)} {k}" for k in
-                                          ChangeState)]
-        for change in c.changes:
+                 "events: " + ", ".join(f"{c.count_events(k)} {k}" for k in ChangeState)
+                 + "; findings: " + ", ".join(f"{c.count(k)} {k}" for k in ChangeState)]
+        for change in c.events:
             if change.status is ChangeState.SAME:
                 continue
-            lines.append("  " + change_text(change))
+            lines.append("  " + event_change_text(change))
+        lines.append("  (every finding's change: the JSON's \"changes\")")
         lines.append(f"{'seat':<14}" + "".join(f"{a + ' ' + k:>16}" for a in ("gx", "gy", "gz")
                                                for k in ("min", "max")))
         by_seat: dict = {}
@@ -642,8 +643,11 @@ def compare_layouts(old: str | Path, new: str | Path, *, train: str | Path | Non
         [(old_line, the_train, old_ops), (new_line, the_train, new_ops)], limit_set, options,
         case_list, workers=workers, scheduler=scheduler, progress=progress,
         scheduler_timeout_s=scheduler_timeout_s)
+    heights = [seat.up_m for seat in the_train.seats]
     comparison = compare_sweeps(old_sweep, new_sweep, old_sweep.outcomes[0].track_length_m,
-                                new_sweep.outcomes[0].track_length_m)
+                                new_sweep.outcomes[0].track_length_m, the_train.length_m,
+                                old_ops.sections, new_ops.sections,
+                                max(heights) if heights else None)
     old_stalls = {o.case for o in old_sweep.outcomes if o.stall}
     new_stalls = tuple(f"new revision, case {o.case}: {o.stall}" for o in new_sweep.outcomes
                        if o.stall and o.case not in old_stalls)
@@ -1020,8 +1024,46 @@ class DemoRun:
         except OSError as exc:
             raise InputError(out, f"cannot create the output folder ({exc.strerror})",
                              "choose another --out folder") from None
-        return [check.write_pdf(out / f"thistle_comet_rev{rev}.pdf")
-                for rev, _, check in self.revisions]
+        paths = [check_writable(out / f"thistle_comet_rev{rev}.pdf")
+                 for rev, _, _ in self.revisions]
+        for path in paths:
+            check_writable(report_sidecar(path, None))
+        pdfs = _report_pdfs_concurrently([check for _, _, check in self.revisions])
+        return [_write_pair(path, lambda pdf=pdf: pdf, None, to_json(check.document()))
+                for path, pdf, (_, _, check) in zip(paths, pdfs, self.revisions)]
+
+
+_PENDING_REPORTS: tuple = ()  # the checks a forked report worker renders (by index)
+
+
+def _pending_report_pdf(index: int) -> bytes:
+    return _report().check_report_pdf(_PENDING_REPORTS[index])
+
+
+def _report_pdfs_concurrently(checks: list[LayoutCheck]) -> list[bytes]:
+    """The report PDF of each check, the first rendered here and the others at the same
+    time in a forked worker (weasyprint runs on one core; each report still draws its
+    figures on every core)."""
+    import os
+
+    if len(checks) < 2 or (os.cpu_count() or 1) < 2:
+        return [_report().check_report_pdf(c) for c in checks]
+    import multiprocessing
+    from concurrent.futures import ProcessPoolExecutor
+
+    from .parentwatch import watch_parent
+
+    report = _report()  # imported once, before the fork
+    global _PENDING_REPORTS
+    _PENDING_REPORTS = tuple(checks)  # a forked worker sees them; nothing is pickled
+    try:
+        with ProcessPoolExecutor(1, mp_context=multiprocessing.get_context("fork"),
+                                 initializer=watch_parent, initargs=(os.getpid(),)) as pool:
+            others = [pool.submit(_pending_report_pdf, i) for i in range(1, len(checks))]
+            first = report.check_report_pdf(checks[0])
+            return [first] + [f.result() for f in others]
+    finally:
+        _PENDING_REPORTS = ()
 
 
 def run_demo(*, page_size: str = "a4", seat_pages: str = "governing") -> DemoRun:
