@@ -200,7 +200,11 @@ def layout_views(position: np.ndarray, s: np.ndarray, marks: list[tuple[float, s
         plan.legend(loc="best")
         elev.legend(["track", "exceedance"], loc="best", fontsize=6)
     elev.set_xlim(0.0, s[-1])
-    fig.tight_layout()
+    # fixed margins (inches) instead of tight_layout, which draws the whole figure once more
+    height, rows, gap = fig.get_figheight(), 2 + extra, 0.72  # gap: x label and next title
+    usable = height - 0.3 - 0.5
+    fig.subplots_adjust(left=0.1, right=0.98, top=1.0 - 0.3 / height, bottom=0.5 / height,
+                        hspace=gap * rows / (usable - gap * (rows - 1)))
     return _svg(fig)
 
 
