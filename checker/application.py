@@ -15,6 +15,7 @@ The PDF room (matplotlib, weasyprint) loads on the first PDF written; see :func:
 from __future__ import annotations
 
 import inspect
+import os
 import shlex
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, replace
@@ -1018,52 +1019,158 @@ class DemoRun:
         InputError
             When the folder cannot be made.
         """
-        out = Path(folder)
-        try:
-            out.mkdir(parents=True, exist_ok=True)
-        except OSError as exc:
-            raise InputError(out, f"cannot create the output folder ({exc.strerror})",
-                             "choose another --out folder") from None
+        out = _demo_folder_made(folder)
         paths = [check_writable(out / f"thistle_comet_rev{rev}.pdf")
                  for rev, _, _ in self.revisions]
         for path in paths:
             check_writable(report_sidecar(path, None))
-        pdfs = _report_pdfs_concurrently([check for _, _, check in self.revisions])
+        report = _report()  # imported once, before the fork
+        later = [_Forked(report.check_report_pdf, check) for _, _, check in self.revisions[1:]]
+        try:
+            pdfs = [report.check_report_pdf(self.revisions[0][2])] + [f.result() for f in later]
+        finally:  # interrupted or failed: no child is left behind
+            for forked in later:
+                forked.stop()
         return [_write_pair(path, lambda pdf=pdf: pdf, None, to_json(check.document()))
                 for path, pdf, (_, _, check) in zip(paths, pdfs, self.revisions)]
 
 
-_PENDING_REPORTS: tuple = ()  # the checks a forked report worker renders (by index)
-
-
-def _pending_report_pdf(index: int) -> bytes:
-    return _report().check_report_pdf(_PENDING_REPORTS[index])
-
-
-def _report_pdfs_concurrently(checks: list[LayoutCheck]) -> list[bytes]:
-    """The report PDF of each check, the first rendered here and the others at the same
-    time in a forked worker (weasyprint runs on one core; each report still draws its
-    figures on every core)."""
-    import os
-
-    if len(checks) < 2 or (os.cpu_count() or 1) < 2:
-        return [_report().check_report_pdf(c) for c in checks]
-    import multiprocessing
-    from concurrent.futures import ProcessPoolExecutor
+def _forked_child(send, function, args) -> None:
+    import signal
 
     from .parentwatch import watch_parent
 
-    report = _report()  # imported once, before the fork
-    global _PENDING_REPORTS
-    _PENDING_REPORTS = tuple(checks)  # a forked worker sees them; nothing is pickled
+    # the parent handles interruption and ends this child: no handler of its own here
+    signal.signal(signal.SIGINT, signal.SIG_DFL)
+    signal.signal(signal.SIGTERM, signal.SIG_DFL)
+    watch_parent(os.getppid())
     try:
-        with ProcessPoolExecutor(1, mp_context=multiprocessing.get_context("fork"),
-                                 initializer=watch_parent, initargs=(os.getpid(),)) as pool:
-            others = [pool.submit(_pending_report_pdf, i) for i in range(1, len(checks))]
-            first = report.check_report_pdf(checks[0])
-            return [first] + [f.result() for f in others]
-    finally:
-        _PENDING_REPORTS = ()
+        result = (True, function(*args))
+    except Exception as exc:  # handed to the parent, which raises it
+        result = (False, exc)
+    try:
+        send.send(result)
+    except Exception as exc:  # an exception that does not pickle: its text then
+        try:
+            send.send((False, RuntimeError(f"{type(exc).__name__}: {exc}")))
+        except OSError:  # the parent stopped listening
+            pass
+    send.close()
+
+
+class _Forked:
+    """``function(*args)`` running in a forked child process (it shares this process's
+    memory, so nothing is pickled on the way in; its result must pickle). Where a process
+    cannot fork or there is one core, the call runs when its result is asked for."""
+
+    def __init__(self, function: Callable, *args) -> None:
+        self.call = (function, args)
+        self.child = None
+        if not hasattr(os, "fork") or (os.cpu_count() or 1) < 2:
+            return
+        import multiprocessing
+
+        context = multiprocessing.get_context("fork")
+        self.receive, send = context.Pipe(duplex=False)
+        self.child = context.Process(target=_forked_child, args=(send, function, args))
+        self.child.start()
+        send.close()
+
+    def result(self):
+        """Wait for the result (raising the child's exception)."""
+        if self.child is None:
+            function, args = self.call
+            return function(*args)
+        try:
+            ok, value = self.receive.recv()
+            self.child.join()  # it has sent everything: it ends now
+        except EOFError:
+            raise RuntimeError("a report worker ended without a result") from None
+        finally:
+            self.stop()
+        if not ok:
+            raise value
+        return value
+
+    def stop(self) -> None:
+        """End the child (at once if it still runs: its result is no longer wanted)."""
+        if self.child is None:
+            return
+        if self.child.is_alive():
+            self.child.terminate()
+            self.child.join()
+        self.receive.close()
+        self.child = None
+
+
+def _demo_check(index: int, page_size: str, seat_pages: str):
+    here = demo_folder()
+    rev, what = DEMO_REVISIONS[index]
+    train = here / "thistle_comet_train.toml"
+    track = here / f"thistle_comet_rev{rev}.csv"
+    ops = here / f"thistle_comet_rev{rev}.operation.toml"
+    call = shlex.join(["checker", "check", str(track), "--train", str(train),
+                       "--operation", str(ops), "--project", DEMO_PROJECT,
+                       "--layout-name", DEMO_LAYOUT, "--revision", f"{rev} ({what})",
+                       "--page-size", page_size, "--seat-pages", seat_pages])
+    return rev, what, check_layout(
+        track, train=train, operation=ops, project=DEMO_PROJECT, layout=DEMO_LAYOUT,
+        revision=f"{rev} ({what})", page_size=page_size, seat_pages=seat_pages, call=call)
+
+
+def _demo_folder_made(folder: str | Path) -> Path:
+    out = Path(folder)
+    try:
+        out.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise InputError(out, f"cannot create the output folder ({exc.strerror})",
+                         "choose another --out folder") from None
+    return out
+
+
+def write_demo(folder: str | Path, *, page_size: str = "a4",
+               seat_pages: str = "governing") -> list[tuple[str, str, Verdict, int, Path, Path]]:
+    """Check both revisions of the bundled demo layout and write their reports, the two at
+    the same time (revision B in a forked process, revision A here).
+
+    Parameters
+    ----------
+    folder : where the PDFs and their JSON sidecars go (made when missing).
+    page_size, seat_pages : as for :func:`check_layout`.
+
+    Returns
+    -------
+    list of (revision, what changed, verdict, number of findings, PDF path, JSON path)
+
+    Raises
+    ------
+    InputError
+        When the folder cannot be made or an output cannot be written.
+    """
+    out = _demo_folder_made(folder)
+    paths = [check_writable(out / f"thistle_comet_rev{rev}.pdf") for rev, _ in DEMO_REVISIONS]
+    for path in paths:
+        check_writable(report_sidecar(path, None))
+    later = [_Forked(_demo_summary, i, page_size, seat_pages)
+             for i in range(1, len(DEMO_REVISIONS))]
+    try:
+        done = [_demo_summary(0, page_size, seat_pages)] + [f.result() for f in later]
+    finally:  # interrupted or failed: no child is left behind
+        for forked in later:
+            forked.stop()
+    written = []
+    for path, (rev, what, verdict, count, pdf, json_text) in zip(paths, done):
+        pdf_path, json_path = _write_pair(path, lambda pdf=pdf: pdf, None, json_text)
+        written.append((rev, what, verdict, count, pdf_path, json_path))
+    return written
+
+
+def _demo_summary(index: int, page_size: str, seat_pages: str):
+    """One demo revision checked: (revision, what changed, verdict, number of findings, PDF
+    bytes, JSON text), all of which pickle (it may run in a forked process)."""
+    rev, what, check = _demo_check(index, page_size, seat_pages)
+    return (rev, what, check.verdict, len(check.findings), _report().check_report_pdf(check),
+            to_json(check.document()))
 
 
 def run_demo(*, page_size: str = "a4", seat_pages: str = "governing") -> DemoRun:
@@ -1081,18 +1188,5 @@ def run_demo(*, page_size: str = "a4", seat_pages: str = "governing") -> DemoRun
         loop) passes. Each revision's call is the ``checker check`` command that
         reproduces it.
     """
-    here = demo_folder()
-    train = here / "thistle_comet_train.toml"
-    revisions = []
-    for rev, what in DEMO_REVISIONS:
-        track = here / f"thistle_comet_rev{rev}.csv"
-        ops = here / f"thistle_comet_rev{rev}.operation.toml"
-        call = shlex.join(["checker", "check", str(track), "--train", str(train),
-                           "--operation", str(ops), "--project", DEMO_PROJECT,
-                           "--layout-name", DEMO_LAYOUT, "--revision", f"{rev} ({what})",
-                           "--page-size", page_size, "--seat-pages", seat_pages])
-        revisions.append((rev, what, check_layout(
-            track, train=train, operation=ops, project=DEMO_PROJECT, layout=DEMO_LAYOUT,
-            revision=f"{rev} ({what})", page_size=page_size, seat_pages=seat_pages,
-            call=call)))
+    revisions = [_demo_check(i, page_size, seat_pages) for i in range(len(DEMO_REVISIONS))]
     return DemoRun(tuple(revisions))
