@@ -366,5 +366,5 @@ def combined_scatter(panels: list[dict], title: str) -> str:
         ax.set_ylabel(f"{p['axes'][1].capitalize()} [g]")
         ax.set_title(p["name"])
     fig.suptitle(title, fontsize=9)
-    fig.subplots_adjust(left=0.08, right=0.98, top=0.85, bottom=0.15, wspace=0.3)
+    fig.subplots_adjust(left=0.08, right=0.98, top=0.8, bottom=0.15, wspace=0.3)
     return _svg(fig)
