@@ -536,7 +536,7 @@ class LayoutComparison:
             if change.status is ChangeState.SAME:
                 continue
             lines.append("  " + event_change_text(change))
-        lines.append("  (every finding's change: the JSON's \"changes\")")
+        lines.append("  (every finding's change: in the JSON (--json) and the PDF's appendix)")
         lines.append(f"{'seat':<14}" + "".join(f"{a + ' ' + k:>16}" for a in ("gx", "gy", "gz")
                                                for k in ("min", "max")))
         by_seat: dict = {}
