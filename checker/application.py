@@ -15,6 +15,7 @@ The PDF room (matplotlib, weasyprint) loads on the first PDF written; see :func:
 from __future__ import annotations
 
 import inspect
+import os
 import shlex
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, replace
@@ -27,9 +28,9 @@ from .caution import CAUTION
 from .compare import ChangeState, Comparison, compare_sweeps
 from .documents import (
     BUNDLED_LIMITS,
-    change_text,
     comparison_document,
     evaluation_document,
+    event_change_text,
     summary_table,
     sweep_document,
     sweep_tables,
@@ -693,12 +694,13 @@ class LayoutComparison:
         lines = [f"old {self.old_name}: {c.old_verdict.upper()} ({len(self.old.findings)} "
                  f"findings); new {self.new_name}: {c.new_verdict.upper()} "
                  f"({len(self.new.findings)} findings)",
-                 "findings: " + ", ".join(f"{c.count(k)} {k}" for k in
-                                          ChangeState)]
-        for change in c.changes:
+                 "events: " + ", ".join(f"{c.count_events(k)} {k}" for k in ChangeState)
+                 + "; findings: " + ", ".join(f"{c.count(k)} {k}" for k in ChangeState)]
+        for change in c.events:
             if change.status is ChangeState.SAME:
                 continue
-            lines.append("  " + change_text(change))
+            lines.append("  " + event_change_text(change))
+        lines.append("  (every finding's change: in the JSON (--json) and the PDF's appendix)")
         lines.append(f"{'seat':<14}" + "".join(f"{a + ' ' + k:>16}" for a in ("gx", "gy", "gz")
                                                for k in ("min", "max")))
         by_seat: dict = {}
@@ -850,8 +852,11 @@ def compare_layouts(old: str | Path, new: str | Path, *, train: str | Path | Non
         [(old_line, the_train, old_ops), (new_line, the_train, new_ops)], limit_set, options,
         case_list, workers=workers, scheduler=scheduler, progress=progress,
         scheduler_timeout_s=scheduler_timeout_s)
+    heights = [seat.up_m for seat in the_train.seats]
     comparison = compare_sweeps(old_sweep, new_sweep, old_sweep.outcomes[0].track_length_m,
-                                new_sweep.outcomes[0].track_length_m)
+                                new_sweep.outcomes[0].track_length_m, the_train.length_m,
+                                old_ops.sections, new_ops.sections,
+                                max(heights) if heights else None)
     old_stalls = {o.case for o in old_sweep.outcomes if o.stall}
     new_stalls = tuple(f"new revision, case {o.case}: {o.stall}" for o in new_sweep.outcomes
                        if o.stall and o.case not in old_stalls)
@@ -1383,14 +1388,158 @@ class DemoRun:
         InputError
             When the folder cannot be made or a file cannot be written.
         """
-        out = Path(folder)
+        out = _demo_folder_made(folder)
+        paths = [check_writable(out / f"thistle_comet_rev{rev}.pdf")
+                 for rev, _, _ in self.revisions]
+        for path in paths:
+            check_writable(report_sidecar(path, None))
+        report = _report()  # imported once, before the fork
+        later = [_Forked(report.check_report_pdf, check) for _, _, check in self.revisions[1:]]
         try:
-            out.mkdir(parents=True, exist_ok=True)
-        except OSError as exc:
-            raise InputError(out, f"cannot create the output folder ({exc.strerror})",
-                             "choose another --out folder") from None
-        return [check.write_pdf(out / f"thistle_comet_rev{rev}.pdf")
-                for rev, _, check in self.revisions]
+            pdfs = [report.check_report_pdf(self.revisions[0][2])] + [f.result() for f in later]
+        finally:  # interrupted or failed: no child is left behind
+            for forked in later:
+                forked.stop()
+        return [_write_pair(path, lambda pdf=pdf: pdf, None, to_json(check.document()))
+                for path, pdf, (_, _, check) in zip(paths, pdfs, self.revisions)]
+
+
+def _forked_child(send, function, args) -> None:
+    import signal
+
+    from .parentwatch import watch_parent
+
+    # the parent handles interruption and ends this child: no handler of its own here
+    signal.signal(signal.SIGINT, signal.SIG_DFL)
+    signal.signal(signal.SIGTERM, signal.SIG_DFL)
+    watch_parent(os.getppid())
+    try:
+        result = (True, function(*args))
+    except Exception as exc:  # handed to the parent, which raises it
+        result = (False, exc)
+    try:
+        send.send(result)
+    except Exception as exc:  # an exception that does not pickle: its text then
+        try:
+            send.send((False, RuntimeError(f"{type(exc).__name__}: {exc}")))
+        except OSError:  # the parent stopped listening
+            pass
+    send.close()
+
+
+class _Forked:
+    """``function(*args)`` running in a forked child process (it shares this process's
+    memory, so nothing is pickled on the way in; its result must pickle). Where a process
+    cannot fork or there is one core, the call runs when its result is asked for."""
+
+    def __init__(self, function: Callable, *args) -> None:
+        self.call = (function, args)
+        self.child = None
+        if not hasattr(os, "fork") or (os.cpu_count() or 1) < 2:
+            return
+        import multiprocessing
+
+        context = multiprocessing.get_context("fork")
+        self.receive, send = context.Pipe(duplex=False)
+        self.child = context.Process(target=_forked_child, args=(send, function, args))
+        self.child.start()
+        send.close()
+
+    def result(self):
+        """Wait for the result (raising the child's exception)."""
+        if self.child is None:
+            function, args = self.call
+            return function(*args)
+        try:
+            ok, value = self.receive.recv()
+            self.child.join()  # it has sent everything: it ends now
+        except EOFError:
+            raise RuntimeError("a report worker ended without a result") from None
+        finally:
+            self.stop()
+        if not ok:
+            raise value
+        return value
+
+    def stop(self) -> None:
+        """End the child (at once if it still runs: its result is no longer wanted)."""
+        if self.child is None:
+            return
+        if self.child.is_alive():
+            self.child.terminate()
+            self.child.join()
+        self.receive.close()
+        self.child = None
+
+
+def _demo_check(index: int, page_size: str, seat_pages: str):
+    here = demo_folder()
+    rev, what = DEMO_REVISIONS[index]
+    train = here / "thistle_comet_train.toml"
+    track = here / f"thistle_comet_rev{rev}.csv"
+    ops = here / f"thistle_comet_rev{rev}.operation.toml"
+    call = shlex.join(["checker", "check", str(track), "--train", str(train),
+                       "--operation", str(ops), "--project", DEMO_PROJECT,
+                       "--layout-name", DEMO_LAYOUT, "--revision", f"{rev} ({what})",
+                       "--page-size", page_size, "--seat-pages", seat_pages])
+    return rev, what, check_layout(
+        track, train=train, operation=ops, project=DEMO_PROJECT, layout=DEMO_LAYOUT,
+        revision=f"{rev} ({what})", page_size=page_size, seat_pages=seat_pages, call=call)
+
+
+def _demo_folder_made(folder: str | Path) -> Path:
+    out = Path(folder)
+    try:
+        out.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise InputError(out, f"cannot create the output folder ({exc.strerror})",
+                         "choose another --out folder") from None
+    return out
+
+
+def write_demo(folder: str | Path, *, page_size: str = "a4",
+               seat_pages: str = "governing") -> list[tuple[str, str, Verdict, int, Path, Path]]:
+    """Check both revisions of the bundled demo layout and write their reports, the two at
+    the same time (revision B in a forked process, revision A here).
+
+    Parameters
+    ----------
+    folder : where the PDFs and their JSON sidecars go (made when missing).
+    page_size, seat_pages : as for :func:`check_layout`.
+
+    Returns
+    -------
+    list of (revision, what changed, verdict, number of findings, PDF path, JSON path)
+
+    Raises
+    ------
+    InputError
+        When the folder cannot be made or an output cannot be written.
+    """
+    out = _demo_folder_made(folder)
+    paths = [check_writable(out / f"thistle_comet_rev{rev}.pdf") for rev, _ in DEMO_REVISIONS]
+    for path in paths:
+        check_writable(report_sidecar(path, None))
+    later = [_Forked(_demo_summary, i, page_size, seat_pages)
+             for i in range(1, len(DEMO_REVISIONS))]
+    try:
+        done = [_demo_summary(0, page_size, seat_pages)] + [f.result() for f in later]
+    finally:  # interrupted or failed: no child is left behind
+        for forked in later:
+            forked.stop()
+    written = []
+    for path, (rev, what, verdict, count, pdf, json_text) in zip(paths, done):
+        pdf_path, json_path = _write_pair(path, lambda pdf=pdf: pdf, None, json_text)
+        written.append((rev, what, verdict, count, pdf_path, json_path))
+    return written
+
+
+def _demo_summary(index: int, page_size: str, seat_pages: str):
+    """One demo revision checked: (revision, what changed, verdict, number of findings, PDF
+    bytes, JSON text), all of which pickle (it may run in a forked process)."""
+    rev, what, check = _demo_check(index, page_size, seat_pages)
+    return (rev, what, check.verdict, len(check.findings), _report().check_report_pdf(check),
+            to_json(check.document()))
 
 
 def run_demo(*, page_size: str = "a4", seat_pages: str = "governing") -> DemoRun:
@@ -1417,18 +1566,5 @@ def run_demo(*, page_size: str = "a4", seat_pages: str = "governing") -> DemoRun
     >>> [(rev, str(check.verdict)) for rev, _, check in demo.revisions]
     [('A', 'fail'), ('B', 'pass')]
     """
-    here = demo_folder()
-    train = here / "thistle_comet_train.toml"
-    revisions = []
-    for rev, what in DEMO_REVISIONS:
-        track = here / f"thistle_comet_rev{rev}.csv"
-        ops = here / f"thistle_comet_rev{rev}.operation.toml"
-        call = shlex.join(["checker", "check", str(track), "--train", str(train),
-                           "--operation", str(ops), "--project", DEMO_PROJECT,
-                           "--layout-name", DEMO_LAYOUT, "--revision", f"{rev} ({what})",
-                           "--page-size", page_size, "--seat-pages", seat_pages])
-        revisions.append((rev, what, check_layout(
-            track, train=train, operation=ops, project=DEMO_PROJECT, layout=DEMO_LAYOUT,
-            revision=f"{rev} ({what})", page_size=page_size, seat_pages=seat_pages,
-            call=call)))
+    revisions = [_demo_check(i, page_size, seat_pages) for i in range(len(DEMO_REVISIONS))]
     return DemoRun(tuple(revisions))

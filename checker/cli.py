@@ -400,11 +400,10 @@ def _cmd_demo(args: argparse.Namespace, app, call: str) -> int:
     started = time.perf_counter()
     print("demo: Marrowvale Pleasure Gardens (a fictional park), 'Thistle Comet' (a fictional "
           "layout), against the bundled ILLUSTRATIVE limits")
-    demo = app.run_demo(page_size=args.page_size, seat_pages=args.seat_pages)
-    reports = demo.write_reports(args.out)
-    for (rev, what, check), (pdf, sidecar) in zip(demo.revisions, reports):
-        print(f"  revision {rev} ({what}): {check.verdict.upper()} with "
-              f"{len(check.findings)} findings -> {pdf}, {sidecar}")
+    for rev, what, verdict, count, pdf, sidecar in app.write_demo(
+            args.out, page_size=args.page_size, seat_pages=args.seat_pages):
+        print(f"  revision {rev} ({what}): {verdict.upper()} with {count} findings -> "
+              f"{pdf}, {sidecar}")
     print(f"done in {time.perf_counter() - started:.1f} s. The failing revision A is expected: "
           "its circular loop exceeds the illustrative +Gz and onset limits at the bottom.")
     print("caution: " + CAUTION + " The demo's limits are illustrative.")

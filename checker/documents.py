@@ -386,12 +386,38 @@ def comparison_document(comparison, limits, old_file: str, new_file: str, old_co
                    "illustrative": limits.illustrative},
         "cases": cases, "inputs": [{"file": f, "sha256": h} for f, h in inputs],
         "command": command, "peaks": comparison.peaks,
+        "events": [{"status": c.status, "rule": c.rule, "matched_by": c.matched_by,
+                    "old": event_record(c.old) if c.old else None,
+                    "new": event_record(c.new) if c.new else None}
+                   for c in comparison.events],
         "changes": [{"status": c.status, "rule": c.rule, "seat": c.seat, "case": c.case,
                      "matched_by": c.matched_by,
                      "old": c.old.to_dict() if c.old else None,
                      "new": c.new.to_dict() if c.new else None}
                     for c in comparison.changes],
     })
+
+
+def event_change_text(change) -> str:
+    """One line of a comparison by event.
+
+    Parameters
+    ----------
+    change : checker.compare.EventChange
+        The event's change.
+
+    Returns
+    -------
+    str
+        Status, rule, where in each revision and the worst margin before and after with its
+        unit; a gone event shows its old margin and "gone", a new one "new".
+    """
+    old, new = change.old, change.new
+    where = " -> ".join(e.where if e is not None else "-" for e in (old, new))
+    before = margin_text(old) if old is not None else "new"
+    after = margin_text(new) if new is not None else "gone"
+    return (f"{change.status:<6} {change.rule:<26} at {where:<30} worst margin "
+            f"{before:>11} -> {after:<11} {change.matched_by}").rstrip()
 
 
 def change_text(change) -> str:

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import re
 from pathlib import Path
 
 import numpy as np
@@ -91,6 +92,27 @@ def test_compare_revision_with_itself_changes_nothing(tmp_path):
     assert all(abs(p["change"]) < 1e-9 for p in doc["peaks"])
 
 
+def _event_table_text(pdf: Path) -> str:
+    """The comparison PDF's event table as one line of text (pypdf reads it back)."""
+    from pypdf import PdfReader
+
+    text = " ".join(page.extract_text() for page in PdfReader(pdf).pages)
+    text = " ".join(text.split())
+    start = text.index("Change Rule Old event: where New event: where")
+    return text[start:text.index("Peak values per seat", start)]
+
+
+def _margin(event: dict) -> str:
+    """The worst margin as the documents print it (2 decimals in g, 1 in g/s and %)."""
+    digits = 2 if event["unit"] == "g" else 1
+    return f"{event['margin']:.{digits}f} {event['unit']}"
+
+
+def _where(event: dict) -> str:
+    a, b = event["station_range_m"]
+    return f"{a:.1f}-{b:.1f} m"
+
+
 def test_compare_a_to_b_loop_findings_gone_and_b_to_a_regresses(tmp_path):
     pdf = tmp_path / "ab.pdf"
     assert main(demo_args("A", "B") + ["--pdf", str(pdf)]) == 0
@@ -99,7 +121,37 @@ def test_compare_a_to_b_loop_findings_gone_and_b_to_a_regresses(tmp_path):
     assert gone and all(c["old"]["rule"] for c in gone)
     assert any(c["old"]["rule"] == "duration +Gz" for c in gone)
     assert pdf.exists() and pdf.stat().st_size > 10_000
-    assert main(demo_args("B", "A")) == 1
+    # organised by event: every event of revision A (its own check groups 156 findings into
+    # events) is gone, each finding belongs to one of them, and each row reads back from the
+    # PDF with its old station range, old worst margin with its unit, and the word gone
+    events = doc["events"]
+    assert events and {e["status"] for e in events} == {"gone"}
+    assert sum(e["old"]["findings"] for e in events) == len(gone) == doc["old"]["findings"]
+    table = _event_table_text(pdf)
+    assert "nan" not in table
+    rules = "|".join(sorted({re.escape(e["rule"]) for e in events}))
+    rows = re.findall(rf"\b(?:gone|new|worse|better|same) (?:{rules}) ", table)
+    assert len(rows) == len(events)
+    at = 0
+    for e in events:
+        old = e["old"]
+        row = re.compile(rf"gone {re.escape(e['rule'])} {old['id']} "
+                         rf"{re.escape(_where(old))} .*?none .*?{old['seats']} \S+ 0 of 24 "
+                         rf"{re.escape(_margin(old))} gone")
+        found = row.search(table, at)
+        assert found, f"no row for {old['id']} {e['rule']} in: {table[at:at + 300]}"
+        at = found.end()
+    # the other way round: the same places come back as new events, with the new margins
+    ba = tmp_path / "ba.pdf"
+    assert main(demo_args("B", "A") + ["--pdf", str(ba)]) == 1
+    back = json.loads(ba.with_suffix(".json").read_text())["events"]
+    assert {e["status"] for e in back} == {"new"} and len(back) == len(events)
+    table = _event_table_text(ba)
+    for e in back:
+        new = e["new"]
+        assert re.search(rf"new {re.escape(e['rule'])} none {new['id']} "
+                         rf"{re.escape(_where(new))} .*?0 \S+ {new['seats']} of 24 new "
+                         rf"{re.escape(_margin(new))}", table), e["rule"]
 
 
 def test_dask_cluster_gives_the_same_results_as_local():

@@ -133,3 +133,36 @@ def test_letter_page_size(tmp_path):
     box = PdfReader(str(out)).pages[0].mediabox
     # US Letter is 8.5 x 11 in = 612 x 792 pt (ANSI/ASME Y14.1)
     assert (round(float(box.width)), round(float(box.height))) == (612, 792)
+
+
+@pytest.mark.parametrize("n", [601, 1000, 17999, 18000, 90001])
+def test_plotted_envelope_keeps_every_slice_extreme_and_lean_svg_draws_the_same(n):
+    """Figures plot a per-slice minimum and maximum: checked against a brute-force scan of
+    each slice (reference: the definition); and the lean SVG keeps every drawn element."""
+    import re
+
+    import matplotlib.pyplot as plt
+
+    from checker.report.figures import _svg, envelope_decimate, lean_svg
+
+    rng = np.random.default_rng(n)
+    x = np.arange(n) * 0.005
+    y = np.cumsum(rng.normal(size=n))
+    xs, ys = envelope_decimate(x, y)
+    assert np.all(np.diff(xs) >= 0) and set(xs) <= set(x)
+    width = -(-n // 300)
+    for a in range(0, n, width):  # every slice's extremes are among the plotted points
+        part = y[a:a + width]
+        assert part.max() in ys and part.min() in ys
+    fig, ax = plt.subplots()
+    ax.plot(xs, ys, color="#1f5fa8", lw=0.9, label="filtered")
+    ax.legend()
+    buf = __import__("io").StringIO()
+    fig.savefig(buf, format="svg")
+    plain = buf.getvalue()
+    lean = _svg(fig)
+    for tag in ("path", "text", "use", "clipPath"):  # nothing drawn is lost
+        assert lean.count(f"<{tag}") == plain.count(f"<{tag}"), tag
+    assert "style=" not in lean and 'stroke="#1f5fa8"' in lean
+    assert re.findall(r">([^<>]+)</text>", lean) == re.findall(r">([^<>]+)</text>", plain)
+    assert lean_svg(plain) == lean

@@ -229,7 +229,11 @@ def _governing(evaluation, rule: str):
     return min(kept, key=lambda s: s.margins[rule]) if kept else None
 
 
-def aids_section(evaluation, sensitivity=None) -> dict:
+def _draw_now(function, *args):
+    return function(*args)
+
+
+def aids_section(evaluation, sensitivity=None, draw=_draw_now) -> dict:
     """Template context of the aids section: tables and SVG figures (not yet assets).
 
     Parameters
@@ -238,6 +242,10 @@ def aids_section(evaluation, sensitivity=None) -> dict:
         The check; figures use the seats that carry their filtered signal.
     sensitivity : checker.sensitivity.Sensitivity or None, optional
         Adds the sensitivity table and heat map when it has rows.
+    draw : callable, optional
+        Called as ``draw(figure_function, *args)`` for each figure; its return value is
+        what the section holds as that figure (by default the SVG, drawn at once; the
+        report passes one that queues the figure for its worker pool).
 
     Returns
     -------
@@ -245,7 +253,8 @@ def aids_section(evaluation, sensitivity=None) -> dict:
         ``uplift`` (free travel, the three highest seats, the worst flight, figure),
         ``zones`` (None without a diagram), ``sustained`` (one entry per sustained rule, its
         ratio figure at the governing seat with signals) and ``sensitivity`` (or None);
-        each ``figure`` is SVG text (empty when there is nothing to draw).
+        each ``figure`` is what ``draw`` returned (SVG text by default; empty when there is
+        nothing to draw).
     """
     from ..aids import sustained_document, uplift_document, zones_document
 
@@ -265,10 +274,10 @@ def aids_section(evaluation, sensitivity=None) -> dict:
         "uplift": {"free_travel": up["free_travel_m"], "rows": uplift_rows,
                    "more": sum(1 for s in up["seats"] if s["events"]) > len(uplift_rows),
                    "worst": up["worst"],
-                   "figure": uplift_figure(flights, up["free_travel_m"],
-                                           "station [m]" if by_station else "time [s]",
-                                           "Rise of an unrestrained rider off the seat, "
-                                           "every flight of every seat")},
+                   "figure": draw(uplift_figure, flights, up["free_travel_m"],
+                                  "station [m]" if by_station else "time [s]",
+                                  "Rise of an unrestrained rider off the seat, "
+                                  "every flight of every seat")},
         "zones": None, "sustained": [], "sensitivity": None,
     }
     zones = zones_document(evaluation)
@@ -285,9 +294,8 @@ def aids_section(evaluation, sensitivity=None) -> dict:
             "more": max(0, len(zones["seats"]) - 3),
             "diagram": [{"name": z.name, "order": z.order, "dwell": z.dwell_s}
                         for z in limits.zones],
-            "figure": zones_figure(limits.zones, traces, "Filtered (Gx, Gz) over the zone "
-                                   "diagram" + (f"; highest zone by {top[0][0]}" if top
-                                                else "")),
+            "figure": draw(zones_figure, limits.zones, traces, "Filtered (Gx, Gz) over the "
+                           "zone diagram" + (f"; highest zone by {top[0][0]}" if top else "")),
         }
     for entry in sustained_document(evaluation):
         seat = _governing(evaluation, entry["rule"])
@@ -301,8 +309,8 @@ def aids_section(evaluation, sensitivity=None) -> dict:
             res = sustained_combined(seat.filtered[:, ia], seat.filtered[:, ib], dt,
                                      pair_limits(limits.duration, env.axes[0]),
                                      pair_limits(limits.duration, env.axes[1]))
-            figure = ratio_figure(seat.t, [(f"{seat.seat} ({seat.case})", res.ratio)],
-                                  f"{entry['rule']}: (a/A)^2 + (b/B)^2 at the governing seat")
+            figure = draw(ratio_figure, seat.t, [(f"{seat.seat} ({seat.case})", res.ratio)],
+                          f"{entry['rule']}: (a/A)^2 + (b/B)^2 at the governing seat")
         section["sustained"].append({**entry, "figure": figure})
     if sensitivity is not None and sensitivity.rows:
         params = [p for p in sensitivity.parameters if p.key not in sensitivity.skipped]
@@ -317,17 +325,24 @@ def aids_section(evaluation, sensitivity=None) -> dict:
                       "dominant": next((p.label for p in params if p.key == r.dominant),
                                        "-")} for i, r in enumerate(rows)],
             "skipped": sorted(sensitivity.skipped.items()),
-            "figure": sensitivity_figure([f"{r.label} ({r.seat})" for r in rows],
-                                         [p.label for p in params], effects,
-                                         np.array([r.margin for r in rows]),
-                                         "Change of each margin for a typical change of each "
-                                         "parameter, in % of the margin"),
+            "figure": draw(sensitivity_figure, [f"{r.label} ({r.seat})" for r in rows],
+                           [p.label for p in params], effects,
+                           np.array([r.margin for r in rows]),
+                           "Change of each margin for a typical change of each "
+                           "parameter, in % of the margin"),
         }
     return section
 
 
-def aids_context(evaluation, sensitivity, asset) -> dict:
-    """:func:`aids_section` with every figure handed to ``asset`` (SVG text -> its URL).
+class _Pending(int):
+    """The index of a figure job not drawn yet."""
+
+
+def aids_jobs(evaluation, sensitivity) -> tuple[dict, list]:
+    """:func:`aids_section` with its figures left as (function, args) jobs.
+
+    The jobs are drawn with the report's other figures (on every core); finish with
+    :func:`aids_context`.
 
     Parameters
     ----------
@@ -335,6 +350,32 @@ def aids_context(evaluation, sensitivity, asset) -> dict:
         The check.
     sensitivity : checker.sensitivity.Sensitivity or None
         As for :func:`aids_section`.
+
+    Returns
+    -------
+    section : dict
+        The section, each figure a placeholder for its job.
+    jobs : list of (callable, tuple)
+        The figure functions and their arguments, in placeholder order.
+    """
+    jobs: list = []
+
+    def defer(function, *args):
+        jobs.append((function, args))
+        return _Pending(len(jobs) - 1)
+
+    return aids_section(evaluation, sensitivity, draw=defer), jobs
+
+
+def aids_context(section: dict, drawn: list[str], asset) -> dict:
+    """The section of :func:`aids_jobs` with each figure drawn and handed to ``asset``.
+
+    Parameters
+    ----------
+    section : dict
+        The section from :func:`aids_jobs`.
+    drawn : list of str
+        The SVG text of each job, in job order.
     asset : callable
         ``asset(svg) -> str``: registers an SVG figure and returns its ``checker-asset:``
         URL.
@@ -342,13 +383,12 @@ def aids_context(evaluation, sensitivity, asset) -> dict:
     Returns
     -------
     dict
-        The section with figure URLs in place of SVG text.
+        The section with figure URLs in place of the placeholders.
     """
-    section = aids_section(evaluation, sensitivity)
     for part in (section["uplift"], section["zones"], section["sensitivity"],
                  *section["sustained"]):
-        if part is not None and part.get("figure"):
-            part["figure"] = asset(part["figure"])
+        if part is not None and isinstance(part.get("figure"), _Pending):
+            part["figure"] = asset(drawn[part["figure"]])
     return section
 
 

@@ -9,11 +9,11 @@ import numpy as np
 from .. import __version__
 from ..caution import CAUTION, CAUTION_SHORT
 from ..compare import MATCH_DISTANCE_M, MATCH_FRACTION, ChangeState, Comparison
-from ..documents import margin_text
+from ..documents import change_text, margin_text
 from ..rules import seat_exposures
 from ..terminal import shorten
 from . import figures
-from .document import PAGE_SIZES, _env, _fmt
+from .document import PAGE_SIZES, _env
 from .pdf import ASSET_SCHEME, TemplatesOnlyFetcher, render_pdf
 
 
@@ -78,18 +78,16 @@ def comparison_pdf(comparison: Comparison, focus: dict, meta: dict) -> bytes:
                        "step": rule.interpolation == "step"})
     exposure = asset(figures.exposure_curves(curves, "Exposure curves: new (solid), old "
                                              "(dotted), limit (black, dashed)")) if curves else ""
-    changes = [{"status": c.status, "rule": c.rule, "seat": c.seat, "case": c.case,
-                "old_s": _fmt(c.old.s_worst_m if c.old else None, 1),
-                "new_s": _fmt(c.new.s_worst_m if c.new else None, 1),
-                "old_margin": margin_text(c.old) if c.old else "new",
-                "new_margin": margin_text(c.new) if c.new else "gone",
-                "matched_by": c.matched_by} for c in comparison.changes]
+    seat_count = len({p["seat"] for p in comparison.peaks}) or None
+    events = [_event_row(c, seat_count) for c in comparison.events]
+    changes = [change_text(c) for c in comparison.changes]  # every finding, appendix lines
     rows: dict[str, list] = {}
     for p in comparison.peaks:
         rows.setdefault(p["seat"], []).append(
             f"{p['old']:.2f} &rarr; {p['new']:.2f} ({p['change']:+.2f})")
     peaks = [{"seat": seat, "cells": cells} for seat, cells in rows.items()]
     counts = {k.value: comparison.count(k) for k in ChangeState}
+    event_counts = {k.value: comparison.count_events(k) for k in ChangeState}
     css = env.get_template("report.css").render(
         page_size=PAGE_SIZES[meta.get("page_size", "a4")],
         footer_left=f"checker: {CAUTION_SHORT}")
@@ -100,12 +98,33 @@ def comparison_pdf(comparison: Comparison, focus: dict, meta: dict) -> bytes:
         limits_title=limits.title, illustrative=limits.illustrative, cases=meta["cases"],
         caution=CAUTION, caution_short=CAUTION_SHORT, old_verdict=comparison.old_verdict,
         new_verdict=comparison.new_verdict, regressed=comparison.regressed, counts=counts,
-        stalls=meta.get("stalls", []), changes=changes, peaks=peaks, elevations=elevations,
+        stalls=meta.get("stalls", []), changes=changes, events=events,
+        event_counts=event_counts, peaks=peaks, elevations=elevations,
         focus_seat=focus["seat"], focus_case=focus["case"], histories=histories,
         exposure=exposure, inputs=[{"file": f, "sha256": h} for f, h in meta["inputs"]],
         command=meta["command"], match_distance=f"{MATCH_DISTANCE_M:g}",
         match_fraction=f"{MATCH_FRACTION:g}")
     return render_pdf(html, TemplatesOnlyFetcher(assets=assets))
+
+
+def _event_side(event) -> dict:
+    if event is None:
+        return {"id": "", "where": "none", "place": "", "seats": "0"}
+    return {"id": event.id, "where": event.where, "place": event.place,
+            "seats": str(len(event.seats))}
+
+
+def _event_row(change, seat_count: int | None) -> dict:
+    """A row of the event table: both sides' event, place and seats, and the worst margin
+    before and after with its unit (a gone event keeps its old margin and says gone)."""
+    old, new = _event_side(change.old), _event_side(change.new)
+    seats = f"{old['seats']} &rarr; {new['seats']}" + (f" of {seat_count}" if seat_count
+                                                         else "")
+    return {"status": change.status, "rule": change.rule, "old": old, "new": new,
+            "seats": seats,
+            "old_margin": margin_text(change.old) if change.old is not None else "new",
+            "new_margin": margin_text(change.new) if change.new is not None else "gone",
+            "matched_by": change.matched_by}
 
 
 def comparison_report_pdf(result) -> bytes:

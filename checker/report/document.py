@@ -20,7 +20,7 @@ from ..events import Event, event_of_finding, explain_events, group_findings
 from ..limits import AXES, REST, contains
 from ..rules import Evaluation, seat_exposures
 from . import figures
-from .aids_figures import aids_context
+from .aids_figures import aids_context, aids_jobs
 from .pdf import ASSET_SCHEME, TEMPLATES
 
 PAGE_SIZES = {"a4": "A4", "letter": "letter"}
@@ -495,20 +495,25 @@ def build_html(evaluation: Evaluation, signals: dict, ride, meta: ReportMeta,
     governs: dict[tuple, list[str]] = {}
     for e in events:
         governs.setdefault((e.governing.seat, e.governing.case), []).append(e.id)
-    jobs = [(_seat_section, (s, _lean(signals.get((s.seat, s.case))), limits, False))
-            for s in chosen]
-    if ride is not None:
+    jobs = []
+    if ride is not None:  # the longest figure first, so that the cores finish together
         geo = ride.geometry
         jobs.append((figures.layout_views, (
             geo.position, geo.s, [(e.governing.s_worst_m, e.rule) for e in events
                                   if e.governing.s_worst_m is not None],
             50 if geo.length < 800 else 100, "", (ride.motion.s, ride.motion.v),
             geo.roll_deg)))
+    jobs += [(_seat_section, (s, _lean(signals.get((s.seat, s.case))), limits, False))
+             for s in chosen]
+    windows_at = len(jobs)
     jobs += [j for j in event_jobs if j is not None]
+    aids_at = len(jobs)
+    aids, aid_jobs = aids_jobs(evaluation, meta.sensitivity)
+    jobs += aid_jobs
     drawn = _run_figure_jobs(jobs)  # every figure, on every core
-    sections = drawn[:len(chosen)]
-    layout_drawn = drawn[len(chosen)] if ride is not None else ""
-    windows = iter(drawn[len(chosen) + (ride is not None):])
+    layout_drawn = drawn[0] if ride is not None else ""
+    sections = drawn[int(ride is not None):windows_at]
+    windows = iter(drawn[windows_at:aids_at])
     for row, job in zip(event_rows, event_jobs):
         row["window"] = asset(next(windows)) if job is not None else ""
     for section in sections:
@@ -545,4 +550,4 @@ def build_html(evaluation: Evaluation, signals: dict, ride, meta: ReportMeta,
         margin_convention=MARGIN_CONVENTION, station_note=STATION_NOTE,
         group_delay=f"{max(delays):.3f}" if delays else None,
         filter=limits.filter.describe(),
-        aids=aids_context(evaluation, meta.sensitivity, asset)), assets
+        aids=aids_context(aids, drawn[aids_at:], asset)), assets
