@@ -172,15 +172,15 @@ def _input_paths(provenance: Provenance) -> list[str]:
 
 
 def _write_pair(pdf_path: str | Path, pdf: Callable[[], bytes], json_path: str | Path | None,
-                json_text: str, provenance: Provenance) -> tuple[Path, Path]:
+                json_text: str, provenance: Provenance | None) -> tuple[Path, Path]:
     """Render in memory first, then write the PDF and its JSON sidecar together (both or
     neither, :func:`checker.outputs.commit`; never over one of the result's inputs)."""
     pdf_path = check_writable(pdf_path)
     json_path = check_writable(report_sidecar(pdf_path, json_path))
-    check_distinct([json_path, pdf_path], _input_paths(provenance))  # before rendering
+    inputs = _input_paths(provenance) if provenance is not None else []
+    check_distinct([json_path, pdf_path], inputs)  # before rendering
     pdf_bytes = pdf()
-    commit({json_path: json_text.encode("utf-8"), pdf_path: pdf_bytes},
-           _input_paths(provenance))
+    commit({json_path: json_text.encode("utf-8"), pdf_path: pdf_bytes}, inputs)
     return pdf_path, json_path
 
 
@@ -1400,7 +1400,8 @@ class DemoRun:
         finally:  # interrupted or failed: no child is left behind
             for forked in later:
                 forked.stop()
-        return [_write_pair(path, lambda pdf=pdf: pdf, None, to_json(check.document()))
+        return [_write_pair(path, lambda pdf=pdf: pdf, None, to_json(check.document()),
+                            check.provenance)
                 for path, pdf, (_, _, check) in zip(paths, pdfs, self.revisions)]
 
 
@@ -1529,7 +1530,8 @@ def write_demo(folder: str | Path, *, page_size: str = "a4",
             forked.stop()
     written = []
     for path, (rev, what, verdict, count, pdf, json_text) in zip(paths, done):
-        pdf_path, json_path = _write_pair(path, lambda pdf=pdf: pdf, None, json_text)
+        # the bundled inputs are CSV and TOML files: the PDFs and JSONs cannot be one of them
+        pdf_path, json_path = _write_pair(path, lambda pdf=pdf: pdf, None, json_text, None)
         written.append((rev, what, verdict, count, pdf_path, json_path))
     return written
 
