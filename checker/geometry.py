@@ -30,7 +30,7 @@ from scipy.interpolate import (
     make_interp_spline,
     make_smoothing_spline,
 )
-from scipy.linalg import solveh_banded
+from scipy.linalg import LinAlgError, solve_banded, solveh_banded
 from scipy.optimize import brentq
 
 WORLD_UP = np.array([0.0, 0.0, 1.0])
@@ -434,8 +434,12 @@ def _discrepancy_fit(u: np.ndarray, points: np.ndarray, u_all: np.ndarray,
     normal_band, penalty_band = (_upper_band(m, width_band) for m in (normal, penalty))
 
     def coefficients(log_lam: float) -> np.ndarray:
-        return solveh_banded(normal_band + (scale * 10.0**log_lam) * penalty_band, rhs,
-                             check_finite=False)
+        band = normal_band + (scale * 10.0**log_lam) * penalty_band
+        try:
+            return solveh_banded(band, rhs, check_finite=False)
+        except LinAlgError:  # semi-definite to rounding (tiny lambda): LU with pivoting
+            return solve_banded((width_band, width_band), _full_band(band), rhs,
+                                check_finite=False)
 
     def excess(log_lam: float) -> float:
         residual = samples @ coefficients(log_lam) - points
@@ -456,6 +460,16 @@ def _upper_band(matrix, width: int) -> np.ndarray:
     for k in range(width + 1):
         band[width - k, k:] = matrix.diagonal(k)
     return band
+
+
+def _full_band(upper: np.ndarray) -> np.ndarray:
+    """LAPACK general band storage of a symmetric matrix given in upper band storage."""
+    width, count = upper.shape[0] - 1, upper.shape[1]
+    full = np.zeros((2 * width + 1, count))
+    full[: width + 1] = upper
+    for i in range(1, width + 1):  # below the diagonal: M[j + i, j] = M[j, j + i]
+        full[width + i, : count - i] = upper[width - i, i:]
+    return full
 
 
 def _curvature_continuation(spline: BSpline, u_end: float, sign: float, window: float,

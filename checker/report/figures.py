@@ -75,11 +75,14 @@ def lean_svg(text: str) -> str:
     Returns
     -------
     str
-        The leaner SVG document.
+        The leaner SVG document (the text unchanged when it is not well-formed XML).
     """
     ET.register_namespace("", SVG_NS)
     ET.register_namespace("xlink", XLINK_NS)
-    root = ET.fromstring(text[text.index("<svg"):])
+    try:
+        root = ET.fromstring(text[text.index("<svg"):])
+    except ET.ParseError:  # e.g. control characters of a name in a title: left as drawn
+        return text
     _lean_children(root)
     for el in list(root):
         if el.tag == f"{{{SVG_NS}}}defs":
