@@ -227,32 +227,10 @@ def match_events(old: list[Event], new: list[Event], old_len: float,
     list of EventChange
         New, worse, gone, better, same; worst first within each.
     """
-    changes: list[EventChange] = []
-    for rule in sorted({e.rule for e in old} | {e.rule for e in new}):
-        olds = [e for e in old if e.rule == rule]
-        news = [e for e in new if e.rule == rule]
-        pairs = []
-        for i, a in enumerate(olds):
-            for j, b in enumerate(news):
-                score, how = _event_distance(a, b, old_len, new_len)
-                if np.isfinite(score):
-                    pairs.append((score, i, j, how))
-        pairs.sort()
-        used_old, used_new = set(), set()
-        for _, i, j, how in pairs:
-            if i in used_old or j in used_new:
-                continue
-            used_old.add(i)
-            used_new.add(j)
-            a, b = olds[i], news[j]
-            changes.append(EventChange(_status(a.severity, b.severity), a, b, how))
-        changes += [EventChange(ChangeState.GONE, a, None) for i, a in enumerate(olds)
-                    if i not in used_old]
-        changes += [EventChange(ChangeState.NEW, None, b) for j, b in enumerate(news)
-                    if j not in used_new]
-    order = {state: i for i, state in enumerate(ChangeState)}
-    changes.sort(key=lambda c: (order[c.status], -(c.new or c.old).severity))
-    return changes
+    rules = sorted({e.rule for e in old} | {e.rule for e in new})
+    return _paired([([e for e in old if e.rule == rule], [e for e in new if e.rule == rule])
+                    for rule in rules],
+                   lambda a, b: _event_distance(a, b, old_len, new_len), EventChange)
 
 
 def sweep_events(sweep: Sweep, train_length_m: float = 0.0, sections: tuple = (),
@@ -305,13 +283,20 @@ def match_findings(old: list[Finding], new: list[Finding], old_len: float,
         groups.setdefault((f.rule, f.seat, f.case), ([], []))[0].append(f)
     for f in new:
         groups.setdefault((f.rule, f.seat, f.case), ([], []))[1].append(f)
-    changes: list[FindingChange] = []
-    for key in sorted(groups):
-        olds, news = groups[key]
+    return _paired([groups[key] for key in sorted(groups)],
+                   lambda a, b: _distance(a, b, old_len, new_len), FindingChange)
+
+
+def _paired(groups, distance, change) -> list:
+    """Greedy pairing, closest first, within each (olds, news) group; every item once, as
+    ``change(status, old, new[, how])``, ordered new, worse, gone, better, same and by
+    severity within each."""
+    changes = []
+    for olds, news in groups:
         pairs = []
         for i, a in enumerate(olds):
             for j, b in enumerate(news):
-                score, how = _distance(a, b, old_len, new_len)
+                score, how = distance(a, b)
                 if np.isfinite(score):
                     pairs.append((score, i, j, how))
         pairs.sort()
@@ -322,10 +307,10 @@ def match_findings(old: list[Finding], new: list[Finding], old_len: float,
             used_old.add(i)
             used_new.add(j)
             a, b = olds[i], news[j]
-            changes.append(FindingChange(_status(a.severity, b.severity), a, b, how))
-        changes += [FindingChange(ChangeState.GONE, a, None) for i, a in enumerate(olds)
+            changes.append(change(_status(a.severity, b.severity), a, b, how))
+        changes += [change(ChangeState.GONE, a, None) for i, a in enumerate(olds)
                     if i not in used_old]
-        changes += [FindingChange(ChangeState.NEW, None, b) for j, b in enumerate(news)
+        changes += [change(ChangeState.NEW, None, b) for j, b in enumerate(news)
                     if j not in used_new]
     order = {state: i for i, state in enumerate(ChangeState)}
     changes.sort(key=lambda c: (order[c.status], -(c.new or c.old).severity))

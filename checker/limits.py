@@ -309,12 +309,14 @@ def contains(vertices: np.ndarray, points: np.ndarray) -> np.ndarray:
     inside[in_box] = path.contains_points(points[in_box])
     out = in_box[~inside[in_box]]
     if out.size:  # points reported outside but on the boundary count as inside
-        # only those inside the outline grown by 100 x the tolerance (either orientation)
-        # can be that close: the exact distance is then measured for them alone
-        band = np.zeros(out.size, dtype=bool)
-        for grow in (100 * tol, -100 * tol):
-            band |= path.contains_points(points[out], radius=grow)
-        out = out[band]
+        # a point within the tolerance of the outline lies within it of some edge, so inside
+        # that edge's bounding box grown by it: the exact distance is measured for those alone
+        ox, oy = points[out, 0], points[out, 1]
+        near = np.zeros(out.size, dtype=bool)
+        for a, b in zip(vertices, np.roll(vertices, -1, axis=0)):
+            lo, hi = np.minimum(a, b) - tol, np.maximum(a, b) + tol
+            near |= (ox >= lo[0]) & (ox <= hi[0]) & (oy >= lo[1]) & (oy <= hi[1])
+        out = out[near]
         for a in range(0, out.size, 4096):  # in chunks: the temporaries are (chunk, vertices)
             part = out[a:a + 4096]
             inside[part] = _boundary_distance(vertices, points[part]) <= tol

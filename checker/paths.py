@@ -187,13 +187,15 @@ def _identity(path: Path) -> tuple:
         return ("name", os.path.normcase(os.path.realpath(path)))
 
 
-def check_distinct(outputs: Iterable[str | Path], inputs: Iterable[str | Path] = ()) -> None:
+def check_distinct(outputs: Iterable[str | Path | tuple[str, str | Path]],
+                   inputs: Iterable[str | Path] = ()) -> None:
     """Refuse an output that is the same file as an input or as another output.
 
     Parameters
     ----------
-    outputs : iterable of str or pathlib.Path
-        The files about to be written.
+    outputs : iterable of str, pathlib.Path or (str, path)
+        The files about to be written, each alone or with the option that named it (for the
+        message; default ``"output"``).
     inputs : iterable of str or pathlib.Path, optional
         The files the result was made from (never overwritten).
 
@@ -207,15 +209,16 @@ def check_distinct(outputs: Iterable[str | Path], inputs: Iterable[str | Path] =
     for item in inputs:
         seen.setdefault(_identity(Path(item)), f"input {item}")
     for item in outputs:
+        option, item = item if isinstance(item, tuple) else ("output", item)
         path = Path(item)
         key = _identity(path)
         if key in seen:
             what = seen[key]
-            raise InputError(path, f"output is the same file as the {what}",
+            raise InputError(path, f"{option} is the same file as the {what}",
                              "write the output to another file name; inputs are never "
                              "overwritten" if what.startswith("input") else
                              "give each output its own file name")
-        seen[key] = f"output {path}"
+        seen[key] = f"{option} {path}" if option == "output" else f"{option} output {path}"
 
 
 def check_output(path: str | Path, option: str = "output") -> Path:
@@ -288,21 +291,7 @@ def check_run_paths(inputs: Iterable[str | Path | None],
         is the same file (same device and inode, or the same resolved name when it does not
         exist yet) as an input or as another output.
     """
-    seen: dict[tuple, str] = {}
-    for item in inputs:
-        if item is None:
-            continue
-        path = check_input(item)
-        seen.setdefault(_identity(path), f"input {path}")
-    for option, item in outputs:
-        if item is None:
-            continue
-        path = check_output(item, option)
-        key = _identity(path)
-        if key in seen:
-            what = seen[key]
-            raise InputError(path, f"{option} is the same file as the {what}",
-                             "write the output to another file name; inputs are never "
-                             "overwritten" if what.startswith("input") else
-                             "give each output its own file name")
-        seen[key] = f"{option} output {path}"
+    checked_inputs = [check_input(item) for item in inputs if item is not None]
+    checked_outputs = [(option, check_output(item, option)) for option, item in outputs
+                       if item is not None]
+    check_distinct(checked_outputs, checked_inputs)

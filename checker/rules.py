@@ -347,55 +347,6 @@ def verdict_of(*failures: bool) -> Verdict:
     return Verdict.FAIL if any(failures) else Verdict.PASS
 
 
-class SustainedWindows:
-    """Answers, for any sample, the first and last index of the longest window around it in
-    which every sample is >= it, from a range-minimum sparse table built once.
-
-    Parameters
-    ----------
-    x : (n,) ndarray
-        The signal, in the rule's own direction [g0]; -inf marks a barrier.
-    widest : int, optional
-        A bound on any window's width when known (fewer table levels); default n.
-
-    References
-    ----------
-    The range-minimum sparse table and binary lifting of M. A. Bender and M. Farach-Colton,
-    "The LCA problem revisited", LATIN 2000, LNCS 1776, pp. 88-94.
-    """
-
-    def __init__(self, x: np.ndarray, widest: int | None = None):
-        self.x = np.asarray(x, dtype=float)
-        n = len(self.x)
-        bound = n if widest is None else min(n, max(int(widest), 1))
-        table = [self.x]
-        while (1 << len(table)) <= bound:
-            prev, half = table[-1], 1 << (len(table) - 1)
-            table.append(np.minimum(prev[:-half], prev[half:]))
-        self.table = table
-        self.reversed = [t[::-1] for t in table]
-
-    def _reach(self, start: np.ndarray, values: np.ndarray, tables: list) -> np.ndarray:
-        n = len(self.x)
-        pos = start + 1  # next index to test, going right
-        for level in range(len(tables) - 1, -1, -1):
-            span = 1 << level
-            fits = pos + span <= n
-            idx = np.where(fits, pos, 0)
-            block = tables[level]
-            ok = fits & (block[np.minimum(idx, len(block) - 1)] >= values)
-            pos = np.where(ok, pos + span, pos)
-        return pos - 1
-
-    def __call__(self, query: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-        """First and last index [samples] of the window of each sample in ``query``."""
-        at = np.asarray(query, dtype=np.intp)
-        n, values = len(self.x), self.x[at]
-        right = self._reach(at, values, self.table)
-        left = n - 1 - self._reach(n - 1 - at, values, self.reversed)
-        return left, right
-
-
 def sustained_windows(x: np.ndarray, widest: int | None = None,
                       query: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray]:
     """For each sample, the longest window around it in which every sample is >= it.
@@ -403,8 +354,8 @@ def sustained_windows(x: np.ndarray, widest: int | None = None,
     A sparse table holds the minima of every power-of-two block (level l: min of
     x[i:i + 2^l]); each sample's window is then extended to the right, and (on the reversed
     array) to the left, by binary lifting: from the highest level down, a block is taken
-    when its minimum is >= the sample (:class:`SustainedWindows`). O(N log W) for widths
-    up to W, or O(Q log W) for Q queried samples after the table.
+    when its minimum is >= the sample. O(N log W) for widths up to W, or O(Q log W) for Q
+    queried samples after the table.
 
     Parameters
     ----------
@@ -427,7 +378,29 @@ def sustained_windows(x: np.ndarray, widest: int | None = None,
     pp. 88-94 (sparse table of range minima).
     """
     x = np.asarray(x, dtype=float)
-    return SustainedWindows(x, widest)(np.arange(len(x)) if query is None else query)
+    n = len(x)
+    bound = n if widest is None else min(n, max(int(widest), 1))
+    table = [x]
+    while (1 << len(table)) <= bound:
+        prev, half = table[-1], 1 << (len(table) - 1)
+        table.append(np.minimum(prev[:-half], prev[half:]))
+    at = np.arange(n) if query is None else np.asarray(query, dtype=np.intp)
+    values = x[at]
+
+    def reach(start: np.ndarray, tables: list[np.ndarray]) -> np.ndarray:
+        pos = start + 1  # next index to test, going right
+        for level in range(len(tables) - 1, -1, -1):
+            span = 1 << level
+            fits = pos + span <= n
+            idx = np.where(fits, pos, 0)
+            block = tables[level]
+            ok = fits & (block[np.minimum(idx, len(block) - 1)] >= values)
+            pos = np.where(ok, pos + span, pos)
+        return pos - 1
+
+    right = reach(at, table)
+    left = n - 1 - reach(n - 1 - at, [t[::-1] for t in table])
+    return left, right
 
 
 def exposure_durations(count_samples: int, dt: float,
@@ -611,15 +584,14 @@ def _kept_in_block(x: np.ndarray, floor: float, sign: float,
 
 
 def _windows_of_kept(keep: np.ndarray, real: np.ndarray, values: np.ndarray,
-                     allowed=None, dt: float = 0.0,
-                     margin: float = 0.0) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+                     allowed=None, dt: float = 0.0) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Sustained windows of the kept samples above the floor, barriers as -inf (no window
     crosses a barrier, so the longest run between barriers bounds the widths).
 
     With ``allowed`` (signed-positive allowed level [g0] against duration [s], non-increasing)
-    only the samples that can come within ``margin`` of it are answered: a sample's window
-    lies inside its run above the floor, so a sample below ``allowed(run) - margin`` can
-    never get closer, whatever its window.
+    only the samples that can exceed it are answered: a sample's window lies inside its run
+    above the floor, so a sample at or below ``allowed(run)`` never exceeds, whatever its
+    window.
     """
     r = np.flatnonzero(real)
     if r.size == 0:
@@ -630,7 +602,7 @@ def _windows_of_kept(keep: np.ndarray, real: np.ndarray, values: np.ndarray,
     if allowed is not None:
         run_of = np.repeat(np.arange(len(first)), last - first + 1)
         run_len = (r[last] - r[first] + 1)[run_of]
-        query = r[values[r] > allowed(run_len * dt) - margin]
+        query = r[values[r] > allowed(run_len * dt)]
         if query.size == 0:
             return keep[:0], keep[:0], keep[:0]
     left, right = sustained_windows(np.where(real, values, -np.inf), widest, query)
@@ -730,7 +702,7 @@ def duration_margin(x: np.ndarray, dt: float, rule: DurationLimit) -> float:
     compressed = np.where(real, signed[keep], -np.inf)
     widest = int(np.max(last - first)) + 1
     if _positive(rule) is None:  # a table that allows more for longer: every window
-        left, right = SustainedWindows(compressed, widest)(r)
+        left, right = sustained_windows(compressed, widest, r)
         held = (right - left + 1) * dt
         return min(best, float(np.min(rule.sign * rule.allowed(held) - signed[keep[r]])))
     # past the table's last corner the allowed level stays put while the exposure can only

@@ -79,25 +79,6 @@ def _step(v: float, d: float, a0: float, a1: float, h: float) -> tuple[float, fl
     return v + 0.5 * (a0 + a1) * h, d + v * h + (2.0 * a0 + a1) * h * h / 6.0
 
 
-def _peak_in_step(v: float, d: float, a0: float, a1: float, h: float) -> tuple[float, float]:
-    """Highest d within a step (where the relative speed changes sign), and its offset."""
-    best, at = d, 0.0
-    # v(x) = v + a0 x + (a1 - a0) x^2 / (2h): roots in (0, h)
-    c2, c1, c0 = (a1 - a0) / (2.0 * h), a0, v
-    if abs(c2) < 1e-15:
-        roots = [-c0 / c1] if abs(c1) > 1e-15 else []
-    else:
-        disc = c1 * c1 - 4.0 * c2 * c0
-        roots = [] if disc < 0 else [(-c1 + sgn * np.sqrt(disc)) / (2.0 * c2)
-                                     for sgn in (1.0, -1.0)]
-    for x in roots:
-        if 0.0 < x < h:
-            dx = d + v * x + a0 * x * x / 2.0 + (a1 - a0) * x ** 3 / (6.0 * h)
-            if dx > best:
-                best, at = dx, x
-    return best, at
-
-
 def _states(v: float, d: float, acc: np.ndarray, t: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Relative speed [m/s] and displacement [m] at every sample of ``t`` from (v, d) at
     t[0], the acceleration [m/s^2] linear between samples (as :func:`_step`, summed)."""
@@ -109,8 +90,8 @@ def _states(v: float, d: float, acc: np.ndarray, t: np.ndarray) -> tuple[np.ndar
 
 def _peaks_in_steps(v: np.ndarray, d: np.ndarray, a0: np.ndarray, a1: np.ndarray,
                     t: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """:func:`_peak_in_step` for many steps at once: each step's highest d [m] and its
-    offset [s] from the step's start."""
+    """Each step's highest d [m] and its offset [s] from the step's start: where the
+    relative speed v + a0 x + (a1 - a0) x^2 / (2 h) changes sign inside the step."""
     h = np.diff(t)
     c2, c1, c0 = (a1 - a0) / (2.0 * h), a0, v
     best, at = d.copy(), np.zeros_like(d)

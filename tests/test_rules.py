@@ -6,7 +6,7 @@ from dataclasses import replace
 
 import numpy as np
 import pytest
-from hypothesis import given, settings
+from hypothesis import example, given, settings
 from hypothesis import strategies as st
 from scipy import signal
 from shapely.geometry import LineString, Point, Polygon
@@ -222,6 +222,8 @@ def test_windows_above_floor_match_full_windows(values, floor):
 @given(st.lists(st.tuples(st.floats(-3, 3), st.floats(-3, 3)), min_size=3, max_size=7),
        st.lists(st.tuples(st.integers(0, 6), st.floats(0, 1)), min_size=1, max_size=20),
        st.sampled_from([0.0, 1e-12, 1e-6, 1e-3]))
+@example([(-0.5, -3.8052923369544945e-166), (0.0, 0.0), (-1.0, 0.0), (0.0, 1.0), (1.0, -1.0)],
+         [(0, 0.0)], 0.0)  # a point on a zero-width spike of the outline
 def test_points_on_or_near_the_boundary_are_classified_by_their_distance(vertices, places,
                                                                          push):
     # Points on an edge (and pushed off it along the edge's normal by `push`) count as inside
