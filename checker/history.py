@@ -25,7 +25,6 @@ from pathlib import Path
 
 import numpy as np
 import pandas as pd
-from scipy import signal
 
 from .constants import G0
 from .csvtable import read_numeric_csv
@@ -314,6 +313,8 @@ def resample(t: np.ndarray, g: np.ndarray, rate_hz: float):
     if rate_hz < own_rate * (1 - STEP_TOLERANCE):
         fine_t = t[0] + step * np.arange(int(np.floor((t[-1] - t[0]) / step)) + 1)
         fine = np.column_stack([np.interp(fine_t, t, g[:, i]) for i in range(g.shape[1])])
+        from scipy import signal  # only re-sampling needs it; it costs about 1 s to import
+
         sos = signal.butter(4, ANTI_ALIAS_FRACTION * rate_hz / 2, fs=own_rate, output="sos")
         if len(fine_t) > 3 * (2 * len(sos) + 1):
             fine = signal.sosfiltfilt(sos, fine, axis=0)
