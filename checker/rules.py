@@ -30,8 +30,10 @@ O(N) sliding-window minimum).
 
 from __future__ import annotations
 
+from collections.abc import Callable, Iterator, Mapping
 from dataclasses import asdict, dataclass, field, replace
 from enum import Enum
+from functools import partial
 
 import numpy as np
 
@@ -265,8 +267,9 @@ class SeatResult:
         The seat's flights off the seat (:mod:`checker.uplift`).
     zones : ZoneSummary or None
         The seat on the restraint-zone diagram, when the limits carry zones.
-    margins : dict
-        {rule name: worst margin} in each rule's unit (:func:`checker.sensitivity.rule_margins`).
+    margins : Mapping
+        {rule name: worst margin} in each rule's unit (:func:`checker.sensitivity.rule_margins`);
+        while the filtered signal is kept they are computed when first read.
     """
 
     seat: str
@@ -277,7 +280,7 @@ class SeatResult:
     t: np.ndarray | None = None
     uplift: object | None = None  # checker.uplift.UpliftSummary
     zones: object | None = None  # checker.zones.ZoneSummary (when the limits carry zones)
-    margins: dict = field(default_factory=dict)  # rule -> worst margin (checker.sensitivity)
+    margins: Mapping = field(default_factory=dict)  # rule -> worst margin (sensitivity)
 
     @property
     def verdict(self) -> Verdict:
@@ -292,9 +295,9 @@ class SeatResult:
         Returns
         -------
         result : SeatResult
-            A copy with ``filtered`` and ``t`` set to None.
+            A copy with ``filtered`` and ``t`` set to None (and the margins computed).
         """
-        return replace(self, filtered=None, t=None)
+        return replace(self, filtered=None, t=None, margins=dict(self.margins))
 
 
 @dataclass(frozen=True, eq=False)
@@ -1090,6 +1093,37 @@ class _Scan:
         self.low, self.high = low, high
 
 
+class _MarginsOnDemand(Mapping):
+    """Every rule's worst margin, computed when first read. On a long record they cost about
+    ten times the rules themselves, and only the report's aid figures, the sustained-envelope
+    summary and the sensitivity read them; a terminal check never does."""
+
+    def __init__(self, compute: Callable[[], dict]) -> None:
+        self._compute: Callable[[], dict] | None = compute
+        self._values: dict | None = None
+
+    def _get(self) -> dict:
+        if self._values is None:
+            self._values = self._compute()
+            self._compute = None  # let go of the signal it held
+        return self._values
+
+    def __getitem__(self, rule: str) -> float:
+        return self._get()[rule]
+
+    def __iter__(self) -> Iterator[str]:
+        return iter(self._get())
+
+    def __len__(self) -> int:
+        return len(self._get())
+
+    def __reduce__(self):  # travels as a plain dict
+        return dict, (self._get(),)
+
+    def __repr__(self) -> str:
+        return repr(self._get())
+
+
 def _join(parts: list, dtype) -> np.ndarray:
     return np.concatenate(parts) if parts else np.zeros(0, dtype=dtype)
 
@@ -1115,8 +1149,9 @@ def evaluate_seat(seat, limits: LimitSet, case: str = "nominal",
         :func:`seat_exposures`).
     aids : bool
         Also compute the design aids' summaries (every rule's worst margin, the rider's
-        flights, the restraint zones). Without, only what the rules need: the flights only
-        when the limits set a free travel (they are then a rule); the findings are the same.
+        flights, the restraint zones; the margins when first read while the signal is kept).
+        Without, only what the rules need: the flights only when the limits set a free
+        travel (they are then a rule); the findings are the same.
 
     Returns
     -------
@@ -1162,7 +1197,8 @@ def evaluate_seat(seat, limits: LimitSet, case: str = "nominal",
 
         zones = (seat_zones(filtered[:, 0], filtered[:, 2], t, limits.zones, ctx.s,
                             ctx.position) if limits.zones else None)
-        margins = rule_margins(filtered, dt, limits, t, uplift, sustained)
+        compute = partial(rule_margins, filtered, dt, limits, t, uplift, sustained)
+        margins = _MarginsOnDemand(compute) if keep_signals else compute()
     return SeatResult(seat.seat, case, worst, tuple(findings),
                       filtered if keep_signals else None, t if keep_signals else None,
                       uplift, zones, margins)

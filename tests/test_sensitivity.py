@@ -132,3 +132,26 @@ def test_margins_agree_with_the_findings_they_summarize():
     for rule in {f.rule for f in ev.findings}:
         assert margins[rule] == pytest.approx(min(f.margin for f in ev.findings
                                                   if f.rule == rule), abs=1e-9)
+
+
+def test_margins_read_on_demand_equal_the_eager_ones_and_travel_as_a_dict():
+    import pickle
+    from types import SimpleNamespace
+
+    from checker.limits import load_limits
+    from checker.resources import bundled_limits
+    from checker.rules import evaluate_seat
+    from checker.sensitivity import rule_margins
+
+    limits = load_limits(bundled_limits())
+    t = np.arange(4000) / 200.0
+    g = np.column_stack([0.5 * np.sin(t), 0.8 * np.sin(t / 2), 1.0 + 2.5 * np.sin(t / 3)])
+    seat = SimpleNamespace(seat="s", t=t, g=g)
+    kept = evaluate_seat(seat, limits)  # margins computed when first read
+    eager = evaluate_seat(seat, limits, keep_signals=False)
+    # the definition: rule_margins on the filtered signal (checker.sensitivity)
+    direct = rule_margins(kept.filtered, 1 / 200.0, limits, t, kept.uplift)
+    assert dict(kept.margins) == dict(eager.margins) == direct
+    assert any(m < 0 for m in direct.values())  # the signal breaks some rule
+    assert type(pickle.loads(pickle.dumps(kept)).margins) is dict
+    assert type(kept.without_signals().margins) is dict
