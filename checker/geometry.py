@@ -20,18 +20,15 @@ The curvature vector is then k = yaw * left - pitch * up.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
 from numpy.polynomial.legendre import leggauss
-from scipy import sparse
-from scipy.interpolate import (
-    BSpline,
-    CubicHermiteSpline,
-    make_interp_spline,
-    make_smoothing_spline,
-)
-from scipy.linalg import LinAlgError, solve_banded, solveh_banded
-from scipy.optimize import brentq
+
+# scipy's interpolation, sparse, linear algebra and root finding are imported where used: they
+# cost about 0.3 s to import, and a check of a recorded history never builds a track.
+if TYPE_CHECKING:
+    from scipy.interpolate import BSpline
 
 WORLD_UP = np.array([0.0, 0.0, 1.0])
 STATION_STEP_M = 0.2  # default station grid step [m] of every ride
@@ -248,6 +245,8 @@ def _householder(normal: np.ndarray) -> np.ndarray:
 
 def _bridge_gaps(s: np.ndarray, values: np.ndarray, good: np.ndarray) -> np.ndarray:
     """Smooth ``values`` around each run of not-``good`` stations; leave the rest as is."""
+    from scipy.interpolate import make_smoothing_spline
+
     out = values.copy()
     step = s[1] - s[0]
     margin = int(np.ceil(10 * SMOOTHING_LENGTH_M / step))
@@ -408,6 +407,11 @@ def _discrepancy_fit(u: np.ndarray, points: np.ndarray, u_all: np.ndarray,
     (sorted, containing ``u``), lambda set by the samples' discrepancy alone (searched within
     a decade of 10^``near`` first). Returns the spline, log10 of its relative lambda and its
     width h lambda^(1 / (2 PENALTY_ORDER)) [m], about the length it averages over."""
+    from scipy import sparse
+    from scipy.interpolate import BSpline
+    from scipy.linalg import LinAlgError, solve_banded, solveh_banded
+    from scipy.optimize import brentq
+
     intervals = len(u) - 1
     h = (u[-1] - u[0]) / intervals
     # the knots must reach the outermost continuation; the margin keeps a last-bit rounding
@@ -537,6 +541,8 @@ def _fit_centerline(points: np.ndarray, smoothing_m: float):
     E. T. Y. Lee, "Choosing nodes in parametric curve interpolation", Computer-Aided Design
     21(6), 1989 (the parameter's effect on interpolants).
     """
+    from scipy.interpolate import make_interp_spline
+
     degree = 5 if len(points) >= QUINTIC_MIN_SAMPLES else 3
     chords = np.linalg.norm(np.diff(points, axis=0), axis=1)
     u = np.concatenate([[0.0], np.cumsum(chords)])
@@ -604,6 +610,8 @@ def build_geometry(
     G. H. Golub and J. H. Welsch, "Calculation of Gauss quadrature rules", Mathematics of
     Computation 23, 1969 (Gauss-Legendre nodes and weights).
     """
+    from scipy.interpolate import CubicHermiteSpline, make_interp_spline
+
     points = np.asarray(points, dtype=float)
     spline, interp, u = _fit_centerline(points, smoothing_m)
     # Arc length s(u): 3-point Gauss-Legendre on sub-intervals no longer than step_m / 2.

@@ -18,7 +18,6 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.interpolate import CubicHermiteSpline
 
 from .constants import G0
 from .dynamics import RideMotion
@@ -91,6 +90,8 @@ def lead_station_at(motion: RideMotion, times: np.ndarray) -> np.ndarray:
     stations : (m,) ndarray
         Lead car station (not clipped; times outside the motion extrapolate) [m].
     """
+    from scipy.interpolate import CubicHermiteSpline  # imported on use (start-up)
+
     return CubicHermiteSpline(motion.t, motion.s, motion.v)(times)
 
 

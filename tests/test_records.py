@@ -256,3 +256,19 @@ def test_report_method_says_what_was_done_to_the_record(tmp_path):
     assert "irregular parts re-sampled at 100 Hz" in done and "logger x = rider -y" in done
     plain = " ".join(method_of(check_history(RECORD)))
     assert "never re-sampled" in plain and "rotate axes" in plain
+
+
+def test_checking_a_record_leaves_the_heavy_libraries_unloaded():
+    # start-up is most of a record check's cost: scipy.signal's namespace (about 1 s),
+    # scipy.interpolate (a record has no track to fit) and matplotlib (no figure without
+    # --pdf) must stay unloaded
+    import subprocess
+    import sys
+
+    code = ("import sys; from checker.cli import main; "
+            f"code = main(['check-history', {str(RECORD)!r}]); "
+            "heavy = [m for m in ('scipy.signal', 'scipy.interpolate', 'scipy.stats', "
+            "'matplotlib') if m in sys.modules]; print('HEAVY', code, *heavy)")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                         check=True).stdout
+    assert out.splitlines()[-1] == "HEAVY 0"
