@@ -4,10 +4,10 @@ a 5 M-row record under 1 GB peak).
 
 Writes a synthetic record (t, gx, gy, gz at 200 Hz, slow waves with a little noise, 6 decimal
 places; made here, not the demo scenario) to a temporary folder, then times, interleaved round
-after round, two fresh processes: `python -c "import pandas; pandas.read_csv(file)"` and
-`python -m checker check-history file`. The figures are the medians and the spread (min-max)
-of the wall time. The peak memory of a `check-history` process on the 5 M-row record is its
-maximum resident set size (getrusage of the child).
+after round, fresh processes: `python -c "import pandas; pandas.read_csv(file)"`,
+`python -m checker check-history file` and the same with `--json`. The figures are the
+medians and the spread (min-max) of the wall time. The peak memory of a `check-history`
+process on the 5 M-row record is its maximum resident set size (getrusage of the child).
 
 Run: python bench/bench_history.py [--rounds 5] [--rows 1000000] [--big 5000000]
 """
@@ -73,10 +73,13 @@ def main() -> None:
         size = record.stat().st_size / 2**20
         bare = [sys.executable, "-c", f"import pandas; pandas.read_csv({str(record)!r})"]
         ours = [sys.executable, "-m", "checker", "check-history", str(record)]
-        times: dict[str, list[float]] = {"bare": [], "ours": []}
+        # with the JSON record as well (every finding, flights, zones, the audit record)
+        with_json = ours + ["--json", str(Path(tmp) / "findings.json")]
+        times: dict[str, list[float]] = {"bare": [], "ours": [], "json": []}
         for _ in range(args.rounds):  # interleaved
             times["bare"].append(run(bare)[0])
             times["ours"].append(run(ours)[0])
+            times["json"].append(run(with_json)[0])
         ratio = statistics.median(times["ours"]) / statistics.median(times["bare"])
         ratios = [o / b for o, b in zip(times["ours"], times["bare"])]
         print(f"record: {args.rows:,} rows, {size:.0f} MiB; {args.rounds} interleaved rounds; "
@@ -85,6 +88,8 @@ def main() -> None:
         print(f"checker check-history process: {spread(times['ours'])}")
         print(f"ratio of medians {ratio:.2f} (per round {min(ratios):.2f} to {max(ratios):.2f}; "
               "target <= 3)")
+        print(f"checker check-history --json process: {spread(times['json'])} (ratio of "
+              f"medians {statistics.median(times['json']) / statistics.median(times['bare']):.2f})")
         inside = {"pandas.read_csv": [], "read_numeric_csv": [], "load_history": []}
         for _ in range(args.rounds):  # the reading alone, in this process, interleaved
             for label, job in (("pandas.read_csv", lambda: pd.read_csv(record)),
