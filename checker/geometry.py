@@ -195,9 +195,10 @@ def rotation_minimizing_up(points: np.ndarray, tangent: np.ndarray,
 
     Each step reflects the current normal in the bisector plane of the chord, then in the
     plane that maps the reflected tangent onto the next tangent (double reflection). The two
-    reflections of a step do not depend on the normal they carry, so the normals are the
-    prefix products of those maps, applied to ``first_up``; the results are then
-    re-orthogonalized against their tangents and normalized (rounding drift).
+    reflections of a step do not depend on the normal they carry and map the normal plane at
+    one sample onto the next, so the normal is tracked as an angle against a fixed reference
+    normal at each sample: every step adds its own angle (the map applied to the reference
+    normal, measured against the next reference normal), and the angles are a running sum.
 
     Parameters
     ----------
@@ -220,30 +221,42 @@ def rotation_minimizing_up(points: np.ndarray, tangent: np.ndarray,
     """
     points = np.asarray(points, dtype=float)
     tangent = np.asarray(tangent, dtype=float)
-    # Each step's double reflection is a fixed linear map M_i = H2 H1 (it does not depend on
-    # the normal it carries), so the normals are a prefix product of 3 x 3 maps, taken in
-    # log2(n) batched rounds (Hillis-Steele scan) instead of a loop over the samples.
+    # reference normal at each sample: the world axis least aligned with the tangent,
+    # projected normal to it (never degenerate: the axis is at least 54.7 deg off)
+    axis = np.argmin(np.abs(tangent), axis=1)
+    along = tangent[np.arange(len(tangent)), axis]
+    ref = -along[:, None] * tangent
+    ref[np.arange(len(tangent)), axis] += 1.0
+    ref /= np.linalg.norm(ref, axis=1)[:, None]
+    side = np.cross(tangent, ref)
+    # the step map M_i = H2 H1 (Householder reflections, identity where a normal vanishes)
+    # applied to the reference normal at i, measured against the frame at i + 1
     chord = np.diff(points, axis=0)
-    first_reflection = _householder(chord)
-    tang_reflected = np.einsum("nij,nj->ni", first_reflection, tangent[:-1])
-    second_reflection = _householder(tangent[1:] - tang_reflected)
-    prefix = second_reflection @ first_reflection  # M_i: normal at i -> normal at i + 1
-    step = 1
-    while step < len(prefix):
-        prefix[step:] = prefix[step:] @ prefix[:-step]
-        step *= 2
-    up = np.vstack([first_up, prefix @ np.asarray(first_up, dtype=float)])
+    carried, tang_reflected, turns1 = _reflect(chord, ref[:-1], tangent[:-1])
+    carried, turns2 = _reflect(tangent[1:] - tang_reflected, carried)
+    step_angle = np.arctan2(np.sum(carried * side[1:], axis=1),
+                            np.sum(carried * ref[1:], axis=1))
+    # A reflection left out (identity) makes M_i improper: it maps the angle a to -a + step.
+    # With sign_i the product of the steps' orientations before i, sign * angle is a
+    # running sum.
+    orientation = np.where(turns1 == turns2, 1.0, -1.0)
+    sign = np.concatenate([[1.0], np.cumprod(orientation)])
+    start = np.arctan2(first_up @ side[0], first_up @ ref[0])
+    angle = sign * (start + np.concatenate([[0.0], np.cumsum(sign[1:] * step_angle)]))
+    up = np.cos(angle)[:, None] * ref + np.sin(angle)[:, None] * side
     # rounding drift: back onto the plane normal to the tangent, unit length
     up -= np.sum(up * tangent, axis=1)[:, None] * tangent
     return up / np.linalg.norm(up, axis=1)[:, None]
 
 
-def _householder(normal: np.ndarray) -> np.ndarray:
-    """Reflections (n, 3, 3) in the planes with the given normals (identity where a normal
-    vanishes, as when consecutive tangents agree)."""
+def _reflect(normal: np.ndarray, *vectors: np.ndarray):
+    """``vectors`` reflected in the planes with the given normals (n, 3) (unchanged where a
+    normal vanishes), and whether each plane reflected (True) or was the identity."""
     length_sq = np.sum(normal * normal, axis=1)
-    scale = np.divide(2.0, length_sq, out=np.zeros_like(length_sq), where=length_sq > 1e-30)
-    return np.eye(3) - scale[:, None, None] * normal[:, :, None] * normal[:, None, :]
+    active = length_sq > 1e-30
+    scale = np.divide(2.0, length_sq, out=np.zeros_like(length_sq), where=active)
+    out = [v - (scale * np.sum(v * normal, axis=1))[:, None] * normal for v in vectors]
+    return (*out, active)
 
 
 def _bridge_gaps(s: np.ndarray, values: np.ndarray, good: np.ndarray) -> np.ndarray:

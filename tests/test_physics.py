@@ -267,7 +267,7 @@ def test_smoothing_tolerance_recovers_curvature_of_noisy_samples():
 
 
 def test_rotation_minimizing_normals_equal_the_stepwise_double_reflection():
-    # The batched prefix product against the double reflection applied step by step, as
+    # The running sum of step angles against the double reflection applied step by step, as
     # published (Wang, Juettler, Zheng and Liu, ACM TOG 27(1), 2008, algorithm 1), on a
     # helix whose tangent turns in two planes at once.
     from checker.geometry import rotation_minimizing_up
