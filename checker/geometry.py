@@ -162,27 +162,73 @@ class TrackGeometry:
         Parameters
         ----------
         stations : array_like
-            Stations to sample at, clipped to [0, length] [m]; shape (k,).
+            Stations to sample at, clipped to [0, length] [m]; any shape (k...).
         *names : str
             Names of the grid attributes to sample (e.g. ``"position"``, ``"omega"``).
 
         Returns
         -------
         values : list of ndarray
-            One array per name, shape (k,) for 1-D attributes and (k, c) for (n, c) ones, in
-            the attribute's own unit. Unit vectors are interpolated component-wise and are
-            not re-normalized.
+            One array per name, shape (k...) for 1-D attributes and (k..., c) for (n, c)
+            ones, in the attribute's own unit (views into one array of all the columns).
+            Unit vectors are interpolated component-wise and are not re-normalized.
         """
         x = np.clip(np.asarray(stations, dtype=float), 0.0, self.length)
-        out = []
-        for name in names:  # column by column in C (np.interp): faster than gathering rows
-            a = getattr(self, name)
+        arrays = [getattr(self, name) for name in names]
+        values = interpolate_columns(self.s, np.vstack([a.T for a in arrays]), x)
+        out, start = [], 0
+        for a in arrays:
             if a.ndim == 1:
-                out.append(np.interp(x, self.s, a))
+                out.append(values[start])
+                start += 1
             else:
-                out.append(np.column_stack([np.interp(x, self.s, a[:, j])
-                                            for j in range(a.shape[1])]))
+                out.append(np.moveaxis(values[start:start + a.shape[1]], 0, -1))
+                start += a.shape[1]
         return out
+
+
+def interpolate_columns(s: np.ndarray, columns: np.ndarray, x: np.ndarray) -> np.ndarray:
+    """``np.interp`` of several value arrays at once (the same formula and values).
+
+    One interval search serves every array (a uniform grid needs no search, only a
+    rounding check), then per array a gather of the interval's slope and left value: for
+    many arrays about twice as fast as one ``np.interp`` each.
+
+    Parameters
+    ----------
+    s : (n,) ndarray
+        Increasing abscissae (n >= 2).
+    columns : (c, n) ndarray
+        Values at ``s``, one array per row.
+    x : ndarray
+        Where to interpolate, within [s[0], s[-1]]; any shape (k...).
+
+    Returns
+    -------
+    values : (c, k...) ndarray
+        slope * (x - s[j]) + columns[:, j] on the interval s[j] <= x < s[j + 1], and
+        columns[:, -1] at x = s[-1] (np.interp's formula).
+    """
+    last = len(s) - 2
+    with np.errstate(invalid="ignore"):  # nan stations come out nan
+        j = ((x - s[0]) * ((last + 1) / (s[-1] - s[0]))).astype(np.intp)
+    np.clip(j, 0, last, out=j)
+    j -= s[j] > x  # the uniform-grid guess can be one off by rounding
+    j += s[j + 1] <= x
+    np.clip(j, 0, last, out=j)
+    if np.any((s[j] > x) | ((s[j + 1] <= x) & (j < last))):  # not a uniform grid
+        j = np.clip(np.searchsorted(s, x, side="right") - 1, 0, last)
+    columns = np.asarray(columns, dtype=float)
+    slopes = np.diff(columns, axis=1) / np.diff(s)
+    into = x - s[j]
+    at_end = x >= s[-1]
+    out = np.empty((len(columns),) + np.shape(x))
+    for row, values, slope in zip(out, columns, slopes):
+        np.take(slope, j, out=row)
+        row *= into
+        row += np.take(values, j)
+        row[at_end] = values[-1]  # as np.interp
+    return out
 
 
 def _unit(v: np.ndarray) -> np.ndarray:

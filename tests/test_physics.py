@@ -290,3 +290,20 @@ def test_rotation_minimizing_normals_equal_the_stepwise_double_reflection():
         expected.append(r)
     got = rotation_minimizing_up(pts, tan, expected[0])
     np.testing.assert_allclose(got, np.array(expected), atol=1e-12)
+
+
+@pytest.mark.parametrize("uniform", [True, False])
+def test_interpolate_columns_equals_np_interp(uniform):
+    # Reference: numpy.interp, column by column (the formula interpolate_columns copies).
+    from checker.geometry import interpolate_columns
+
+    rng = np.random.default_rng(7)
+    s = (np.linspace(0.0, 2003.7, 10019) if uniform
+         else np.cumsum(np.concatenate([[0.0], rng.uniform(0.01, 1.0, 999)])))
+    columns = rng.normal(size=(5, len(s)))
+    # random stations, every grid station (rounding of the uniform-grid guess) and both ends
+    x = np.concatenate([rng.uniform(s[0], s[-1], 1200), s, [s[0], s[-1]]])
+    got = interpolate_columns(s, columns, x[None, :])
+    assert got.shape == (5, 1, len(x))
+    for row, values in zip(got, columns):
+        np.testing.assert_array_equal(row.ravel(), np.interp(x, s, values))
