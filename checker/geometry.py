@@ -19,11 +19,11 @@ The curvature vector is then k = yaw * left - pitch * up.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import numpy as np
 from numpy.polynomial.legendre import leggauss
-from scipy import sparse
 from scipy.interpolate import (
     BSpline,
     CubicHermiteSpline,
@@ -476,21 +476,18 @@ def _discrepancy_fit(u: np.ndarray, points: np.ndarray, u_all: np.ndarray,
     knots = u[0] + h * np.arange(-degree - before, intervals + after + degree + 1)
     basis = BSpline.design_matrix(u_all, knots, degree).tocsc()
     count = basis.shape[1]
-    diff = sparse.eye(count, format="csr")
-    for _ in range(PENALTY_ORDER):
-        diff = diff[1:] - diff[:-1]
     normal = (basis.T @ basis).tocsc()
-    penalty = (diff.T @ diff).tocsc()
     rhs = basis.T @ points_all
     first = int(np.searchsorted(u_all, u[0]))
     samples = basis[first:first + len(u)]  # the continuations carry no rounding to count
-    scale = normal.diagonal().mean() / penalty.diagonal().mean()
     target = len(points) * tolerance_m**2
 
     # both matrices are symmetric and banded: Cholesky on the band (LAPACK pbtrf/pbtrs) is
     # O(count) per lambda
     width_band = max(degree, PENALTY_ORDER)
-    normal_band, penalty_band = (_upper_band(m, width_band) for m in (normal, penalty))
+    normal_band = _upper_band(normal, width_band)
+    penalty_band = _difference_penalty_band(count, width_band)
+    scale = normal.diagonal().mean() / penalty_band[-1].mean()
 
     def coefficients(log_lam: float) -> np.ndarray:
         band = normal_band + (scale * 10.0**log_lam) * penalty_band
@@ -518,6 +515,19 @@ def _upper_band(matrix, width: int) -> np.ndarray:
     band = np.zeros((width + 1, count))
     for k in range(width + 1):
         band[width - k, k:] = matrix.diagonal(k)
+    return band
+
+
+def _difference_penalty_band(count: int, width: int) -> np.ndarray:
+    """D^T D in LAPACK upper band storage (``width`` + 1 rows), D the PENALTY_ORDER-th
+    differences of ``count`` coefficients: row r of D is (-1)^(P - a) C(P, a) at columns r + a
+    (a = 0..P), so every entry is a sum of integer products, exact in floating point."""
+    order = PENALTY_ORDER
+    row = [(-1) ** (order - a) * math.comb(order, a) for a in range(order + 1)]
+    band = np.zeros((width + 1, count))
+    for a in range(order + 1):
+        for b in range(a, order + 1):  # D[r, r + a] D[r, r + b] -> M[r + a, r + b]
+            band[width - (b - a), b:b + count - order] += row[a] * row[b]
     return band
 
 
