@@ -489,13 +489,19 @@ def _discrepancy_fit(u: np.ndarray, points: np.ndarray, u_all: np.ndarray,
     penalty_band = _difference_penalty_band(count, width_band)
     scale = normal.diagonal().mean() / penalty_band[-1].mean()
 
+    solved: dict[float, np.ndarray] = {}  # the search revisits its bracket and its root
+
     def coefficients(log_lam: float) -> np.ndarray:
+        if log_lam in solved:
+            return solved[log_lam]
         band = normal_band + (scale * 10.0**log_lam) * penalty_band
         try:
-            return solveh_banded(band, rhs, check_finite=False)
+            out = solveh_banded(band, rhs, check_finite=False)
         except LinAlgError:  # semi-definite to rounding (tiny lambda): LU with pivoting
-            return solve_banded((width_band, width_band), _full_band(band), rhs,
-                                check_finite=False)
+            out = solve_banded((width_band, width_band), _full_band(band), rhs,
+                               check_finite=False)
+        solved[log_lam] = out
+        return out
 
     def excess(log_lam: float) -> float:
         residual = samples @ coefficients(log_lam) - points
