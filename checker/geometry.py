@@ -209,6 +209,8 @@ def interpolate_columns(s: np.ndarray, columns: np.ndarray, x: np.ndarray) -> np
         slope * (x - s[j]) + columns[:, j] on the interval s[j] <= x < s[j + 1], and
         columns[:, -1] at x = s[-1] (np.interp's formula).
     """
+    shape = np.shape(x)
+    x = np.asarray(x, dtype=float).reshape(-1)
     last = len(s) - 2
     with np.errstate(invalid="ignore"):  # nan stations come out nan
         j = ((x - s[0]) * ((last + 1) / (s[-1] - s[0]))).astype(np.intp)
@@ -222,13 +224,13 @@ def interpolate_columns(s: np.ndarray, columns: np.ndarray, x: np.ndarray) -> np
     slopes = np.diff(columns, axis=1) / np.diff(s)
     into = x - s[j]
     at_end = x >= s[-1]
-    out = np.empty((len(columns),) + np.shape(x))
+    out = np.empty((len(columns), len(x)))
     for row, values, slope in zip(out, columns, slopes):
         np.take(slope, j, out=row)
         row *= into
         row += np.take(values, j)
         row[at_end] = values[-1]  # as np.interp
-    return out
+    return out.reshape((len(columns),) + shape)
 
 
 def _unit(v: np.ndarray) -> np.ndarray:
