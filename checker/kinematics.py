@@ -139,11 +139,11 @@ def seat_specific_force(omega: np.ndarray, domega: np.ndarray, frame_z: np.ndarr
               (v2 * (wz * wx - ay) - at * wy, v2 * (wz * wy + ax) + at * wx,
                v2 * (wz * wz - w_sq)))
     base = (at + frame_z[..., 0], v2 * wz + frame_z[..., 1], frame_z[..., 2] - v2 * wy)
-    out = affine_in_offsets(base, matrix, d.reshape(-1, 3))
+    out = _affine_in_offsets(base, matrix, d.reshape(-1, 3))
     return out[0] if d.ndim == 1 else out
 
 
-def affine_in_offsets(base, matrix, offsets: np.ndarray) -> np.ndarray:
+def _affine_in_offsets(base, matrix, offsets: np.ndarray) -> np.ndarray:
     """out[k, ..., i] = base[i] + sum_m matrix[i][m] * offsets[k, m], for every seat k.
 
     ``base`` is three arrays and ``matrix`` three rows of three, all of one shape (...);
@@ -168,10 +168,10 @@ def rider_histories(geometry: TrackGeometry, motion: RideMotion, seats: tuple[Se
                     rate_hz: float = 200.0) -> list[SeatHistory]:
     """Histories of every seat of every car, sampled uniformly in time.
 
-    The track quantities of every car come from one interpolation of all their columns;
-    then, car by car, the force and world position of every seat, both affine in the seat
-    offset (:func:`affine_in_offsets`). Speed is interpolated through the energy v^2/2, which
-    is smooth in s.
+    The track quantities of every car, and every seat's world position placed on the grid,
+    come from one interpolation of all their columns; then, car by car, the force at every
+    seat (affine in the seat offset). Speed is interpolated through the energy v^2/2, which is
+    smooth in s.
 
     Parameters
     ----------
@@ -201,7 +201,7 @@ def rider_histories(geometry: TrackGeometry, motion: RideMotion, seats: tuple[Se
     # every seat's world position on the grid (centerline + d_x tangent + d_y left + d_z up;
     # linear, so interpolating it equals placing the seat on the interpolated frame)
     axes = (geometry.tangent, geometry.left, geometry.up)
-    placed = affine_in_offsets(geometry.position.T,
+    placed = _affine_in_offsets(geometry.position.T,
                                [[axis[:, i] for axis in axes] for i in range(3)], offsets)
     columns = np.vstack([geometry.omega.T, geometry.domega.T, [a[:, 2] for a in axes],
                          *(seat.T for seat in placed)])
