@@ -26,7 +26,7 @@ import numpy as np
 
 from .constants import G0
 from .errors import TrainStalled
-from .geometry import TrackGeometry
+from .geometry import TrackGeometry, interpolate_columns
 from .operation import Launch, Lift, Operation
 from .train import Train
 
@@ -350,16 +350,13 @@ def simulate_motion(
     masses = train.car_masses()
     masses_list = masses.tolist()
     total = float(masses.sum())
-    shape = (len(stations), train.car_count)
-    tz, p, q, r, w = (np.empty(shape) for _ in range(5))
-    for j in range(train.car_count):
-        tan, left, up, omega = geometry.sample(stations - j * train.spacing_m,
-                                               "tangent", "left", "up", "omega")
-        tz[:, j] = tan[:, 2]
-        p[:, j] = omega[:, 2]  # yaw: lateral curvature
-        q[:, j] = G0 * left[:, 2]
-        r[:, j] = omega[:, 1]  # pitch: minus the vertical curvature
-        w[:, j] = G0 * up[:, 2]
+    cars = stations[:, None] - train.spacing_m * np.arange(train.car_count)
+    # at every car's station (n, cars): tangent z, yaw (lateral curvature), G0 left z,
+    # pitch (minus the vertical curvature), G0 up z
+    tz, p, q, r, w = interpolate_columns(
+        geometry.s, [geometry.tangent[:, 2], geometry.omega[:, 2], G0 * geometry.left[:, 2],
+                     geometry.omega[:, 1], G0 * geometry.up[:, 2]],
+        np.clip(cars, 0.0, geometry.length))
     gravity = -G0 * (tz @ masses) / total
     code, remaining, target_e, accel, force, cap_e = _section_arrays(
         stations, operation, geometry.length, train.length_m, ds)

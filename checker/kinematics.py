@@ -21,7 +21,7 @@ import numpy as np
 
 from .constants import G0
 from .dynamics import RideMotion
-from .geometry import TrackGeometry
+from .geometry import TrackGeometry, interpolate_columns
 from .train import Seat
 
 
@@ -100,7 +100,9 @@ def seat_specific_force(omega: np.ndarray, domega: np.ndarray, frame_z: np.ndarr
     """Specific force in rider axes for seat offsets.
 
     Rigid-body kinematics of the seat path R = c + d_i e_i (module docstring): acceleration
-    R'' v^2 + R' dv/dt, minus gravity, in frame components, divided by g0.
+    R'' v^2 + R' dv/dt, minus gravity, in frame components, divided by g0. The force is
+    affine in the offset, f = c + B d, so the 3 x 3 matrix B and the vector c are formed once
+    per sample and serve every seat.
 
     Parameters
     ----------
@@ -123,23 +125,43 @@ def seat_specific_force(omega: np.ndarray, domega: np.ndarray, frame_z: np.ndarr
         Specific force (Gx, Gy, Gz) [g0]; a rider at rest in a level seat reads (0, 0, 1).
     """
     d = np.asarray(offset, dtype=float)
-    lead = d.shape[:-1]
-    # broadcast seats in front of the station axes: d -> (seats, 1, ..., 1, 3)
-    d = d.reshape(lead + (1,) * (omega.ndim - 1) + (3,))
-    dx, dy, dz = d[..., 0], d[..., 1], d[..., 2]
-    wx, wy, wz = omega[..., 0], omega[..., 1], omega[..., 2]
-    ax, ay, az = domega[..., 0], domega[..., 1], domega[..., 2]
-    w_dot_d = wx * dx + wy * dy + wz * dz
+    wx, wy, wz = (omega[..., i] for i in range(3))
+    ax, ay, az = (domega[..., i] for i in range(3))
+    v2 = v * v / G0
+    at = a_t / G0
     w_sq = wx * wx + wy * wy + wz * wz
-    v2 = v * v
-    # R' = t + omega x d ; R'' = k + omega' x d + omega (omega . d) - d |omega|^2,
-    # k = (0, yaw, -pitch) in frame components
-    r1 = (1.0 + wy * dz - wz * dy, wz * dx - wx * dz, wx * dy - wy * dx)
-    r2 = (ay * dz - az * dy + wx * w_dot_d - dx * w_sq,
-          wz + az * dx - ax * dz + wy * w_dot_d - dy * w_sq,
-          -wy + ax * dy - ay * dx + wz * w_dot_d - dz * w_sq)
-    out = np.stack([(r2[i] * v2 + r1[i] * a_t + G0 * frame_z[..., i]) / G0 for i in range(3)],
-                   axis=-1)
+    # B = (v^2 ([omega']x + omega omega^T - |omega|^2 I) + dv/dt [omega]x) / g0 and
+    # c = (v^2 k + dv/dt e_x) / g0 + frame_z, from R' = t + omega x d and
+    # R'' = k + omega' x d + omega (omega . d) - d |omega|^2, k = (0, yaw, -pitch)
+    matrix = ((v2 * (wx * wx - w_sq), v2 * (wx * wy - az) - at * wz,
+               v2 * (wx * wz + ay) + at * wy),
+              (v2 * (wy * wx + az) + at * wz, v2 * (wy * wy - w_sq),
+               v2 * (wy * wz - ax) - at * wx),
+              (v2 * (wz * wx - ay) - at * wy, v2 * (wz * wy + ax) + at * wx,
+               v2 * (wz * wz - w_sq)))
+    base = (at + frame_z[..., 0], v2 * wz + frame_z[..., 1], frame_z[..., 2] - v2 * wy)
+    out = _affine_in_offsets(base, matrix, d.reshape(-1, 3))
+    return out[0] if d.ndim == 1 else out
+
+
+def _affine_in_offsets(base, matrix, offsets: np.ndarray) -> np.ndarray:
+    """out[k, ..., i] = base[i] + sum_m matrix[i][m] * offsets[k, m], for every seat k.
+
+    ``base`` is three arrays and ``matrix`` three rows of three, all of one shape (...);
+    element-wise passes over arrays of one car stay in cache (no BLAS: its threads compete
+    with the rest of the process on a shared machine). Returns shape (seats, ..., 3).
+    """
+    shape = np.broadcast_shapes(*(np.shape(x) for x in base),
+                                *(np.shape(x) for row in matrix for x in row))
+    out = np.empty((len(offsets),) + shape + (3,))
+    acc, term = np.empty(shape), np.empty(shape)
+    for k, d in enumerate(offsets.tolist()):
+        for i in range(3):
+            np.multiply(matrix[i][0], d[0], out=acc)
+            for m in (1, 2):
+                acc += np.multiply(matrix[i][m], d[m], out=term)
+            acc += base[i]
+            out[k, ..., i] = acc
     return out
 
 
@@ -147,9 +169,10 @@ def rider_histories(geometry: TrackGeometry, motion: RideMotion, seats: tuple[Se
                     rate_hz: float = 200.0) -> list[SeatHistory]:
     """Histories of every seat of every car, sampled uniformly in time.
 
-    The track quantities of every car are taken in one interpolation, then all the seats of a
-    car in one vectorized pass (car by car: the arrays stay in cache). Speed is interpolated
-    through the energy v^2/2, which is smooth in s.
+    The track quantities of every car, and every seat's world position placed on the grid,
+    come from one interpolation of all their columns; then, car by car, the force at every
+    seat (affine in the seat offset). Speed is interpolated through the energy v^2/2, which is
+    smooth in s.
 
     Parameters
     ----------
@@ -175,17 +198,20 @@ def rider_histories(geometry: TrackGeometry, motion: RideMotion, seats: tuple[Se
     a_t = np.interp(lead, motion.s, motion.a_t)
     cars = np.arange(motion.car_count)
     s_car = lead[None, :] - cars[:, None] * motion.car_spacing_m  # (cars, n)
-    omega, domega, pos, tan, left, up = (a.reshape(len(cars), len(lead), 3) for a in
-                                         geometry.sample(s_car.ravel(), "omega", "domega",
-                                                         "position", "tangent", "left", "up"))
     offsets = np.array([[seat.forward_m, seat.left_m, seat.up_m] for seat in seats])
+    # every seat's world position on the grid (centerline + d_x tangent + d_y left + d_z up;
+    # linear, so interpolating it equals placing the seat on the interpolated frame)
+    axes = (geometry.tangent, geometry.left, geometry.up)
+    placed = _affine_in_offsets(geometry.position.T,
+                               [[axis[:, i] for axis in axes] for i in range(3)], offsets)
+    columns = np.vstack([geometry.omega.T, geometry.domega.T, [a[:, 2] for a in axes],
+                         *(seat.T for seat in placed)])
+    values = interpolate_columns(geometry.s, columns, np.clip(s_car, 0.0, geometry.length))
     out = []
-    for car in cars:
-        frame_z = np.column_stack([tan[car, :, 2], left[car, :, 2], up[car, :, 2]])
-        g = seat_specific_force(omega[car], domega[car], frame_z, v, a_t, offsets)
-        for k, seat in enumerate(seats):
-            where = (pos[car] + seat.forward_m * tan[car] + seat.left_m * left[car]
-                     + seat.up_m * up[car])
-            out.append(SeatHistory(f"car{car + 1}-{seat.name}", int(car) + 1, times,
-                                   s_car[car], v, g[k], where))
+    for car in cars:  # car by car: the arrays of one car stay in cache
+        omega, domega, frame_z = (values[i:i + 3, car].T for i in (0, 3, 6))
+        g = seat_specific_force(omega, domega, frame_z, v, a_t, offsets)
+        out.extend(SeatHistory(f"car{car + 1}-{seat.name}", int(car) + 1, times, s_car[car], v,
+                               g[k], values[9 + 3 * k:12 + 3 * k, car].T)
+                   for k, seat in enumerate(seats))
     return out

@@ -267,7 +267,7 @@ def test_smoothing_tolerance_recovers_curvature_of_noisy_samples():
 
 
 def test_rotation_minimizing_normals_equal_the_stepwise_double_reflection():
-    # The batched prefix product against the double reflection applied step by step, as
+    # The running sum of step angles against the double reflection applied step by step, as
     # published (Wang, Juettler, Zheng and Liu, ACM TOG 27(1), 2008, algorithm 1), on a
     # helix whose tangent turns in two planes at once.
     from checker.geometry import rotation_minimizing_up
@@ -287,6 +287,52 @@ def test_rotation_minimizing_normals_equal_the_stepwise_double_reflection():
         v2 = tan[i + 1] - t_l
         c2 = v2 @ v2
         r = r_l - 2 / c2 * (v2 @ r_l) * v2
+        expected.append(r)
+    got = rotation_minimizing_up(pts, tan, expected[0])
+    np.testing.assert_allclose(got, np.array(expected), atol=1e-12)
+
+
+@pytest.mark.parametrize("uniform", [True, False])
+def test_interpolate_columns_equals_np_interp(uniform):
+    # Reference: numpy.interp, column by column (the formula interpolate_columns copies).
+    from checker.geometry import interpolate_columns
+
+    rng = np.random.default_rng(7)
+    s = (np.linspace(0.0, 2003.7, 10019) if uniform
+         else np.cumsum(np.concatenate([[0.0], rng.uniform(0.01, 1.0, 999)])))
+    columns = rng.normal(size=(5, len(s)))
+    # random stations, every grid station (rounding of the uniform-grid guess) and both ends
+    x = np.concatenate([rng.uniform(s[0], s[-1], 1200), s, [s[0], s[-1]]])
+    got = interpolate_columns(s, columns, x[None, :])
+    assert got.shape == (5, 1, len(x))
+    for row, values in zip(got, columns):
+        np.testing.assert_array_equal(row.ravel(), np.interp(x, s, values))
+
+
+def test_rotation_minimizing_normals_through_a_step_whose_second_reflection_vanishes():
+    # Where the chord's reflection already carries the tangent onto the next one, the second
+    # reflection is the identity and the step is improper (it mirrors the normal plane);
+    # reference: the double reflection step by step (Wang et al. 2008) with that reflection
+    # left out, on random tangents with two such steps.
+    from checker.geometry import rotation_minimizing_up
+
+    rng = np.random.default_rng(3)
+    pts = np.cumsum(rng.normal(size=(30, 3)), axis=0)
+    tan = rng.normal(size=(30, 3))
+    tan /= np.linalg.norm(tan, axis=1)[:, None]
+    for i in (10, 20):
+        v1 = pts[i + 1] - pts[i]
+        tan[i + 1] = tan[i] - 2 * (v1 @ tan[i]) / (v1 @ v1) * v1
+    r = np.cross(tan[0], [0.3, 0.5, 0.8])
+    r /= np.linalg.norm(r)
+    expected = [r]
+    for i in range(len(pts) - 1):
+        v1 = pts[i + 1] - pts[i]
+        r_l = r - 2 * (v1 @ r) / (v1 @ v1) * v1
+        t_l = tan[i] - 2 * (v1 @ tan[i]) / (v1 @ v1) * v1
+        v2 = tan[i + 1] - t_l
+        c2 = v2 @ v2
+        r = r_l - 2 * (v2 @ r_l) / c2 * v2 if c2 > 1e-30 else r_l
         expected.append(r)
     got = rotation_minimizing_up(pts, tan, expected[0])
     np.testing.assert_allclose(got, np.array(expected), atol=1e-12)
