@@ -58,6 +58,9 @@ class RideMotion:
         How the run ended, in words (end of track, stopped by a brake, stalled).
     stall : TrainStalled or None
         Set when the train came to rest outside a stopping brake (a record, not raised).
+    unsettled_e : float
+        0 when the speed march settled; else how much the specific energy v^2/2 still moved
+        in its last pass [m^2/s^2] (the speeds are then uncertain by about that much).
     """
 
     s: np.ndarray  # lead car station [m]
@@ -68,6 +71,7 @@ class RideMotion:
     car_count: int
     end_reason: str
     stall: TrainStalled | None = None  # set when the train came to rest outside a stop brake
+    unsettled_e: float = 0.0  # v^2/2 change in the march's last pass when it did not settle
 
     @property
     def duration_s(self) -> float:
@@ -87,9 +91,16 @@ def _wheel_loads(e: np.ndarray, slope_part: np.ndarray,
     return size.sum(axis=1), slope.sum(axis=1)
 
 
+# Newton passes of the speed march over the whole path (it settles in about three; a wheel
+# load changing sign exactly at a station can keep it oscillating, which is then reported).
+MARCH_PASSES = 40
+
+
 def _march(ds, gravity, p, q, r, w, masses, mu_over_m, drag_over_m, wind, code, remaining,
            target_e, accel, force_over_m, cap_e, e0):
-    """Space-marching kernel; returns (e, last index, reason, fraction of the last step).
+    """Space-marching kernel; returns (e, last index, reason, fraction of the last step,
+    change of e in the last pass [m^2/s^2]: 0 once settled, else the march did not settle
+    in MARCH_PASSES passes).
 
     Heun's method with the rolling-resistance load of every car. The load sum over the cars
     is a smooth function of e at each station; it is evaluated for all stations and cars at
@@ -112,7 +123,7 @@ def _march(ds, gravity, p, q, r, w, masses, mu_over_m, drag_over_m, wind, code, 
     # drag is 2e rho CdA / 2M) every Heun step there is e' = P e + Q, solved in one pass
     runs = _free_runs(code) if wind == 0.0 else {}
     result = None
-    for _ in range(40):
+    for _ in range(MARCH_PASSES):
         load, dload = _wheel_loads(guess, slope_part, rest_part)
         base = load - dload * guess  # load(e) ~ base + dload * e near the guess
         linear = (gravity - mu_over_m * base, -mu_over_m * dload - 2.0 * drag_over_m)
@@ -120,9 +131,11 @@ def _march(ds, gravity, p, q, r, w, masses, mu_over_m, drag_over_m, wind, code, 
                                               drag_over_m, wind, e0, *lists, runs=runs,
                                               linear=linear)
         change = float(np.max(np.abs(e[: last + 1] - guess[: last + 1])))
-        result = (e, last, reason, frac)
         guess = np.concatenate([e[: last + 1], guess[last + 1:]])
         if change <= 1e-7 * scale:  # quadratic convergence: what is left is ~1e-14 relative
+            change = 0.0
+        result = (e, last, reason, frac, change)
+        if change == 0.0:
             break
     return result
 
@@ -360,7 +373,7 @@ def simulate_motion(
     gravity = -G0 * (tz @ masses) / total
     code, remaining, target_e, accel, force, cap_e = _section_arrays(
         stations, operation, geometry.length, train.length_m, ds)
-    e, last, reason, frac = _march(
+    e, last, reason, frac, unsettled = _march(
         ds, gravity, p, q, r, w, masses_list, train.rolling_coefficient / total,
         0.5 * train.air_density_kg_m3 * train.drag_area_m2 / total, float(head_wind_m_s),
         code, remaining, target_e, accel, force / total, cap_e,
@@ -386,4 +399,5 @@ def simulate_motion(
     ends = {RAN_TO_END: "reached the end of the track",
             STOPPED_BY_BRAKE: f"stopped by a brake at station {s[-1]:.1f} m",
             STALLED: f"stalled at station {s[-1]:.1f} m"}
-    return RideMotion(s, t, v, a_t, train.spacing_m, train.car_count, ends[reason], stall)
+    return RideMotion(s, t, v, a_t, train.spacing_m, train.car_count, ends[reason], stall,
+                      unsettled)

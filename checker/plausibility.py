@@ -137,13 +137,20 @@ def motion_warnings(geometry: TrackGeometry, motion: RideMotion,
     Returns
     -------
     list of str
-        Warnings for: a roll rate (d roll / ds times speed) above :data:`ROLL_RATE_DEG_S`;
+        Warnings for: a speed march that did not settle (``motion.unsettled_e``); a roll
+        rate (d roll / ds times speed) above :data:`ROLL_RATE_DEG_S`;
         without a launch, a start speed more than :data:`ENERGY_TOLERANCE_M_S` above what the
         height range gives (``sqrt(2 g0 h)``); unless a force launch without a speed cap is
         present, a top speed more than :data:`ENERGY_TOLERANCE_M_S` above
         ``sqrt(v_p**2 + 2 g0 h)``, ``v_p`` the largest start, lift or launch speed.
     """
     out = []
+    if motion.unsettled_e > 0.0:
+        slowest = max(float(np.min(motion.v)), 1.0)
+        out.append(f"the speed march did not settle: v^2/2 still moved by "
+                   f"{motion.unsettled_e:.3g} m^2/s^2 in its last pass (speeds uncertain by about "
+                   f"{motion.unsettled_e / slowest:.2g} m/s); check the rolling resistance and "
+                   "the train's wheel loads, and confirm with a finer --step")
     (roll,) = geometry.sample(motion.s, "roll_deg")
     rate = np.abs(np.gradient(roll, motion.s)) * motion.v
     if rate.size and rate.max() > ROLL_RATE_DEG_S:

@@ -128,3 +128,23 @@ def test_case_file_with_one_stalling_case_fails_and_marks_the_matrix(tmp_path, c
     assert "Overall: FAIL" in pages[0] and "STALL" in pages[0]
     assert pages[0].count("cannot crest a hill") == 1  # one message, printed once
     assert "car1-rider P S" in "".join(pages)  # the matrix row: case 1 passes, 2 stalls
+
+
+def test_a_speed_march_that_does_not_settle_is_reported(monkeypatch):
+    # with one Newton pass the march cannot settle on a ride with rolling resistance (the
+    # wheel loads are linearised about the gravity-only guess): the ride must say so, and the
+    # same ride with the full passes must settle and stay quiet
+    from checker import dynamics
+    from checker.resources import demo_folder
+    from checker.ride import load_inputs, run_ride
+
+    demo = demo_folder()
+    inputs = load_inputs(demo / "thistle_comet_revB.csv", demo / "thistle_comet_train.toml",
+                         operation=demo / "thistle_comet_revB.operation.toml")
+    settled = run_ride(*inputs)
+    assert settled.motion.unsettled_e == 0.0
+    assert not any("did not settle" in w for w in settled.warnings)
+    monkeypatch.setattr(dynamics, "MARCH_PASSES", 1)
+    rough = run_ride(*inputs)
+    assert rough.motion.unsettled_e > 0.0
+    assert any("speed march did not settle" in w for w in rough.warnings)
