@@ -21,7 +21,7 @@ from ..limits import AXES, REST, contains
 from ..rules import Evaluation, seat_exposures
 from . import figures
 from .aids_figures import aids_context, aids_jobs
-from .pdf import ASSET_SCHEME, TEMPLATES
+from .pdf import ASSET_SCHEME, TEMPLATES, frozen_heap
 
 PAGE_SIZES = {"a4": "A4", "letter": "letter"}
 
@@ -262,8 +262,9 @@ def _run_figure_jobs(jobs: list) -> list:
 
     from ..parentwatch import watch_parent
 
-    with ProcessPoolExecutor(workers, mp_context=multiprocessing.get_context("fork"),
-                             initializer=watch_parent, initargs=(os.getpid(),)) as pool:
+    with frozen_heap(), ProcessPoolExecutor(
+            workers, mp_context=multiprocessing.get_context("fork"), initializer=watch_parent,
+            initargs=(os.getpid(),)) as pool:
         return list(pool.map(_call, jobs))
 
 

@@ -64,8 +64,13 @@ def lean_svg(text: str) -> str:
     declaration (parsed again for every node) and adds a metadata block and a ``*`` style
     sheet. Here groups that carry only an id give way to their children, style declarations
     become presentation attributes (the same cascade: SVG 1.1, 6.4), the sheet's two
-    inherited properties move to the root, and zero rotations go. What is drawn does not
-    change.
+    inherited properties move to the root, and zero rotations go. Within each axis (its
+    ticks, grid and labels), the grid lines become one path and the tick marks another:
+    matplotlib writes a path per grid line and a ``<use>`` of a marker per tick, and each
+    node costs weasyprint a clip, a graphics state and (for ``<use>``) a copy of the marker.
+    Tick marks become the marker's polyline moved to the tick; parallel lines with the same
+    stroke do not overlap, so one path draws them as the separate ones did. What is drawn
+    does not change.
 
     Parameters
     ----------
@@ -83,26 +88,73 @@ def lean_svg(text: str) -> str:
         root = ET.fromstring(text[text.index("<svg"):])
     except ET.ParseError:  # e.g. control characters of a name in a title: left as drawn
         return text
-    _lean_children(root)
-    for el in list(root):
-        if el.tag == f"{{{SVG_NS}}}defs":
-            for style in el.findall(f"{{{SVG_NS}}}style"):
-                el.remove(style)
-            if not len(el):
-                root.remove(el)
+    markers: dict[str, ET.Element] = {}
+    _lean_children(root, markers)
+    used = {el.get(_HREF, "")[1:] for el in root.iter(f"{{{SVG_NS}}}use")}
+    for defs in list(root.iter(f"{{{SVG_NS}}}defs")):
+        for el in list(defs):
+            if el.tag == f"{{{SVG_NS}}}style" or (el.get("id") in markers
+                                                  and el.get("id") not in used):
+                defs.remove(el)  # the style sheet, and markers no tick refers to any more
+    _drop_empty_defs(root)
     # what the removed "*{stroke-linejoin: round; stroke-linecap: butt}" sheet gave every node
     root.set("stroke-linejoin", "round")
     root.set("stroke-linecap", "butt")
     return ET.tostring(root, encoding="unicode")
 
 
-def _lean_children(parent) -> None:
+_HREF = f"{{{XLINK_NS}}}href"
+_POLYLINE = re.compile(r"\s*(?:[ML]\s*[-+\d.e]+\s+[-+\d.e]+\s*)+")
+_NUMBER_PAIR = re.compile(r"([ML])\s*([-+\d.e]+)\s+([-+\d.e]+)")
+
+
+def _drop_empty_defs(parent) -> None:
+    for el in list(parent):
+        if el.tag == f"{{{SVG_NS}}}defs" and not len(el):
+            parent.remove(el)
+        else:
+            _drop_empty_defs(el)
+
+
+def _merge_axis(axis, markers: dict) -> None:
+    """One path per stroke style among an axis group's paths (its grid lines) and its
+    tick marks (``<use>`` of a polyline marker, written out at the tick), in place."""
+    kept: list = []
+    merged: dict[tuple, ET.Element] = {}
+    for el in axis:
+        tag = el.tag.rpartition("}")[2]
+        d = None
+        if tag == "path" and "id" not in el.attrib:
+            d, attrs = el.get("d", ""), {k: v for k, v in el.attrib.items() if k != "d"}
+        elif tag == "use":
+            marker = markers.get(el.get(_HREF, "")[1:])
+            attrs = {k: v for k, v in el.attrib.items() if k not in (_HREF, "x", "y")}
+            if marker is not None and attrs == {k: v for k, v in marker.attrib.items()
+                                                if k not in ("id", "d")}:
+                x, y = float(el.get("x", 0)), float(el.get("y", 0))
+                d = " ".join(f"{op} {float(a) + x:.6f} {float(b) + y:.6f}"
+                             for op, a, b in _NUMBER_PAIR.findall(marker.get("d", "")))
+        if d is None:
+            kept.append(el)
+            continue
+        key = (tag, tuple(sorted(attrs.items())))
+        if key in merged:
+            merged[key].set("d", merged[key].get("d") + " " + d)
+        else:
+            path = ET.Element(f"{{{SVG_NS}}}path", attrs)
+            path.set("d", d)
+            merged[key] = path
+            kept.append(path)
+    axis[:] = kept
+
+
+def _lean_children(parent, markers: dict) -> None:
     kept = []
     for el in parent:
         tag = el.tag.rpartition("}")[2]
         if tag == "metadata":
             continue
-        _lean_children(el)
+        _lean_children(el, markers)
         style = el.attrib.pop("style", None)
         if style:
             for declaration in style.split(";"):
@@ -112,6 +164,11 @@ def _lean_children(parent) -> None:
         transform = el.get("transform")
         if transform is not None and _NO_ROTATION.fullmatch(transform):
             del el.attrib["transform"]
+        if tag == "path" and parent.tag == f"{{{SVG_NS}}}defs" and "id" in el.attrib \
+                and _POLYLINE.fullmatch(el.get("d", "")):
+            markers[el.get("id")] = el  # a tick marker: ticks may be written out as paths
+        if tag == "g" and el.get("id", "").startswith("matplotlib.axis"):
+            _merge_axis(el, markers)
         if tag == "g" and set(el.attrib) <= {"id"}:
             kept.extend(el)  # a bare group: its children take its place
         else:
