@@ -34,6 +34,16 @@ LIMIT_COLOR = "#111111"  # limit lines: black, dashed; never the colour of a sig
 NEUTRAL = {"gx": 0.0, "gy": 0.0, "gz": 1.0}  # the level of a rider at rest [g]
 WIDTH_IN = 6.7  # fits A4 and US Letter with 2 cm margins
 LOG_TICKS = [0.01, 0.1, 1.0, 10.0, 100.0]
+# Space above the top axes [in]: for a figure title, for panel titles only, for none (half a
+# tick label). A report puts its figure titles in the HTML instead: weasyprint lays out SVG
+# text one glyph at a time, and a title was a third of the figures' characters.
+TITLE_IN, PANEL_TITLE_IN, BARE_TOP_IN = 0.23, 0.25, 0.08
+
+
+def _margins(fig, top_in: float, bottom_in: float, **kwargs) -> None:
+    """Fixed margins in inches (no tight_layout, which draws the whole figure once more)."""
+    height = fig.get_figheight()
+    fig.subplots_adjust(top=1.0 - top_in / height, bottom=bottom_in / height, **kwargs)
 
 
 def _log_duration_axis(ax) -> None:
@@ -370,7 +380,7 @@ def time_histories(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
         (t_start [s], t_end [s], axis) of each finding; an axis such as ``"gx+gz"`` shades
         both panels.
     title : str
-        Figure title.
+        Figure title; empty: none (the axes keep their size, the figure is shorter).
     overlay : (numpy.ndarray, numpy.ndarray, str) or None, optional
         (t [s], filtered (m, 3) [g], label) of a second signal drawn dashed (comparisons,
         correlation).
@@ -380,7 +390,8 @@ def time_histories(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
     str
         The SVG document; each signal is reduced with :func:`envelope_decimate`.
     """
-    fig, axes = plt.subplots(3, 1, figsize=(WIDTH_IN, 3.8), sharex=True)
+    top = TITLE_IN if title else BARE_TOP_IN
+    fig, axes = plt.subplots(3, 1, figsize=(WIDTH_IN, 3.63 + top), sharex=True)
     for i, (ax, axis) in enumerate(zip(axes, ("gx", "gy", "gz"))):
         if raw is not None:
             ax.plot(*envelope_decimate(t, raw[:, i]), color="#bbbbbb", lw=0.6, label="raw")
@@ -394,9 +405,10 @@ def time_histories(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
                 ax.axvspan(a, b, color=FINDING_COLOR, alpha=0.18, lw=0)
         ax.set_ylabel(f"{axis.capitalize()} [g]")
         ax.legend(loc="upper right", ncol=3, fontsize=6)
-    axes[0].set_title(title)
+    if title:
+        axes[0].set_title(title)
     axes[-1].set_xlabel("time [s]")
-    fig.subplots_adjust(left=0.09, right=0.98, top=0.94, bottom=0.09, hspace=0.12)
+    _margins(fig, top, 0.4, left=0.09, right=0.98, hspace=0.12)  # room for "time [s]"
     return _svg(fig)
 
 
@@ -416,7 +428,7 @@ def exposure_curves(curves: list[dict], title: str) -> str:
         ``overlay_durations``, ``overlay_levels`` and ``overlay_label`` (a second curve
         drawn dotted).
     title : str
-        Figure title.
+        Figure title; empty: none (the panels keep their size, the figure is shorter).
 
     Returns
     -------
@@ -424,7 +436,8 @@ def exposure_curves(curves: list[dict], title: str) -> str:
         The SVG document (durations on a log axis).
     """
     axes_names = [a for a in ("gx", "gy", "gz") if any(c["axis"] == a for c in curves)]
-    fig, axes = plt.subplots(1, max(len(axes_names), 1), figsize=(WIDTH_IN, 2.3),
+    top = PANEL_TITLE_IN + (0.164 if title else 0.0)
+    fig, axes = plt.subplots(1, max(len(axes_names), 1), figsize=(WIDTH_IN, 1.886 + top),
                              squeeze=False)
     for ax, axis in zip(axes.flat, axes_names):
         _log_duration_axis(ax)
@@ -451,8 +464,9 @@ def exposure_curves(curves: list[dict], title: str) -> str:
         ax.set_xlabel("duration [s]")
         ax.set_ylabel(f"{axis.capitalize()} level [g]")
         ax.legend(loc="best", fontsize=6)
-    fig.suptitle(title, fontsize=9)
-    fig.subplots_adjust(left=0.08, right=0.98, top=0.82, bottom=0.19, wspace=0.35)
+    if title:
+        fig.suptitle(title, fontsize=9)
+    _margins(fig, top, 0.437, left=0.08, right=0.98, wspace=0.35)
     return _svg(fig)
 
 
@@ -485,7 +499,7 @@ def event_window(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
     limits : list of (str, float)
         (label, level [g]) of each limit line.
     title : str
-        Figure title.
+        Figure title; empty: none (the axes keep their size, the figure is shorter).
     pad_s : float, optional
         Time shown before and after the span [s] (default 1.5).
     onset : (numpy.ndarray, float) or None, optional
@@ -501,7 +515,10 @@ def event_window(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
     a, b = span
     window = (t >= a - pad_s) & (t <= b + pad_s)
     rows = 2 if onset is not None else 1
-    fig, panels = plt.subplots(rows, 1, figsize=(WIDTH_IN, 1.55 + 1.2 * (rows - 1)),
+    top = (0.2325 if rows == 1 else 0.33) if title else BARE_TOP_IN
+    bottom = 0.403 if rows == 1 else 0.385
+    plots = 0.9145 if rows == 1 else 2.035  # height of the axes and the gap between them
+    fig, panels = plt.subplots(rows, 1, figsize=(WIDTH_IN, top + plots + bottom),
                                sharex=True, squeeze=False)
     ax = panels[0, 0]
     for i in axes:
@@ -514,7 +531,8 @@ def event_window(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
         ax.axhline(level, color=LIMIT_COLOR, ls="--", lw=1.0, label=label)
     ax.axvspan(a, b, color=FINDING_COLOR, alpha=0.12, lw=0, label="exceedance")
     ax.set_ylabel("[g]")
-    ax.set_title(title)
+    if title:
+        ax.set_title(title)
     ax.legend(loc="best", fontsize=6, ncol=3)
     if onset is not None:
         rate, limit = onset
@@ -526,8 +544,7 @@ def event_window(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
         ax2.set_ylabel("[g/s]")
         ax2.legend(loc="best", fontsize=6, ncol=3)
     panels[-1, 0].set_xlabel("time [s]")
-    fig.subplots_adjust(left=0.09, right=0.98, top=0.88 if rows == 2 else 0.85,
-                        bottom=0.14 if rows == 2 else 0.26, hspace=0.12)
+    _margins(fig, top, bottom, left=0.09, right=0.98, hspace=0.12)
     return _svg(fig)
 
 
@@ -541,7 +558,7 @@ def combined_scatter(panels: list[dict], title: str) -> str:
         (m, 2) [g] of the polygon and ``outside`` (n,) bool, the samples outside it (drawn
         red).
     title : str
-        Figure title.
+        Figure title; empty: none (the panels keep their size, the figure is shorter).
 
     Returns
     -------
@@ -549,7 +566,8 @@ def combined_scatter(panels: list[dict], title: str) -> str:
         The SVG document; the trajectory is reduced with :func:`path_decimate` (0.04 g).
     """
     n = len(panels)
-    fig, axes = plt.subplots(1, max(n, 1), figsize=(WIDTH_IN, 2.2), squeeze=False)
+    top = PANEL_TITLE_IN + (0.19 if title else 0.0)
+    fig, axes = plt.subplots(1, max(n, 1), figsize=(WIDTH_IN, 1.83 + top), squeeze=False)
     for ax, p in zip(axes.flat, panels):
         pts = p["points"]
         path = pts[path_decimate(pts, 0.04)]
@@ -564,6 +582,7 @@ def combined_scatter(panels: list[dict], title: str) -> str:
         ax.set_xlabel(f"{p['axes'][0].capitalize()} [g]")
         ax.set_ylabel(f"{p['axes'][1].capitalize()} [g]")
         ax.set_title(p["name"])
-    fig.suptitle(title, fontsize=9)
-    fig.subplots_adjust(left=0.08, right=0.98, top=0.8, bottom=0.15, wspace=0.3)
+    if title:
+        fig.suptitle(title, fontsize=9)
+    _margins(fig, top, 0.4, left=0.08, right=0.98, wspace=0.3)  # room for the x labels
     return _svg(fig)
