@@ -188,3 +188,51 @@ def test_plotted_envelope_keeps_every_slice_extreme_and_lean_svg_draws_the_same(
     before, after = _pixels(plain), _pixels(lean)
     assert before.shape == after.shape and before.min() < 128  # something dark was drawn
     assert np.abs(before - after).max() <= 8  # anti-aliasing may round differently
+
+
+def test_a_reused_figure_draws_what_a_new_one_draws():
+    """Figures of one layout reuse this process's last figure (emptied): each kind, drawn
+    after another of its kind with other data, gives the SVG a new figure gives."""
+    from checker.report import figures
+
+    def signal(n, scale, rng):
+        t = np.arange(n) * 0.005
+        filtered = np.cumsum(rng.normal(size=(n, 3)), axis=0) * scale + [0.0, 0.0, 1.0]
+        return t, filtered, filtered + rng.normal(size=(n, 3)) * 0.05
+
+    def curves(top):
+        d = np.geomspace(0.01, 20.0, 40)
+        return [{"name": "+Gz", "axis": "gz", "durations": d, "levels": top - 0.1 * np.log(d),
+                 "limit_durations": np.array([0.01, 1.0, 20.0]),
+                 "limit_levels": np.array([top + 1, top, top - 1])},
+                {"name": "-Gx", "axis": "gx", "durations": d, "levels": -top + 0 * d,
+                 "limit_durations": np.array([0.01, 20.0]), "limit_levels": np.array([-2.0, -1.5]),
+                 "step": True}]
+
+    def scatter(scale, rng):
+        pts = rng.normal(size=(500, 2)) * scale
+        square = np.array([[-1.0, -1.0], [1.0, -1.0], [1.0, 1.0], [-1.0, 1.0]])
+        return [{"name": "x-z", "axes": ("gx", "gz"), "points": pts, "vertices": square,
+                 "outside": np.abs(pts).max(axis=1) > 1.0}]
+
+    def drawings(k):  # the same data for the same k
+        rng = np.random.default_rng(k)
+        t, f, raw = signal(9000 + 1000 * k, 0.01 * (k + 1), rng)
+        points = scatter(0.5 + k, rng)
+        rate = np.gradient(f[:, 2], t)
+        return [
+            lambda: figures.time_histories(t, f, raw, [(10.0 + k, 11.0 + k, "gz")], ""),
+            lambda: figures.exposure_curves(curves(2.0 + k), ""),
+            lambda: figures.combined_scatter(points, ""),
+            lambda: figures.event_window(t, f, raw, [2], (20.0, 20.5 + k), [("limit", 3.0)],
+                                         "", onset=(rate, 20.0 + k)),
+            lambda: figures.event_window(t, f, None, [0, 2], (30.0, 30.2), [], ""),
+        ]
+
+    figures._REUSED.clear()
+    for draw in drawings(0):
+        draw()
+    reused = [draw() for draw in drawings(1)]
+    for draw, svg in zip(drawings(1), reused):
+        figures._REUSED.clear()
+        assert draw() == svg
