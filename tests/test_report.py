@@ -230,9 +230,11 @@ def test_a_reused_figure_draws_what_a_new_one_draws():
         ]
 
     figures._REUSED.clear()
+    open_before = figures.plt.get_fignums()
     for draw in drawings(0):
         draw()
     reused = [draw() for draw in drawings(1)]
+    assert figures.plt.get_fignums() == open_before  # kept figures are not pyplot's
     for draw, svg in zip(drawings(1), reused):
         figures._REUSED.clear()
         assert draw() == svg

@@ -14,6 +14,7 @@ import xml.etree.ElementTree as ET
 import matplotlib
 
 matplotlib.use("Agg")
+import matplotlib.figure  # noqa: E402
 import matplotlib.pyplot as plt  # noqa: E402
 import matplotlib.ticker  # noqa: E402
 import numpy as np  # noqa: E402
@@ -85,7 +86,8 @@ def _reused(nrows: int, ncols: int, figsize: tuple[float, float], **kwargs):
     """
     key = (nrows, ncols, tuple(figsize), repr(sorted(kwargs.items())))
     if key not in _REUSED:
-        _REUSED[key] = plt.subplots(nrows, ncols, figsize=figsize, **kwargs)
+        fig = matplotlib.figure.Figure(figsize=figsize)  # kept out of pyplot's open figures
+        _REUSED[key] = (fig, fig.subplots(nrows, ncols, **kwargs))
         return _REUSED[key]
     fig, axes = _REUSED[key]
     for ax in fig.axes:
