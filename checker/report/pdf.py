@@ -37,6 +37,11 @@ def frozen_heap():
     walk nor write to the parent's pages (Python documentation, ``gc.freeze``); that saved
     about 15 % of the figure workers' CPU time. A block nested in another leaves
     the outer one's freeze in place.
+
+    Yields
+    ------
+    None
+        Control, with the heap frozen (thawed again on exit, also on an exception).
     """
     if gc.get_freeze_count():  # an outer block froze the heap: it also thaws it
         yield
