@@ -185,9 +185,11 @@ def aids_summary(evaluation: Evaluation, sensitivity=None) -> str:
         if top is None:
             lines.append("zones: no zone of the diagram is reached for its dwell time")
         else:
+            place = (f" at station {top['s_start_m']:.1f} m" if top.get("s_start_m") is not None
+                     else "")
             lines.append(f"zones: highest reached '{top['zone']}' (order {top['order']}) by "
-                         f"{top['seat']} ({top['case']}) from {top['t_start']:.2f} s at "
-                         f"{_where(top)} for {top['duration_s']:.2f} s")
+                         f"{top['seat']} ({top['case']}) from {top['t_start']:.2f} s{place} "
+                         f"for {top['duration_s']:.2f} s")
         outside = max((s["outside_longest_s"] for s in zones["seats"]), default=0.0)
         if outside > 0:
             lines.append(f"  the trace lies outside every zone for up to {outside:.2f} s: "

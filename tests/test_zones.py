@@ -99,3 +99,28 @@ def test_ellipse_screen_classifies_as_the_polygon_test():
         poly = np.column_stack([radius * np.cos(theta), 1.0 + radius * np.sin(theta)])
         pts = rng.normal([0.0, 1.0], rng.uniform(0.2, 2.0), (2000, 2))
         np.testing.assert_array_equal(_inside(poly, pts), contains(poly, pts))
+
+
+def test_zone_figure_draws_the_seats_its_table_lists():
+    # every seat of the demo's revision B reaches the same zone: the figure must still draw
+    # the three seats the table ranks first (highest zone, then earliest), not the first
+    # three seats in train order
+    from checker.application import check_layout
+    from checker.report.aids_figures import aids_section
+    from checker.resources import demo_folder
+
+    demo = demo_folder()
+    result = check_layout(demo / "thistle_comet_revB.csv",
+                          train=demo / "thistle_comet_train.toml",
+                          operation=demo / "thistle_comet_revB.operation.toml")
+    drawn = []
+
+    def record(function, *args):
+        drawn.append((function.__name__, args))
+        return ""
+
+    section = aids_section(result.evaluation, draw=record)
+    rows = section["zones"]["rows"]
+    (traces,) = [args[1] for name, args in drawn if name == "zones_figure"]
+    assert [label for label, _, _ in traces] == [f"{r['seat']} ({r['case']})" for r in rows]
+    assert len({r["seat"] for r in rows}) == 3

@@ -284,11 +284,13 @@ def aids_section(evaluation, sensitivity=None, draw=_draw_now) -> dict:
     if zones is not None:
         summaries = {(s.seat, s.case): s for s in evaluation.seats if s.zones is not None}
         top = overall_highest({k: s.zones for k, s in summaries.items()})
-        traced = [s for s in evaluation.seats if s.filtered is not None]
-        traced.sort(key=lambda s: -(s.zones.highest.order if s.zones and s.zones.highest
-                                    else 0))
+        # the figure draws the seats the table lists (highest zone first, then earliest)
+        kept = {(s.seat, s.case): s for s in evaluation.seats if s.filtered is not None}
+        ranked = [kept[(r["seat"], r["case"])] for r in _top_zone_rows(zones["seats"],
+                                                                        len(zones["seats"]))
+                  if (r["seat"], r["case"]) in kept]
         traces = [(f"{s.seat} ({s.case})", s.filtered[:, 0], s.filtered[:, 2])
-                  for s in traced[:3]]
+                  for s in ranked[:3]]
         section["zones"] = {
             "top": zones["highest"], "rows": _top_zone_rows(zones["seats"], 3),
             "more": max(0, len(zones["seats"]) - 3),
