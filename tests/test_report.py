@@ -238,3 +238,77 @@ def test_a_reused_figure_draws_what_a_new_one_draws():
     for draw, svg in zip(drawings(1), reused):
         figures._REUSED.clear()
         assert draw() == svg
+
+
+def _legend_clear_of_lines(ax) -> bool:
+    """Whether the axes' legend box meets none of their lines, by matplotlib's own path
+    test (Path.intersects_bbox), not the placement code's clipping."""
+    from matplotlib.backends.backend_agg import RendererAgg
+
+    fig = ax.figure
+    box = ax.get_legend().get_window_extent(RendererAgg(1, 1, fig.dpi))
+    for line in ax.lines:
+        path = line.get_transform().transform_path(line.get_path()).cleaned(remove_nans=True)
+        if path.intersects_bbox(box, filled=False):
+            return False
+    return True
+
+
+def test_free_legend_leaves_every_line_visible():
+    """Lines through every corner: no corner is free, so the y range grows and the legend
+    sits in a band of its own; with a free corner, the data range is left alone."""
+    import matplotlib.figure
+
+    from checker.report.figures import free_legend
+
+    fig = matplotlib.figure.Figure(figsize=(6.7, 1.3))
+    ax = fig.subplots()
+    t = np.linspace(0.0, 3.0, 600)
+    ax.plot(t, 3.0 + 2.5 * np.cos(2 * np.pi * t / 3.0), label="signal")  # high at both ends
+    ax.plot(t, 3.0 - 2.5 * np.cos(2 * np.pi * t / 3.0), label="mirror")  # low at both ends
+    ax.axhline(5.0, ls="--", label="limit 5.00 g")
+    fig.subplots_adjust(bottom=0.3, top=0.95)
+    ax.legend(loc="upper right", fontsize=6, ncol=3)
+    assert not _legend_clear_of_lines(ax)  # the plain legend hides a line here
+    before = ax.get_ylim()
+    free_legend(ax, ncol=3)
+    assert _legend_clear_of_lines(ax)
+    assert ax.get_ylim()[0] <= before[0] and ax.get_ylim()[1] >= before[1]  # data all shown
+
+    fig = matplotlib.figure.Figure(figsize=(6.7, 1.3))
+    ax = fig.subplots()
+    ax.plot(t, 5.0 - t, label="falling")  # the upper right corner is empty
+    fig.subplots_adjust(bottom=0.3, top=0.95)
+    before = ax.get_ylim()
+    free_legend(ax)
+    assert _legend_clear_of_lines(ax) and ax.get_ylim() == before
+
+
+def test_exposure_and_event_legends_cover_no_line():
+    """The demo-like crowded cases of the report: legends clear of limits and curves in
+    every exposure panel and event window (the figure drawn last is kept, see _reused)."""
+    from checker.report import figures
+
+    d = np.geomspace(0.005, 20.0, 60)
+    curves = [{"name": "Gy left", "axis": "gy", "durations": d, "levels": 0.7 - 0.05 * np.log(d),
+               "limit_durations": np.array([0.005, 2.0, 5.0, 60.0]),
+               "limit_levels": np.array([1.8, 1.4, 1.0, 1.0])},
+              {"name": "Gy right", "axis": "gy", "durations": d,
+               "levels": -0.6 + 0.1 * np.log(d / 0.005),
+               "limit_durations": np.array([0.005, 2.0, 5.0, 60.0]),
+               "limit_levels": np.array([-1.8, -1.4, -1.0, -1.0])}]
+    figures.exposure_curves(curves, "")
+    fig, axes = figures._REUSED[(1, 1, (figures.WIDTH_IN, 1.886 + figures.PANEL_TITLE_IN),
+                                 repr([("squeeze", False)]))]
+    assert axes[0, 0].get_legend() is not None and _legend_clear_of_lines(axes[0, 0])
+
+    t = np.arange(0.0, 10.0, 0.005)
+    gz = 1.0 + 4.58 * np.exp(-((t - 5.0) / 0.3) ** 2)  # a spike past the 5.00 g limit
+    signal = np.column_stack([0 * t, 0 * t, gz])
+    figures.event_window(t, signal, signal + 0.3 * np.sin(40 * t)[:, None], [2], (4.9, 5.1),
+                         [("limit 5.00 g for 0.01 s", 5.0)], "")
+    kept = [v for k, v in figures._REUSED.items() if k[:2] == (1, 1) and k != (
+        1, 1, (figures.WIDTH_IN, 1.886 + figures.PANEL_TITLE_IN), repr([("squeeze", False)]))]
+    ax = kept[-1][1][0, 0]
+    assert any(line.get_label().startswith("limit") for line in ax.lines)
+    assert ax.get_legend() is not None and _legend_clear_of_lines(ax)

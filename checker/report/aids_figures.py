@@ -36,23 +36,25 @@ def zones_figure(zones, traces: list[tuple[str, np.ndarray, np.ndarray]], title:
         The SVG document.
     """
     fig, ax = plt.subplots(figsize=(WIDTH_IN, 2.5))
+    keys = {}
     for k, z in sorted(enumerate(zones), key=lambda p: -p[1].order):
         v = np.vstack([z.vertices, z.vertices[:1]])
-        ax.fill(v[:, 0], v[:, 1], color=ZONE_COLORS[k % len(ZONE_COLORS)], lw=0)
-        ax.plot(v[:, 0], v[:, 1], color="#666666", lw=0.7)
-        top = int(np.argmax(v[:, 1]))
-        ax.annotate(z.name, (v[top, 0], v[top, 1]), fontsize=6, color="#444444",
-                    textcoords="offset points", xytext=(2, -8))
+        keys[(z.order, k)] = ax.fill(v[:, 0], v[:, 1], color=ZONE_COLORS[k % len(ZONE_COLORS)],
+                                     lw=0.7, ec="#666666", label=z.name)[0]
     shades = ("#1f5fa8", "#b0301f", "#2a8a3e", "#7a3fa0")
+    lines = []
     for i, (label, gx, gz) in enumerate(traces):
         pts = np.column_stack([gx, gz])
         path = pts[path_decimate(pts, 0.02)]
-        ax.plot(path[:, 0], path[:, 1], lw=0.6, color=shades[i % len(shades)], label=label)
+        lines += ax.plot(path[:, 0], path[:, 1], lw=0.6, color=shades[i % len(shades)],
+                         label=label)
     ax.set_xlabel("Gx [g]")
     ax.set_ylabel("Gz [g]")
     ax.set_title(title)
-    if traces:
-        ax.legend(loc="lower right")
+    # the zones' names and the seats in a key beside the diagram: a name written on the
+    # diagram ran past the frame or lay under the traces
+    ax.legend(handles=[keys[k] for k in sorted(keys)] + lines, loc="upper left",
+              bbox_to_anchor=(1.01, 1.0), borderaxespad=0.0, fontsize=6)
     fig.tight_layout()
     return _svg(fig)
 

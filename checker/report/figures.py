@@ -56,6 +56,130 @@ def _log_duration_axis(ax) -> None:
     ax.xaxis.set_minor_locator(matplotlib.ticker.NullLocator())
 
 
+# Legend corners tried in turn; the first one no line passes under is taken
+_CORNERS = ("upper right", "upper left", "lower right", "lower left")
+_MEASURE: dict[float, object] = {}  # a text-measuring renderer per figure dpi
+
+
+def _crosses(segments: np.ndarray, box: tuple[float, float, float, float]) -> bool:
+    """Whether any segment (k, 2, 2) [px] meets the rectangle (x0, y0, x1, y1) [px]
+    (Liang-Barsky clipping, all segments at once)."""
+    if not len(segments):
+        return False
+    x0, y0, x1, y1 = box
+    start, delta = segments[:, 0], segments[:, 1] - segments[:, 0]
+    lo, hi = np.zeros(len(segments)), np.ones(len(segments))
+    inside = np.ones(len(segments), dtype=bool)
+    for p, q in ((-delta[:, 0], start[:, 0] - x0), (delta[:, 0], x1 - start[:, 0]),
+                 (-delta[:, 1], start[:, 1] - y0), (delta[:, 1], y1 - start[:, 1])):
+        parallel = p == 0
+        inside &= ~(parallel & (q < 0))
+        with np.errstate(divide="ignore", invalid="ignore"):
+            r = np.where(parallel, 0.0, q / np.where(parallel, 1.0, p))
+        lo = np.where(~parallel & (p < 0), np.maximum(lo, r), lo)
+        hi = np.where(~parallel & (p > 0), np.minimum(hi, r), hi)
+    return bool(np.any(inside & (lo <= hi)))
+
+
+def _segments(ax) -> np.ndarray:
+    """Every drawn line of the axes (data, limits, reference lines) as display-space
+    segments (k, 2, 2) [px]; a NaN ends a line."""
+    parts = []
+    for line in ax.lines:
+        if not line.get_visible():
+            continue
+        xy = line.get_transform().transform(line.get_path().vertices)
+        seg = np.stack([xy[:-1], xy[1:]], axis=1)
+        parts.append(seg[np.isfinite(seg).all(axis=(1, 2))])
+    return np.concatenate(parts) if parts else np.zeros((0, 2, 2))
+
+
+def free_legend(ax, fontsize: float = 6, **kwargs):
+    """A legend placed where no line of the axes passes under it.
+
+    Matplotlib's ``loc="best"`` only picks the corner covering the fewest vertices, which
+    on a full plot still hides a limit line or a peak. Here the four corners are tried in
+    turn; when every one covers a line, the y range grows on the side that needs the least
+    (the legend then sits in an empty band above or below the data). The axes keep their
+    size and margins: call this after the figure's margins and every line are set, on a
+    linear y axis.
+
+    Parameters
+    ----------
+    ax : matplotlib.axes.Axes
+        The axes, with all their lines drawn.
+    fontsize : float, optional
+        Legend font size [pt] (default 6).
+    **kwargs
+        Further :meth:`matplotlib.axes.Axes.legend` arguments (``ncol``, ``handles``...).
+
+    Returns
+    -------
+    matplotlib.legend.Legend
+        The legend, at its chosen corner.
+    """
+    from matplotlib.backends.backend_agg import RendererAgg
+
+    fig = ax.figure
+    legend = ax.legend(loc=_CORNERS[0], fontsize=fontsize, **kwargs)
+    if fig.dpi not in _MEASURE:
+        _MEASURE[fig.dpi] = RendererAgg(1, 1, fig.dpi)
+    size = legend.get_window_extent(_MEASURE[fig.dpi])
+    frame = ax.get_window_extent()
+    pad = legend.borderaxespad * fontsize * fig.dpi / 72.0
+    gap = 0.5 * fontsize * fig.dpi / 72.0  # clear space kept between legend and lines
+    w, h = size.width + 2 * gap, size.height + 2 * gap
+    ax.get_ylim()  # settle autoscaling before reading the data transform
+    segments = _segments(ax)
+
+    def box(corner: str) -> tuple[float, float, float, float]:
+        x0 = frame.x0 + pad - gap if "left" in corner else frame.x1 - pad - size.width - gap
+        y0 = frame.y0 + pad - gap if "lower" in corner else frame.y1 - pad - size.height - gap
+        return x0, y0, x0 + w, y0 + h
+
+    for corner in _CORNERS:
+        if not _crosses(segments, box(corner)):
+            legend.set_loc(corner)
+            return legend
+    # no corner is free: the y range each corner needs to clear the lines beneath it
+    y0, y1 = ax.get_ylim()
+    to_data = ax.transData.inverted()
+    best = None
+    for corner in _CORNERS:
+        bx0, _, bx1, _ = box(corner)
+        seg = segments[(segments[..., 0].max(axis=1) >= bx0)
+                       & (segments[..., 0].min(axis=1) <= bx1)]
+        if not len(seg):
+            continue
+        # each segment cut to the legend's columns: its ends at the cut, linearly
+        a, b = seg[:, 0], seg[:, 1]
+        dx = np.where(b[:, 0] == a[:, 0], 1.0, b[:, 0] - a[:, 0])
+        ts = np.clip(np.stack([(bx0 - a[:, 0]) / dx, (bx1 - a[:, 0]) / dx]), 0.0, 1.0)
+        ts = np.concatenate([ts, np.zeros((1, len(seg))), np.ones((1, len(seg)))])
+        xs = a[:, 0] + ts * (b[:, 0] - a[:, 0])
+        ys = a[:, 1] + ts * (b[:, 1] - a[:, 1])
+        ys = ys[(xs >= bx0 - 1e-9) & (xs <= bx1 + 1e-9)]
+        if not len(ys):
+            continue
+        free = 1.0 - (h + pad) / frame.height  # the data's share of the axes height
+        if free <= 0.2:
+            continue
+        if "upper" in corner:
+            reach = to_data.transform((frame.x0, ys.max()))[1]
+            span = (reach - y0) / free
+            lims = (y0, max(y1, y0 + span))  # never narrower than the data's own range
+        else:
+            reach = to_data.transform((frame.x0, ys.min()))[1]
+            span = (y1 - reach) / free
+            lims = (min(y0, y1 - span), y1)
+        if best is None or span < best[0]:
+            best = (span, corner, lims)
+    if best is not None:
+        ax.set_ylim(*best[2])
+        legend.set_loc(best[1])
+    return legend
+
+
 SVG_NS = "http://www.w3.org/2000/svg"
 XLINK_NS = "http://www.w3.org/1999/xlink"
 _NO_ROTATION = re.compile(r"rotate\(-?0 [-+\d.e]+ [-+\d.e]+\)")
@@ -496,10 +620,11 @@ def exposure_curves(curves: list[dict], title: str) -> str:
         ax.set_title(f"{axis.capitalize()}")
         ax.set_xlabel("duration [s]")
         ax.set_ylabel(f"{axis.capitalize()} level [g]")
-        ax.legend(loc="best", fontsize=6)
     if title:
         fig.suptitle(title, fontsize=9)
     _margins(fig, top, 0.437, left=0.08, right=0.98, wspace=0.35)
+    for ax in axes.flat[:len(axes_names)]:  # placed once the panels have their final size
+        free_legend(ax)
     return _svg(fig)
 
 
@@ -566,7 +691,6 @@ def event_window(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
     ax.set_ylabel("[g]")
     if title:
         ax.set_title(title)
-    ax.legend(loc="best", fontsize=6, ncol=3)
     if onset is not None:
         rate, limit = onset
         ax2 = panels[1, 0]
@@ -575,9 +699,10 @@ def event_window(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
         ax2.axhline(-limit, color=LIMIT_COLOR, ls="--", lw=1.0)
         ax2.axvspan(a, b, color=FINDING_COLOR, alpha=0.12, lw=0, label="exceedance")
         ax2.set_ylabel("[g/s]")
-        ax2.legend(loc="best", fontsize=6, ncol=3)
     panels[-1, 0].set_xlabel("time [s]")
     _margins(fig, top, bottom, left=0.09, right=0.98, hspace=0.12)
+    for panel in panels[:, 0]:  # placed once the panels have their final size
+        free_legend(panel, ncol=3)
     return _svg(fig)
 
 
