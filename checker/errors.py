@@ -116,6 +116,12 @@ class TrainStalled(Exception):
         self.attitude = attitude
         super().__init__(self.message())
 
+    def __reduce__(self):
+        # an exception pickles by its args (here the message): rebuild it from its fields, so
+        # that a stall recorded in a worker process travels back to the parent
+        return (type(self), (self.station_m, self.time_s, self.speed_m_s, self.cause,
+                             self.attitude))
+
     def message(self) -> str:
         """The one-line message: where the train stops, why, and what to change.
 

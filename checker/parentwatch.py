@@ -17,7 +17,9 @@ def watch_parent(parent_pid: int, interval_s: float = 0.5) -> None:
 
     A daemon thread polls the parent's process id; when the worker has been re-parented (the
     parent died), it ends the worker at once with ``os._exit(1)``. On Linux the kernel is also
-    asked to send SIGKILL when the parent dies (``prctl(PR_SET_PDEATHSIG)``).
+    asked to send SIGKILL when the parent dies (``prctl(PR_SET_PDEATHSIG)``). SIGTERM gets its
+    default action back (the parent's handler would keep a worker alive that its broken pool
+    is stopping).
 
     Parameters
     ----------
@@ -26,10 +28,16 @@ def watch_parent(parent_pid: int, interval_s: float = 0.5) -> None:
     interval_s : float, optional
         Polling interval [s] (default 0.5).
     """
+    import signal
+
+    # A pool that breaks stops its workers with SIGTERM; the parent's handler, inherited
+    # through fork, would turn that into KeyboardInterrupt in a worker blocked on writing its
+    # result, and the parent would wait for it for ever.
+    if threading.current_thread() is threading.main_thread():
+        signal.signal(signal.SIGTERM, signal.SIG_DFL)
     if sys.platform.startswith("linux"):
         try:
             import ctypes
-            import signal
 
             libc = ctypes.CDLL(None, use_errno=True)
             libc.prctl(1, signal.SIGKILL, 0, 0, 0)  # 1 = PR_SET_PDEATHSIG

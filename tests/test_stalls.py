@@ -148,3 +148,35 @@ def test_a_speed_march_that_does_not_settle_is_reported(monkeypatch):
     rough = run_ride(*inputs)
     assert rough.motion.unsettled_e > 0.0
     assert any("speed march did not settle" in w for w in rough.warnings)
+
+
+def test_a_stalling_case_comes_back_from_parallel_workers(tmp_path):
+    # the default runs cases in worker processes: the stall recorded there must travel back
+    # (an exception pickles by its args; TrainStalled is rebuilt from its fields), and the
+    # run must end with the same verdict and stall as one worker gives
+    import pickle
+    import subprocess
+    import sys
+
+    from checker.errors import TrainStalled
+
+    stall = TrainStalled(12.5, 3.0, 0.0, cause="inverted", attitude="inverted")
+    back = pickle.loads(pickle.dumps(stall))
+    assert (back.station_m, back.cause, back.attitude, str(back)) == (12.5, "inverted",
+                                                                      "inverted", str(stall))
+    cases = tmp_path / "cases.toml"
+    cases.write_text('[[case]]\nname = "fast"\nstart_speed_m_s = 13.0\n\n'
+                     '[[case]]\nname = "slow"\nstart_speed_m_s = 10.0\n')
+    track = write_hill(tmp_path)
+    docs = {}
+    for workers in ("1", "2"):
+        out = tmp_path / f"w{workers}.json"
+        done = subprocess.run([sys.executable, "-m", "checker", "check", str(track), "--ideal",
+                               "--cases", str(cases), "--workers", workers, "--quiet",
+                               "--json", str(out)], capture_output=True, text=True,
+                              timeout=240)
+        assert done.returncode == 1, done.stderr
+        assert "Traceback" not in done.stderr
+        docs[workers] = json.loads(out.read_text())
+    assert docs["2"]["matrix"] == docs["1"]["matrix"] == {"car1-rider": {"fast": "pass",
+                                                                         "slow": "stall"}}
