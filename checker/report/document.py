@@ -307,7 +307,8 @@ SEAT_PAGE_MODES = ("all", "governing", "none")
 
 def finding_lines(findings, ids: list[str], recorded: bool = False) -> list[str]:
     """The appendix table of every finding as fixed-width text lines, header first (one text
-    line per finding lays out far faster than a table of cells).
+    line per finding lays out far faster than a table of cells; the template sets each line
+    as the one cell of a row, the header in the thead so that it repeats on every page).
 
     Parameters
     ----------
