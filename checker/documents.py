@@ -420,6 +420,18 @@ def event_change_text(change) -> str:
             f"{before:>11} -> {after:<11} {change.matched_by}").rstrip()
 
 
+def change_head() -> str:
+    """The column headings of :func:`change_text`'s lines, aligned with them.
+
+    Returns
+    -------
+    str
+        One line: change, rule, seat, case, worst point, margin old -> new, matched by.
+    """
+    return (f"{'change':<6} {'rule':<26} {'seat':<12} {'case':<14} {'worst point':<13}"
+            f"{'margin old -> new':<34}matched by")
+
+
 def change_text(change) -> str:
     """One line of a comparison: status, rule, seat, case, place and the margin before and after
     with its unit; a gone finding shows its old margin and "gone", a new one "new".

@@ -8,6 +8,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from pagetext import opening_sections, page_texts, running_heads
 from shapes import vertical_loop
 
 from checker.cli import main
@@ -102,6 +103,45 @@ def _event_table_text(pdf: Path) -> str:
     return text[start:text.index("Peak values per seat", start)]
 
 
+COMPARE_SECTIONS = {"Verdicts", "Event changes", "Elevations", "Inputs and reproduction",
+                    "Peak values per seat (filtered, over all load cases)",
+                    "Appendix: every finding's change"}
+
+
+def check_compare_pages(pdf: Path, gone: int) -> None:
+    """The comparison's pages: every one has a running head naming the section it opens in;
+    each page of the focus seat names the seat in its head and in every figure's caption;
+    the elevations' caption says what the red crosses mark; the finding list repeats its
+    column headings on every page; nothing reaches past the right margin; seat names are
+    never broken."""
+    import pypdfium2 as pdfium
+
+    pages = page_texts(pdf)
+    heads = running_heads(pages)
+    seat_heads = {h for h in heads if h.startswith("Seat ")}
+    assert len(seat_heads) == 1
+    assert heads == opening_sections(pages, COMPARE_SECTIONS | seat_heads, "Summary")
+    seat = next(iter(seat_heads)).split(",")[0]  # "Seat car1-r1R"
+    for text, head in zip(pages, heads):
+        if "old (dashed)" in text or "new (solid), old (dotted)" in text:
+            assert head.startswith(seat) and text.count(seat + ", case") >= 2, head
+    flat = " ".join(" ".join(pages).split())
+    assert f"Red crosses: the worst point (station of the filtered peak) of each finding of " \
+           f"that revision ({gone} old, 0 new)" in flat
+    listing = [t for t, h in zip(pages, heads) if h.startswith("Appendix")]
+    assert len(listing) >= 2 and all(re.search(r"^change +rule +seat", t, re.M)
+                                     for t in listing)
+    assert not re.search(r"car\d-\s*\n", "\n".join(pages))  # "car1-" / "r1L"
+    doc = pdfium.PdfDocument(str(pdf))
+    for i in range(len(doc)):
+        page, text = doc[i], doc[i].get_textpage()
+        right = page.get_width() - 16 / 25.4 * 72  # the 16 mm right margin, in points
+        edges = [text.get_charbox(k)[2] for k in range(text.count_chars())
+                 if not text.get_text_range(k, 1).isspace()]  # not the made-up line breaks
+        assert max(edges) <= right + 1.0, f"page {i + 1} reaches {max(edges) - right:.1f} pt " \
+                                          "past the margin"
+
+
 def _margin(event: dict) -> str:
     """The worst margin as the documents print it (2 decimals in g, 1 in g/s and %)."""
     digits = 2 if event["unit"] == "g" else 1
@@ -141,6 +181,7 @@ def test_compare_a_to_b_loop_findings_gone_and_b_to_a_regresses(tmp_path):
         found = row.search(table, at)
         assert found, f"no row for {old['id']} {e['rule']} in: {table[at:at + 300]}"
         at = found.end()
+    check_compare_pages(pdf, len(gone))
     # the other way round: the same places come back as new events, with the new margins
     ba = tmp_path / "ba.pdf"
     assert main(demo_args("B", "A") + ["--pdf", str(ba)]) == 1

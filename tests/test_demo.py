@@ -4,10 +4,12 @@ from __future__ import annotations
 
 import importlib.util
 import json
+import re
 import sys
 from pathlib import Path
 
 import numpy as np
+from pagetext import opening_sections, page_texts, running_heads
 from pypdf import PdfReader
 
 from checker.cli import main
@@ -17,6 +19,10 @@ from checker.limits import load_limits
 from checker.ride import load_inputs, run_ride
 
 SAMPLES = Path(__file__).resolve().parents[1] / "sample_tracks"
+# the check report's section headings (report.html.j2), seat sections aside
+SECTIONS = ("Events in detail", "Ride statistics", "Record statistics", "Layout", "Design aids",
+            "Appendix A: every seat and every finding", "Appendix B: method",
+            "Appendix C: the limit set in full", "Appendix D: inputs and reproduction")
 
 
 def generator():
@@ -53,6 +59,12 @@ def test_demo_writes_both_reports_with_expected_verdicts(tmp_path, capsys):
     assert all(start - 15 <= f["s_start_m"] <= end + 15 for f in doc_a["findings"])
     assert any(f["rule"] == "duration +Gz" for f in doc_a["findings"])
     check_events_and_pages(doc_a, out / "thistle_comet_revA.pdf", start, end)
+    # revision B has no event: its layout caption mentions no event marks; its running heads
+    # name the section each page opens in
+    pages_b = page_texts(out / "thistle_comet_revB.pdf")
+    assert "Station marks every" in "".join(pages_b) and "red crosses" not in "".join(pages_b)
+    heads = running_heads(pages_b)
+    assert heads == opening_sections(pages_b, set(heads) | set(SECTIONS), "Summary")
 
 
 def check_events_and_pages(doc: dict, pdf, loop_start: float, loop_end: float) -> None:
@@ -80,10 +92,18 @@ def check_events_and_pages(doc: dict, pdf, loop_start: float, loop_end: float) -
     reader = PdfReader(str(pdf))
     pages = [page.extract_text() for page in reader.pages]
     assert len(pages) <= 15  # the page budget for revision A, design aids included
+    # the running head names the section the page opens in (CSS string(section, start)),
+    # not the first heading that begins on it
+    heads = running_heads(pages)
+    sections = set(heads) | set(SECTIONS)
+    assert heads == opening_sections(pages, sections, "Summary")
+    assert heads[1] == "Summary"  # page 2 opens with the rest of the summary's event table
+    # the findings list's column headings repeat on every page the list spans
+    listed = [p for p in pages if re.search(r"^\s*\d+ E\d+ ", p, re.M)]
+    assert len(listed) >= 2 and all(re.search(r"^\s*# event rule", p, re.M) for p in listed)
     assert "Overall: FAIL" in pages[0] and "E1" in pages[0] and "g/s" in pages[0]
     # the running head (top right, extracted just before the footer) names the section;
     # on every page of a seat's section, the seat
-    heads = [p.splitlines()[-2] for p in pages]
     seat_pages = [(h, p) for h, p in zip(heads, pages) if h.startswith("Seat ")]
     assert seat_pages and all(h.split(",")[0] in p.split("\n")[0] or "Seat " not in
                               p.split("\n")[0] for h, p in seat_pages)

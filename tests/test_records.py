@@ -7,6 +7,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from pagetext import page_texts
 
 from checker.cli import main
 from checker.conditioning import FilterSpec
@@ -256,6 +257,21 @@ def test_report_method_says_what_was_done_to_the_record(tmp_path):
     assert "irregular parts re-sampled at 100 Hz" in done and "logger x = rider -y" in done
     plain = " ".join(method_of(check_history(RECORD)))
     assert "never re-sampled" in plain and "rotate axes" in plain
+
+
+def test_record_report_speaks_of_times_not_stations():
+    # recorded data carry no station: the method appendix leaves out the station note, the
+    # uplift table gives the flight's start time and the zone table has no station column
+    from checker import check_history
+    from checker.events import RECORD_GAP_S
+    from checker.report import check_report_pdf
+
+    text = "\n".join(page_texts(check_report_pdf(check_history(RECORD))))
+    flat = " ".join(text.split())
+    assert "Stations are those" not in flat and "Station [m]" not in flat
+    assert f"time ranges overlap or lie within {RECORD_GAP_S:g} s" in flat
+    assert "Off the seat [s] From [s] Lowest Gz [g]" in flat  # the uplift table's head
+    assert "Highest zone From [s] Longest outside every zone [s]" in flat
 
 
 def test_checking_a_record_leaves_the_heavy_libraries_unloaded():

@@ -9,12 +9,21 @@ import numpy as np
 from .. import __version__
 from ..caution import CAUTION, CAUTION_SHORT
 from ..compare import MATCH_DISTANCE_M, MATCH_FRACTION, ChangeState, Comparison
-from ..documents import change_text, margin_text
+from ..documents import change_head, change_text, margin_text
 from ..rules import seat_exposures
 from ..terminal import shorten
 from . import figures
 from .document import PAGE_SIZES, _env
 from .pdf import ASSET_SCHEME, TemplatesOnlyFetcher, render_pdf
+
+ELEVATIONS_CAPTION = ("Elevations: height z [m] against station [m], old layout left, new "
+                      "layout right.")
+FOCUS_CAPTIONS = {
+    "histories": "Seat {seat}, case {case}: new filtered (colour) and raw (grey), old filtered "
+                 "(dashed); shaded: the new revision's findings",
+    "exposure": "Seat {seat}, case {case}, exposure: highest level sustained for at least each "
+                "duration; new (solid), old (dotted), limit (black, dashed)",
+}
 
 
 def comparison_pdf(comparison: Comparison, focus: dict, meta: dict) -> bytes:
@@ -56,10 +65,13 @@ def comparison_pdf(comparison: Comparison, focus: dict, meta: dict) -> bytes:
         (old_ride.geometry.s, old_ride.geometry.position[:, 2], marks_old),
         (new_ride.geometry.s, new_ride.geometry.position[:, 2], marks_new),
         (f"old: {meta['old_name']}", f"new: {meta['new_name']}")))
+    elevations_caption = ELEVATIONS_CAPTION + (
+        f" Red crosses: the worst point (station of the filtered peak) of each finding of that "
+        f"revision ({len(marks_old)} old, {len(marks_new)} new)." if marks_old or marks_new
+        else " Neither revision has a finding to mark.")
     spans = [(f.t_start, f.t_end, f.axis) for f in new_res.findings]
     histories = asset(figures.time_histories(
-        new_res.t, new_res.filtered, np.asarray(new_raw.g), spans,
-        f"Seat {focus['seat']}, case {focus['case']}: new (colour, raw grey), old (dashed)",
+        new_res.t, new_res.filtered, np.asarray(new_raw.g), spans, "",
         overlay=(old_res.t, old_res.filtered, "old")))
     curves = []
     old_exp = seat_exposures(old_res, meta["limits"])
@@ -76,8 +88,10 @@ def comparison_pdf(comparison: Comparison, focus: dict, meta: dict) -> bytes:
                                                         rule.durations_s[-1])),
                        "limit_levels": np.append(rule.levels_g, rule.levels_g[-1]),
                        "step": rule.interpolation == "step"})
-    exposure = asset(figures.exposure_curves(curves, "Exposure curves: new (solid), old "
-                                             "(dotted), limit (black, dashed)")) if curves else ""
+    exposure = asset(figures.exposure_curves(curves, "")) if curves else ""
+    # captions in HTML, naming the seat, so each figure says whose it is on any page
+    captions = {key: text.format(seat=focus["seat"], case=focus["case"])
+                for key, text in FOCUS_CAPTIONS.items()}
     seat_count = len({p["seat"] for p in comparison.peaks}) or None
     events = [_event_row(c, seat_count) for c in comparison.events]
     changes = [change_text(c) for c in comparison.changes]  # every finding, appendix lines
@@ -100,6 +114,7 @@ def comparison_pdf(comparison: Comparison, focus: dict, meta: dict) -> bytes:
         new_verdict=comparison.new_verdict, regressed=comparison.regressed, counts=counts,
         stalls=meta.get("stalls", []), changes=changes, events=events,
         event_counts=event_counts, peaks=peaks, elevations=elevations,
+        elevations_caption=elevations_caption, captions=captions, changes_head=change_head(),
         focus_seat=focus["seat"], focus_case=focus["case"], histories=histories,
         exposure=exposure, inputs=[{"file": f, "sha256": h} for f, h in meta["inputs"]],
         command=meta["command"], match_distance=f"{MATCH_DISTANCE_M:g}",

@@ -16,7 +16,7 @@ from .. import __version__
 from ..caution import CAUTION, CAUTION_SHORT
 from ..conditioning import onset_rate
 from ..documents import MARGIN_CONVENTION, STATION_NOTE, margin_text, with_unit
-from ..events import Event, event_of_finding, explain_events, group_findings
+from ..events import RECORD_GAP_S, Event, event_of_finding, explain_events, group_findings
 from ..limits import AXES, REST, contains
 from ..rules import Evaluation, seat_exposures
 from . import figures
@@ -307,7 +307,8 @@ SEAT_PAGE_MODES = ("all", "governing", "none")
 
 def finding_lines(findings, ids: list[str], recorded: bool = False) -> list[str]:
     """The appendix table of every finding as fixed-width text lines, header first (one text
-    line per finding lays out far faster than a table of cells).
+    line per finding lays out far faster than a table of cells; the template sets each line
+    as the one cell of a row, the header in the thead so that it repeats on every page).
 
     Parameters
     ----------
@@ -559,6 +560,7 @@ def build_html(evaluation: Evaluation, signals: dict, ride, meta: ReportMeta,
         inputs=[{"file": f, "sha256": h} for f, h in meta.inputs], command=meta.command,
         stalls=stall_messages, sweep=_sweep_context(meta.sweep), recorded=meta.recorded,
         margin_convention=MARGIN_CONVENTION, station_note=STATION_NOTE,
+        record_gap=f"{RECORD_GAP_S:g}",
         group_delay=f"{max(delays):.3f}" if delays else None,
         filter=limits.filter.describe(),
         aids=aids_context(aids, drawn[aids_at:], asset)), assets

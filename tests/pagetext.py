@@ -1,0 +1,35 @@
+"""Reading a report PDF back page by page (pypdf): the running head and the section each
+page opens in."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from pypdf import PdfReader
+
+
+def page_texts(pdf: Path | bytes) -> list[str]:
+    """The text of every page (pypdf extracts the running head just before the footer)."""
+    if isinstance(pdf, bytes):
+        import io
+
+        pdf = io.BytesIO(pdf)
+    return [page.extract_text() for page in PdfReader(pdf).pages]
+
+
+def running_heads(pages: list[str]) -> list[str]:
+    """The running head (top right) of every page."""
+    return [p.splitlines()[-2] for p in pages]
+
+
+def opening_sections(pages: list[str], headings: set[str], first: str) -> list[str]:
+    """The section each page opens in, as a reader finds it: the heading on the page's first
+    line, else the last heading begun on an earlier page (``first`` before any heading)."""
+    current, opened = first, []
+    for text in pages:
+        lines = [line.strip() for line in text.splitlines()[:-2]]
+        opened.append(lines[0] if lines and lines[0] in headings else current)
+        for line in lines:
+            if line in headings:
+                current = line
+    return opened
