@@ -88,13 +88,16 @@ def _states(v: float, d: float, acc: np.ndarray, t: np.ndarray) -> tuple[np.ndar
     return speed, d + np.concatenate([[0.0], np.cumsum(rise)])
 
 
-def _peaks_in_steps(v: np.ndarray, d: np.ndarray, a0: np.ndarray, a1: np.ndarray,
-                    t: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Each step's highest d [m] and its offset [s] from the step's start: where the
-    relative speed v + a0 x + (a1 - a0) x^2 / (2 h) changes sign inside the step."""
+def _extremes_in_steps(v: np.ndarray, d: np.ndarray, a0: np.ndarray, a1: np.ndarray,
+                       t: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Each step's highest d [m] (at a stationary point of the exact cubic inside it, where
+    the relative speed v + a0 x + (a1 - a0) x^2 / (2 h) changes sign, or at its start) and
+    lowest d at a stationary point inside it (inf when none), with their offsets [s] from
+    the step's start."""
     h = np.diff(t)
     c2, c1, c0 = (a1 - a0) / (2.0 * h), a0, v
     best, at = d.copy(), np.zeros_like(d)
+    low, low_at = np.full_like(d, np.inf), np.zeros_like(d)
     flat = np.abs(c2) < 1e-15
     with np.errstate(divide="ignore", invalid="ignore"):
         linear = np.where(flat & (np.abs(c1) > 1e-15), -c0 / c1, np.nan)
@@ -109,15 +112,20 @@ def _peaks_in_steps(v: np.ndarray, d: np.ndarray, a0: np.ndarray, a1: np.ndarray
         higher = inside & (dx > best)
         best = np.where(higher, dx, best)
         at = np.where(higher, xs, at)
-    return best, at
+        lower = inside & (dx < low)
+        low = np.where(lower, dx, low)
+        low_at = np.where(lower, xs, low_at)
+    return best, at, low, low_at
 
 
-def _landing_in_step(v: float, d: float, a0: float, a1: float, h: float) -> float:
-    """Offset within a step at which d returns to zero (bisection on the exact cubic)."""
+def _landing_in_step(v: float, d: float, a0: float, a1: float, h: float,
+                     upto: float | None = None) -> float:
+    """Offset within a step at which d first returns to zero (bisection on the exact cubic
+    over [0, upto], where d(0) > 0 >= d(upto); upto defaults to the step's end)."""
     def pos(x: float) -> float:
         return d + v * x + a0 * x * x / 2.0 + (a1 - a0) * x ** 3 / (6.0 * h)
 
-    lo, hi = 0.0, h
+    lo, hi = 0.0, h if upto is None else upto
     for _ in range(60):
         mid = 0.5 * (lo + hi)
         if pos(mid) > 0.0:
@@ -175,8 +183,24 @@ def uplift_events(gz: np.ndarray, t: np.ndarray, station: np.ndarray | None = No
                 frac = gz[i0 - 1] / (gz[i0 - 1] - gz[i0])
                 t0, a0 = t[i0 - 1] + frac * (t[i0] - t[i0 - 1]), 0.0
         carry = None
-        v, d = _step(0.0, 0.0, a0, acc[i0], t[i0] - t0) if t[i0] > t0 else (0.0, 0.0)
-        peak, t_peak, k, landed, t_end = d, t[i0], i0, False, t[-1]
+        h0 = t[i0] - t0  # the part-step from the start of the flight to the next sample
+        v, d = _step(0.0, 0.0, a0, acc[i0], h0) if h0 > 0 else (0.0, 0.0)
+        peak, t_peak, k, landed, t_end = max(d, 0.0), t[i0], i0, False, t[-1]
+        if h0 > 0 and a0 > acc[i0]:
+            # a flight re-launched at a landing can top out, and land again, within the
+            # part-step (Gz turns positive there): its peak and landing from the exact cubic
+            top, at, _, _ = _extremes_in_steps(np.zeros(1), np.zeros(1), np.array([a0]),
+                                               np.array([acc[i0]]), np.array([t0, t[i0]]))
+            if top[0] > peak:
+                peak, t_peak = float(top[0]), float(t0 + at[0])
+            if d <= 0.0:  # d = x^2 (a0 / 2 + (a1 - a0) x / (6 h)) is zero again at x below
+                x = min(3.0 * a0 * h0 / (a0 - acc[i0]), h0)
+                events.append(UpliftEvent(
+                    float(t0), float(t0 + x), float(peak), float(t_peak),
+                    float(min(-a0, -acc[i0]) / g0), True,
+                    float(station[min(i0, n - 1)]) if station is not None else None))
+                k = i0  # seated again (Gz > 0 there): the next flight starts at a crossing
+                continue
         chunk = 64
         while k + 1 < n:
             # a stretch of steps at once: states by running sums, the landing the first step
@@ -184,20 +208,27 @@ def uplift_events(gz: np.ndarray, t: np.ndarray, station: np.ndarray | None = No
             m_steps = min(chunk, n - 1 - k)
             chunk *= 2
             v_all, d_all = _states(v, d, acc[k:k + m_steps + 1], t[k:k + m_steps + 1])
-            down = np.flatnonzero(d_all[1:] <= 0.0)
-            upto = int(down[0]) + 1 if down.size else m_steps
-            top, at = _peaks_in_steps(v_all[:upto], d_all[:upto], acc[k:k + upto],
-                                      acc[k + 1:k + upto + 1], t[k:k + upto + 1])
-            best = int(np.argmax(top))
-            if top[best] > peak:
-                peak, t_peak = float(top[best]), float(t[k + best] + at[best])
+            top, at, low, low_at = _extremes_in_steps(
+                v_all[:-1], d_all[:-1], acc[k:k + m_steps], acc[k + 1:k + m_steps + 1],
+                t[k:k + m_steps + 1])
+            # the landing: the first step that ends at or below the seat, or dips below it
+            # between its samples (the cubic can go down and up again within a step)
+            dips = low < 0.0
+            down = np.flatnonzero((d_all[1:] <= 0.0) | dips)
+            j = int(down[0]) if down.size else m_steps  # steps before it are whole flight
+            if j:
+                b = int(np.argmax(top[:j]))
+                if top[b] > peak:
+                    peak, t_peak = float(top[b]), float(t[k + b] + at[b])
             if not down.size:
                 v, d, k = float(v_all[-1]), float(d_all[-1]), k + m_steps
                 continue
-            k += upto - 1
-            v, d = float(v_all[upto - 1]), float(d_all[upto - 1])
+            k += j
+            v, d = float(v_all[j]), float(d_all[j])
             h = t[k + 1] - t[k]
-            x = _landing_in_step(v, d, acc[k], acc[k + 1], h)
+            x = _landing_in_step(v, d, acc[k], acc[k + 1], h, low_at[j] if dips[j] else None)
+            if 0.0 < at[j] < x and top[j] > peak:  # a top inside the landing step
+                peak, t_peak = float(top[j]), float(t[k] + at[j])
             t_end, landed = t[k] + x, True
             a_land = acc[k] + (acc[k + 1] - acc[k]) * x / h
             if a_land > 0.0 and x < h:  # Gz < 0 as the seat catches up
