@@ -275,7 +275,11 @@ def lowpass(values: np.ndarray, rate_hz: float, spec: FilterSpec) -> np.ndarray:
     if spec.passes == "zero-phase":
         from scipy import signal  # the rarer choice: scipy's padding and two passes
 
-        return signal.sosfiltfilt(sos, x, axis=0)
+        # scipy pads each end with 3 (2 sections + 1) samples' odd reflection (less for odd
+        # orders); a shorter signal is padded with what it has
+        pad = 3 * (2 * len(sos) + 1 - min(int((sos[:, 2] == 0).sum()),
+                                          int((sos[:, 5] == 0).sum())))
+        return signal.sosfiltfilt(sos, x, axis=0, padlen=min(pad, max(len(x) - 1, 0)))
     zi = step_state(sos)  # (sections, 2) for a unit step
     head = max(1, int(round(START_WINDOW_S * rate_hz)))
     level = np.median(x[:head], axis=0)
