@@ -36,6 +36,10 @@ STEP_TOLERANCE = 0.01  # a step may differ from the median step by 1 %
 GAP_STEPS = 10  # without a stated max_gap_s, a step this many times the median is a gap
 ANTI_ALIAS_FRACTION = 0.8  # anti-alias corner as a fraction of the new Nyquist frequency
 REST_WINDOW_S = 1.0
+# beyond any ride or shock reading: garbage, or a unit mistake (mm/s^2 as m/s^2?); it would
+# also overflow the filter and the flights' integration
+MAX_RECORD_G = 1000.0
+MAX_RECORD_TIME_S = 1e7  # about 116 days: beyond any record
 REST_STD_G = 0.1  # a stretch quieter than this on every axis can be at rest
 REST_MAGNITUDE_G = 0.1  # |f| within this of 1 g: at rest or moving steadily
 
@@ -136,9 +140,10 @@ def load_record(path: str | Path, units: str = "g", instrument: Instrument | Non
     ------
     InputError
         Unknown ``units``; an unreadable or malformed CSV (missing column, bad cell, bad
-        seat name); a seat with fewer than MIN_SAMPLES samples; time that does not
-        increase; an irregular step without ``resample_hz``; or no part between gaps long
-        enough to check (naming file, row and column).
+        seat name); a seat with fewer than MIN_SAMPLES samples; a reading beyond
+        MAX_RECORD_G or a time beyond MAX_RECORD_TIME_S; time that does not increase; an
+        irregular step without ``resample_hz``; or no part between gaps long enough to check
+        (naming file, row and column).
 
     References
     ----------
@@ -169,6 +174,7 @@ def load_record(path: str | Path, units: str = "g", instrument: Instrument | Non
             name if len(instrument.groups) > 1 else instrument.groups[0][0]]])
         g = instrument.to_rider(raw)
         del raw  # the logger-axis copy is not needed past here
+        _check_magnitudes(path, name, t, g, lines, instrument)
         if len(t) < MIN_SAMPLES:
             raise InputError(path, f"seat '{name}' has {len(t)} samples; at least "
                              f"{MIN_SAMPLES} are needed", "export the whole ride",
@@ -266,6 +272,27 @@ def _refuse_irregular(path: Path, t: np.ndarray, lines: np.ndarray, column: str)
                      f"{step:.6g} s (rows {rows}{more})", "give --resample HZ to re-sample "
                      "onto a uniform grid (stated in the report), or fix the export",
                      row=int(lines[j]), column=column)
+
+
+def _check_magnitudes(path: Path, name: str, t: np.ndarray, g: np.ndarray,
+                      lines: np.ndarray, instrument: Instrument) -> None:
+    """Refuse readings beyond MAX_RECORD_G [g0] and times beyond MAX_RECORD_TIME_S [s],
+    naming the first such row."""
+    big_t = np.flatnonzero(np.abs(t) > MAX_RECORD_TIME_S)
+    big_g = np.flatnonzero(np.any(np.abs(g) > MAX_RECORD_G, axis=1))
+    if big_t.size and (not big_g.size or big_t[0] <= big_g[0]):
+        j = int(big_t[0])
+        raise InputError(path, f"seat '{name}': time {t[j]:.6g} s is beyond "
+                         f"{MAX_RECORD_TIME_S:g} s", "give time in seconds from the record's "
+                         "start", row=int(lines[j]), column=instrument.time_column)
+    if big_g.size:
+        j = int(big_g[0])
+        axis = int(np.argmax(np.abs(g[j]) > MAX_RECORD_G))
+        column = ("gx", "gy", "gz")[axis] if instrument.groups == Instrument().groups else None
+        raise InputError(path, f"seat '{name}': G{'xyz'[axis]} reads {g[j, axis]:.6g} g, beyond "
+                         f"{MAX_RECORD_G:g} g", "check the unit (--units, or the "
+                         "instrument's scale) and the logger's range", row=int(lines[j]),
+                         column=column)
 
 
 def resample(t: np.ndarray, g: np.ndarray, rate_hz: float):

@@ -595,6 +595,7 @@ def _zones(doc: Fields, base: Path, files: list) -> tuple[Zone, ...]:
         name = f.text("name")
         order = f.integer("order", minimum=1, maximum=1000)
         vertices = _points_from(f, "vertices", base, ("gx", "gz"), files)
+        _check_range(f, "vertices", vertices, MAX_LEVEL_G, "a zone vertex", " g")
         if len(vertices) >= 2 and np.allclose(vertices[0], vertices[-1]):
             vertices = vertices[:-1]
         problem = polygon_problem(vertices)

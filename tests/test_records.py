@@ -288,3 +288,21 @@ def test_checking_a_record_leaves_the_heavy_libraries_unloaded():
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
                          check=True).stdout
     assert out.splitlines()[-1] == "HEAVY 0"
+
+
+@pytest.mark.parametrize("cell, column, row", [("1e300", "gz", 102), ("-2500", "gx", 102)])
+def test_readings_beyond_any_ride_are_refused_with_row_and_column(tmp_path, capsys, cell,
+                                                                  column, row):
+    # a 1e300 g reading overflowed the filter and the flights (null peaks in the JSON, an
+    # internal error with --pdf); anything beyond 1000 g is refused before any work
+    t = np.arange(400) / 200.0
+    rows = ["t,gx,gy,gz"] + [f"{a:.3f},0,0,1" for a in t]
+    values = {"gx": "0", "gy": "0", "gz": "1", column: cell}
+    rows[row - 1] = f"{t[row - 2]:.3f},{values['gx']},{values['gy']},{values['gz']}"
+    record = tmp_path / "record.csv"
+    record.write_text("\n".join(rows) + "\n")
+    out = tmp_path / "out.json"
+    assert main(["check-history", str(record), "--json", str(out)]) == 2
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and f"row {row}, column '{column}'" in err[0] and "1000 g" in err[0]
+    assert not out.exists()

@@ -84,6 +84,10 @@ def test_zones_in_a_limits_file_and_their_errors(tmp_path):
     path.write_text(head + zone.format(n="x", o=1, v="[[0, 0], [1, 1], [1, 0], [0, 1]]"))
     with pytest.raises(InputError, match="self-intersecting"):
         load_limits(path)
+    # 1e200 g squared overflows the boundary distance: zone vertices share the envelopes' bound
+    path.write_text(head + zone.format(n="y", o=1, v="[[-1e200, -1], [1, -1], [0, 4]]"))
+    with pytest.raises(InputError, match="beyond 20 g"):
+        load_limits(path)
 
 
 def test_ellipse_screen_classifies_as_the_polygon_test():
