@@ -97,11 +97,14 @@ def check_events_and_pages(doc: dict, pdf, loop_start: float, loop_end: float) -
     heads = running_heads(pages)
     sections = set(heads) | set(SECTIONS)
     assert heads == opening_sections(pages, sections, "Summary")
-    assert heads[1] == "Summary"  # page 2 opens with the rest of the summary's event table
+    assert heads[1] == "Summary"  # page 2 opens with the rest of the summary
     # the findings list's column headings repeat on every page the list spans
     listed = [p for p in pages if re.search(r"^\s*\d+ E\d+ ", p, re.M)]
     assert len(listed) >= 2 and all(re.search(r"^\s*# event rule", p, re.M) for p in listed)
     assert "Overall: FAIL" in pages[0] and "E1" in pages[0] and "g/s" in pages[0]
+    # page 1 holds the whole event table: every event, with its remedy
+    page1 = pages[0].split("Remedy (first estimate)")[1]
+    assert all(re.search(rf"^{e}\b", page1, re.M) for e in events), page1
     # the running head (top right, extracted just before the footer) names the section;
     # on every page of a seat's section, the seat
     seat_pages = [(h, p) for h, p in zip(heads, pages) if h.startswith("Seat ")]
