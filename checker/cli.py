@@ -35,7 +35,7 @@ from .caution import CAUTION
 from .errors import InputError
 from .outputs import interrupt_handling, was_interrupted, written
 from .paths import check_run_paths, report_sidecar
-from .terminal import terminal_streams, write_raw
+from .terminal import clean, terminal_streams, write_raw
 
 EXIT_OK, EXIT_FINDINGS, EXIT_INPUT, EXIT_INTERNAL, EXIT_INTERRUPTED = 0, 1, 2, 3, 130
 
@@ -127,6 +127,14 @@ def _add_case_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--quiet", action="store_true", help="no progress bar")
 
 
+class _OneLineErrors(argparse.ArgumentParser):
+    """An argument parser whose usage errors are one line (what was wrong and where to look),
+    exit code 2, like every other bad input; the full usage stays in ``--help``."""
+
+    def error(self, message: str):  # noqa: D102 - argparse's hook
+        self.exit(2, f"{self.prog}: error: {clean(message)} -- see '{self.prog} --help'\n")
+
+
 def build_parser() -> argparse.ArgumentParser:
     """The argument parser of every command.
 
@@ -140,7 +148,7 @@ def build_parser() -> argparse.ArgumentParser:
         ``check-history``, ``compare``, ``demo``, ``advise-bank``, ``correlate``); numeric
         options are range-checked by :func:`checker.bounds.number_option`.
     """
-    parser = argparse.ArgumentParser(
+    parser = _OneLineErrors(
         prog="checker",
         description=f"Acceleration-envelope self-check for roller coaster layouts. {CAUTION}")
     parser.add_argument("--version", action="version", version=f"checker {__version__}")

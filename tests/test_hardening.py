@@ -423,6 +423,7 @@ def test_numeric_option_out_of_range_is_a_usage_error(option, capsys):
     assert exc.value.code == 2
     assert option[0] in err and "Traceback" not in err
     assert "outside" in err or "not a" in err or "characters long" in err
+    assert len(err.strip().splitlines()) == 1 and "--help" in err  # one line, where to look
 
 
 def test_memory_estimate_refuses_a_run_above_the_cap(capsys, monkeypatch, tmp_path):
