@@ -1033,8 +1033,9 @@ def check_filter_rate(limits: LimitSet, rate_hz: float) -> list[str]:
         return []
     if corner >= rate_hz / 2:
         raise InputError(limits.path, f"filter corner {corner:g} Hz is at or above half the "
-                         f"sample rate ({rate_hz / 2:g} Hz)",
-                         "lower filter.corner_hz or sample the signal faster",
+                         f"sample rate of the signals checked ({rate_hz:g} Hz / 2)",
+                         "lower filter.corner_hz, or give signals sampled faster (a record "
+                         "logged at a higher rate; --rate for a simulated ride)",
                          key="filter.corner_hz")
     if rate_hz < 10 * corner:
         return [f"sample rate {rate_hz:g} Hz is below 10 x the filter corner ({corner:g} Hz): "
