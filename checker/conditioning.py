@@ -129,8 +129,8 @@ def design_sos(spec: FilterSpec, rate_hz: float) -> np.ndarray:
     """
     nyquist = rate_hz / 2.0
     if not 0.0 < spec.corner_hz < nyquist:
-        raise ValueError(f"the filter corner {spec.corner_hz:g} Hz must lie between 0 and half "
-                         f"the sample rate ({nyquist:g} Hz)")
+        raise ValueError(f"the filter corner {spec.corner_hz:.10g} Hz must lie between 0 and "
+                         f"half the sample rate ({nyquist:.10g} Hz)")
     order = int(spec.order)
     if order < 1:
         raise ValueError(f"the filter order must be at least 1 (got {spec.order})")
