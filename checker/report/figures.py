@@ -623,8 +623,11 @@ def exposure_curves(curves: list[dict], title: str) -> str:
     if title:
         fig.suptitle(title, fontsize=9)
     _margins(fig, top, 0.437, left=0.08, right=0.98, wspace=0.35)
-    for ax in axes.flat[:len(axes_names)]:  # placed once the panels have their final size
-        free_legend(ax)
+    # placed once the panels have their final size; with an old revision overlaid (five
+    # entries) in two columns, so that the band a legend may need stays short
+    overlaid = any(c.get("overlay_levels") is not None for c in curves)
+    for ax in axes.flat[:len(axes_names)]:
+        free_legend(ax, ncol=2 if overlaid else 1, columnspacing=0.8, handlelength=1.6)
     return _svg(fig)
 
 
