@@ -330,6 +330,8 @@ def contains(vertices: np.ndarray, points: np.ndarray) -> np.ndarray:
 def _crossing_parity(vertices: np.ndarray, px: np.ndarray, py: np.ndarray) -> np.ndarray:
     """True where a ray from (px, py) towards +x crosses the closed outline an odd number of
     times (inside; a point exactly on the outline may go either way)."""
+    if len(vertices) > 16:  # many edges (an ellipse's outline): all edges at once, in chunks
+        return _crossing_parity_matrix(vertices, px, py)
     inside = np.zeros(px.shape, dtype=bool)
     xj, yj = vertices[-1]
     for xi, yi in vertices:
@@ -339,6 +341,25 @@ def _crossing_parity(vertices: np.ndarray, px: np.ndarray, py: np.ndarray) -> np
                 x_at = xi + (py[straddle] - yi) * ((xj - xi) / (yj - yi))
                 inside[straddle] ^= px[straddle] < x_at
         xj, yj = xi, yi
+    return inside
+
+
+def _crossing_parity_matrix(vertices: np.ndarray, px: np.ndarray, py: np.ndarray) -> np.ndarray:
+    """:func:`_crossing_parity` with every edge at once: (points x edges) tables in chunks of
+    about a million cells (a loop over 144 edges cost more than the test)."""
+    xi, yi = vertices[:, 0], vertices[:, 1]
+    xj, yj = np.roll(xi, 1), np.roll(yi, 1)
+    level = yi == yj  # never crossed by a level ray
+    with np.errstate(divide="ignore", invalid="ignore"):
+        slope = np.where(level, 0.0, (xj - xi) / np.where(level, 1.0, yj - yi))
+    inside = np.zeros(px.shape, dtype=bool)
+    step = max(1, (1 << 20) // len(vertices))
+    for a in range(0, px.size, step):
+        y = py[a:a + step, None]
+        straddle = ((y < yi) != (y < yj)) & ~level
+        x_at = xi + (y - yi) * slope
+        inside[a:a + step] = np.count_nonzero(straddle & (px[a:a + step, None] < x_at),
+                                              axis=1) % 2 == 1
     return inside
 
 

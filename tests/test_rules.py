@@ -248,3 +248,30 @@ def test_points_on_or_near_the_boundary_are_classified_by_their_distance(vertice
             assert inside
         elif d > 2 * tol:
             assert inside == shape.contains(Point(pt))
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.integers(17, 200), st.integers(0, 2**32 - 1))
+def test_containment_of_many_vertex_polygons_agrees_with_shapely(count, seed):
+    # above 16 vertices every edge is tested at once (checker.limits._crossing_parity_matrix);
+    # reference: shapely, with points within the relative 1e-9 of the outline counted inside
+    from checker.limits import contains
+
+    rng = np.random.default_rng(seed)
+    angle = np.sort(rng.uniform(0.0, 2 * np.pi, count))
+    radius = rng.uniform(0.3, 3.0, count)
+    vertices = np.column_stack([radius * np.cos(angle), radius * np.sin(angle)])
+    if seed % 2:
+        vertices = np.round(vertices, 1)  # shared heights: level edges, rays through vertices
+    shape = Polygon(vertices)
+    if not shape.is_valid:
+        return
+    points = np.vstack([rng.uniform(-3.5, 3.5, (300, 2)), vertices[:20],
+                        0.5 * (vertices[:20] + np.roll(vertices, -1, axis=0)[:20]),
+                        # level with a vertex: the ray passes through it
+                        np.column_stack([rng.uniform(-3.5, 3.5, count), vertices[:, 1]])])
+    got = contains(vertices, points)
+    tol = 1e-9 * max(1.0, float(np.abs(vertices).max()))
+    for p, inside in zip(points, got):
+        on = shape.exterior.distance(Point(p)) <= tol
+        assert inside == (shape.contains(Point(p)) or on)
