@@ -330,7 +330,10 @@ def contains(vertices: np.ndarray, points: np.ndarray) -> np.ndarray:
 def _crossing_parity(vertices: np.ndarray, px: np.ndarray, py: np.ndarray) -> np.ndarray:
     """True where a ray from (px, py) towards +x crosses the closed outline an odd number of
     times (inside; a point exactly on the outline may go either way)."""
-    if len(vertices) > 16:  # many edges (an ellipse's outline): all edges at once, in chunks
+    if len(vertices) > 16 and px.size * len(vertices) <= 1 << 19:
+        # many edges (an ellipse's outline) and few points: a Python loop over the edges
+        # costs more than testing every edge at once; for many points the loop, which
+        # computes crossings only where a point straddles an edge, is cheaper (measured)
         return _crossing_parity_matrix(vertices, px, py)
     inside = np.zeros(px.shape, dtype=bool)
     xj, yj = vertices[-1]
