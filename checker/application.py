@@ -43,8 +43,8 @@ from .history import load_record
 from .instrument import load_instrument
 from .limits import LimitSet, load_limits, sha256_of
 from .loadcases import STANDARD_CASES, LoadCase, apply_case, load_cases
-from .outputs import check_writable, commit
-from .paths import check_distinct, report_sidecar
+from .outputs import commit
+from .paths import check_distinct, check_output, report_sidecar
 from .plausibility import filter_warnings, history_warnings
 from .resources import demo_folder
 from .ride import (
@@ -175,8 +175,8 @@ def _write_pair(pdf_path: str | Path, pdf: Callable[[], bytes], json_path: str |
                 json_text: str, provenance: Provenance | None) -> tuple[Path, Path]:
     """Render in memory first, then write the PDF and its JSON sidecar together (both or
     neither, :func:`checker.outputs.commit`; never over one of the result's inputs)."""
-    pdf_path = check_writable(pdf_path)
-    json_path = check_writable(report_sidecar(pdf_path, json_path))
+    pdf_path = check_output(pdf_path)
+    json_path = check_output(report_sidecar(pdf_path, json_path))
     inputs = _input_paths(provenance) if provenance is not None else []
     check_distinct([json_path, pdf_path], inputs)  # before rendering
     pdf_bytes = pdf()
@@ -1389,10 +1389,10 @@ class DemoRun:
             When the folder cannot be made or a file cannot be written.
         """
         out = _demo_folder_made(folder)
-        paths = [check_writable(out / f"thistle_comet_rev{rev}.pdf")
+        paths = [check_output(out / f"thistle_comet_rev{rev}.pdf")
                  for rev, _, _ in self.revisions]
         for path in paths:
-            check_writable(report_sidecar(path, None))
+            check_output(report_sidecar(path, None))
         report = _report()  # imported once, before the fork
         later = [_Forked(report.check_report_pdf, check) for _, _, check in self.revisions[1:]]
         try:
@@ -1526,9 +1526,9 @@ def write_demo(folder: str | Path, *, page_size: str = "a4",
         When the folder cannot be made or an output cannot be written.
     """
     out = _demo_folder_made(folder)
-    paths = [check_writable(out / f"thistle_comet_rev{rev}.pdf") for rev, _ in DEMO_REVISIONS]
+    paths = [check_output(out / f"thistle_comet_rev{rev}.pdf") for rev, _ in DEMO_REVISIONS]
     for path in paths:
-        check_writable(report_sidecar(path, None))
+        check_output(report_sidecar(path, None))
     _report()  # imported once, before the fork (the child would import it again)
     # revision A (the failing one, the longer report) is the critical path: revision B
     # runs at a lower priority and fills the core that A's single-threaded PDF leaves idle

@@ -85,27 +85,6 @@ def was_interrupted() -> bool:
     return _state["interrupted"]
 
 
-def check_writable(path: str | Path) -> Path:
-    """Fail early (before any work) for an output that could not be written.
-
-    Parameters
-    ----------
-    path : str or pathlib.Path
-        The output path.
-
-    Returns
-    -------
-    pathlib.Path
-        ``path`` as a :class:`~pathlib.Path`.
-
-    Raises
-    ------
-    InputError
-        As :func:`checker.paths.check_output`.
-    """
-    return check_output(path)
-
-
 def _write_error(path: Path, exc: OSError) -> InputError:
     if exc.errno in (errno.ENOSPC, errno.EDQUOT):
         why = "the device is full"
@@ -219,7 +198,7 @@ def commit(files: dict[str | Path, bytes], inputs: Iterable[str | Path] = ()) ->
         When the run was interrupted (:func:`was_interrupted`) before the renames, even if the
         first ``KeyboardInterrupt`` was swallowed; nothing is written.
     """
-    targets = [check_writable(p) for p in files]
+    targets = [check_output(p) for p in files]
     check_distinct(targets, inputs)
     if was_interrupted():  # a swallowed KeyboardInterrupt must not reach the disk
         raise KeyboardInterrupt

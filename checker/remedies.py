@@ -58,15 +58,21 @@ class Remedy:
         Unit of ``value``: ``"m"``, ``"deg"``, ``"m/s"``, ``"m/s^2"`` or ``"x"`` (a factor).
     formula : str
         The closed form used, as text.
-    text : str
-        The suggestion in one sentence.
+    suggestion : str
+        The suggestion in one sentence, without the "first estimate" clause (for a table
+        whose heading says it).
     """
 
     quantity: str
     value: float | None
     unit: str
     formula: str
-    text: str
+    suggestion: str
+
+    @property
+    def text(self) -> str:
+        """The suggestion in one sentence, saying that it is a first estimate, not a design."""
+        return f"{self.suggestion} ({FIRST_ESTIMATE})"
 
 
 def valley_radius(v: float, gz_limit: float) -> float:
@@ -213,12 +219,12 @@ def remedy_for(event, geometry: TrackGeometry | None, place: str = "",
         length = transition_length(v, k, abs(f.limit_g))
         return Remedy("transition length", length, "m", "L >= v^3 k / (g0 onset_lim)",
                       f"ease the curvature step of {k:.3f} 1/m over a transition (clothoid) "
-                      f"of at least {length:.1f} m at {v:.1f} m/s ({FIRST_ESTIMATE})")
+                      f"of at least {length:.1f} m at {v:.1f} m/s")
     if f.kind == "combined":
         factor = 1.0 - f.margin / 100.0
         return Remedy("radius factor", factor, "x", "R_new = (1 + f) R",
                       f"open the rider's path radius here to at least {factor:.2f} times "
-                      f"the present one at {v:.1f} m/s ({FIRST_ESTIMATE})")
+                      f"the present one at {v:.1f} m/s")
     return None
 
 
@@ -230,12 +236,12 @@ def _vertical(geometry, s, v, limit, peak) -> Remedy:
     if need < 1e-9 or (limit - u) * (peak - u) <= 0:
         return Remedy("radius at the rider", None, "m", "R = v^2 / (g0 |Gz_lim - u|)",
                       f"gravity alone reaches the {limit:.2f} g limit here: change the "
-                      f"rider's attitude, not the radius ({FIRST_ESTIMATE})")
+                      f"rider's attitude, not the radius")
     radius = v * v / (G0 * need)
     present = v * v / (G0 * now) if now > 1e-9 else float("inf")
     return Remedy("radius at the rider", radius, "m", "R = v^2 / (g0 |Gz_lim - u|)",
                   f"a rider path radius of at least {radius:.1f} m at {v:.1f} m/s "
-                  f"(now about {present:.1f} m) meets {limit:.2f} g ({FIRST_ESTIMATE})")
+                  f"(now about {present:.1f} m) meets {limit:.2f} g")
 
 
 def _lateral(geometry, s, v) -> Remedy:
@@ -244,25 +250,24 @@ def _lateral(geometry, s, v) -> Remedy:
     if k_h < 1e-6:
         return Remedy("bank", 0.0, "deg", "tan(theta) = v^2 / (g0 R)",
                       f"no turn here: the lateral force comes from the bank ({float(roll):.1f}"
-                      f" deg) or its rate; level it ({FIRST_ESTIMATE})")
+                      f" deg) or its rate; level it")
     theta = bank_angle_deg(v, 1.0 / k_h)
     return Remedy("bank", theta, "deg", "tan(theta) = v^2 / (g0 R)",
                   f"bank the {1.0 / k_h:.1f} m radius turn at about {theta:.1f} deg at "
-                  f"{v:.1f} m/s (now {abs(float(roll)):.1f} deg) ({FIRST_ESTIMATE})")
+                  f"{v:.1f} m/s (now {abs(float(roll)):.1f} deg)")
 
 
 def _tangential(geometry, s, v, limit, place, seat_height_m) -> Remedy:
     if place in ("brake run", "launch", "lift"):
         rate = abs(limit) * G0
         return Remedy("tangential acceleration", rate, "m/s^2", "a <= |Gx_lim| g0",
-                      f"set the {place}'s rate to at most {rate:.2f} m/s^2 ({FIRST_ESTIMATE})")
+                      f"set the {place}'s rate to at most {rate:.2f} m/s^2")
     k = _step(geometry, s, -geometry.omega[:, 1])
     h = seat_height_m or 1.0
     length = h * v * v * k / (G0 * abs(limit))
     return Remedy("transition length", length, "m", "L >= h v^2 dk / (g0 |Gx_lim|)",
                   f"the pitch curvature steps by {k:.3f} 1/m: spread it over at least "
-                  f"{length:.1f} m for riders {h:.2f} m above the rails at {v:.1f} m/s "
-                  f"({FIRST_ESTIMATE})")
+                  f"{length:.1f} m for riders {h:.2f} m above the rails at {v:.1f} m/s")
 
 
 def _stall_remedy(geometry, s, attitude: str = "upright") -> Remedy:
@@ -282,4 +287,4 @@ def _stall_remedy(geometry, s, attitude: str = "upright") -> Remedy:
     return Remedy("speed at the stall point", speed, "m/s",
                   "v >= sqrt(v_top^2 + 2 g0 dz), v_top^2 >= g0 r when inverted",
                   f"the train needs at least {speed:.1f} m/s here {why}, before losses "
-                  f"(more entry speed, a lift or a launch) ({FIRST_ESTIMATE})")
+                  f"(more entry speed, a lift or a launch)")

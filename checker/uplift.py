@@ -186,6 +186,7 @@ def uplift_events(gz: np.ndarray, t: np.ndarray, station: np.ndarray | None = No
         h0 = t[i0] - t0  # the part-step from the start of the flight to the next sample
         v, d = _step(0.0, 0.0, a0, acc[i0], h0) if h0 > 0 else (0.0, 0.0)
         peak, t_peak, k, landed, t_end = max(d, 0.0), t[i0], i0, False, t[-1]
+        min_gz = None  # from the samples the flight spans, unless it ends within the part-step
         if h0 > 0 and a0 > acc[i0]:
             # a flight re-launched at a landing can top out, and land again, within the
             # part-step (Gz turns positive there): its peak and landing from the exact cubic
@@ -194,15 +195,11 @@ def uplift_events(gz: np.ndarray, t: np.ndarray, station: np.ndarray | None = No
             if top[0] > peak:
                 peak, t_peak = float(top[0]), float(t0 + at[0])
             if d <= 0.0:  # d = x^2 (a0 / 2 + (a1 - a0) x / (6 h)) is zero again at x below
-                x = min(3.0 * a0 * h0 / (a0 - acc[i0]), h0)
-                events.append(UpliftEvent(
-                    float(t0), float(t0 + x), float(peak), float(t_peak),
-                    float(min(-a0, -acc[i0]) / g0), True,
-                    float(station[min(i0, n - 1)]) if station is not None else None))
-                k = i0  # seated again (Gz > 0 there): the next flight starts at a crossing
-                continue
+                # seated again (Gz > 0 there): the next flight starts at a crossing from i0
+                t_end, landed = t0 + min(3.0 * a0 * h0 / (a0 - acc[i0]), h0), True
+                min_gz = min(-a0, -acc[i0]) / g0
         chunk = 64
-        while k + 1 < n:
+        while not landed and k + 1 < n:
             # a stretch of steps at once: states by running sums, the landing the first step
             # that ends at or below the seat, the peaks of every step up to it
             m_steps = min(chunk, n - 1 - k)
@@ -239,10 +236,11 @@ def uplift_events(gz: np.ndarray, t: np.ndarray, station: np.ndarray | None = No
             peak, t_peak = d, t[k]
         if not landed:
             k = n
-        lo = max(int(np.searchsorted(t, t0)) - 1, 0)
-        hi = max(min(k, n - 1) + 1, lo + 1)
+        if min_gz is None:
+            lo = max(int(np.searchsorted(t, t0)) - 1, 0)
+            min_gz = gz[lo:max(min(k, n - 1) + 1, lo + 1)].min()
         events.append(UpliftEvent(
-            float(t0), float(t_end), float(peak), float(t_peak), float(gz[lo:hi].min()),
+            float(t0), float(t_end), float(peak), float(t_peak), float(min_gz),
             landed, float(station[min(i0, n - 1)]) if station is not None else None))
         if k >= n:
             break

@@ -395,12 +395,9 @@ def seats_to_show(events: list[Event], evaluation: Evaluation, mode: str) -> lis
 
 def _event_context(event: Event, evaluation: Evaluation, signals: dict, seat_count: int,
                    case_count: int) -> dict:
-    from ..remedies import FIRST_ESTIMATE
-
     g = event.governing
-    remedy = event.remedy.text if event.remedy is not None else (
-        "no computed remedy: recorded data carry no geometry" if event.s_start_m is None
-        else "no computed remedy for this rule")
+    none = ("no computed remedy: recorded data carry no geometry" if event.s_start_m is None
+            else "no computed remedy for this rule")
     if event.kind == "stall":
         where = f"{event.where} (lead car)"
     else:
@@ -418,9 +415,9 @@ def _event_context(event: Event, evaluation: Evaluation, signals: dict, seat_cou
         "s_worst": _fmt(g.s_worst_m, 1), "s_motion": _fmt(g.s_motion_m, 1),
         "s_start": _fmt(g.s_start_m, 1),
         "delay": f"{g.group_delay_s:.3f}",
-        "remedy": remedy,
+        "remedy": event.remedy.text if event.remedy is not None else none,
         # page 1's table: the column heading and the note above it say "first estimate" once
-        "remedy_short": remedy.replace(f" ({FIRST_ESTIMATE})", ""),
+        "remedy_short": event.remedy.suggestion if event.remedy is not None else none,
         "message": g.detail, "attitude": g.attitude,
         "window": "", "window_caption": _window_caption(event),
     }
