@@ -303,7 +303,7 @@ def test_dollar_and_control_characters_in_names(tmp_path, capsys, monkeypatch):
     terminal escaped."""
     import checker.report as report
 
-    svgs = []
+    svgs = []  # the figures, one-page PDFs
 
     def render(html, fetcher=None):
         svgs.extend(fetcher.assets.values())
@@ -324,8 +324,12 @@ def test_dollar_and_control_characters_in_names(tmp_path, capsys, monkeypatch):
     assert "Traceback" not in err
     assert "\x1b" not in out + err and "\x07" not in out + err
     assert "bell\\x07\\x1b]0;owned" in out + err
-    text = "".join(svgs)
-    # the governing seat titles its figures; the SVG keeps text as text (svg.fonttype none)
+    from io import BytesIO
+
+    from pypdf import PdfReader
+
+    text = "".join(PdfReader(BytesIO(figure.pdf())).pages[0].extract_text() for figure in svgs)
+    # the governing seat labels its figures' legend; matplotlib's PDF keeps text as text
     assert "$\\alpha_$" in text or "cost $5 or $6" in text
     assert pdf.exists() and pdf.with_suffix(".json").exists()
 

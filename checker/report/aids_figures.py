@@ -1,6 +1,7 @@
-"""The design aids' report section: its context and its figures (inline SVG).
+"""The design aids' report section: its context and its figures.
 
-Figures take plain arrays and return SVG text, like :mod:`checker.report.figures`;
+Figures take plain arrays and return a one-page PDF, like :mod:`checker.report.figures` (the
+bank figure SVG text, for the plot file beside the banked track);
 :func:`aids_section` builds the template context of ``aids.html.j2`` from a result.
 """
 
@@ -11,12 +12,14 @@ import numpy as np
 
 from ..limits import AXES
 from ..zones import overall_highest
-from .figures import FINDING_COLOR, WIDTH_IN, _svg, path_decimate, plt
+from .figures import FINDING_COLOR, WIDTH_IN, _pdf, _svg, path_decimate, plt
 
+# Figure heights [in] (the width is WIDTH_IN), known before a figure is drawn
+ZONES_HEIGHT_IN, UPLIFT_HEIGHT_IN, RATIO_HEIGHT_IN = 2.5, 1.7, 1.9
 ZONE_COLORS = ("#e3f1e0", "#fdf1cf", "#fbdcc4", "#f6c4c4", "#e4d2ee", "#d3e3f3")
 
 
-def zones_figure(zones, traces: list[tuple[str, np.ndarray, np.ndarray]], title: str) -> str:
+def zones_figure(zones, traces: list[tuple[str, np.ndarray, np.ndarray]], title: str) -> bytes:
     """Filtered (Gx, Gz) traces over the zone polygons (highest order drawn first, so nested
     diagrams show every band).
 
@@ -33,9 +36,9 @@ def zones_figure(zones, traces: list[tuple[str, np.ndarray, np.ndarray]], title:
     Returns
     -------
     str
-        The SVG document.
+        The figure, a one-page PDF.
     """
-    fig, ax = plt.subplots(figsize=(WIDTH_IN, 2.5))
+    fig, ax = plt.subplots(figsize=(WIDTH_IN, ZONES_HEIGHT_IN))
     keys = {}
     for k, z in sorted(enumerate(zones), key=lambda p: -p[1].order):
         v = np.vstack([z.vertices, z.vertices[:1]])
@@ -56,11 +59,11 @@ def zones_figure(zones, traces: list[tuple[str, np.ndarray, np.ndarray]], title:
     ax.legend(handles=[keys[k] for k in sorted(keys)] + lines, loc="upper left",
               bbox_to_anchor=(1.01, 1.0), borderaxespad=0.0, fontsize=6)
     fig.tight_layout()
-    return _svg(fig)
+    return _pdf(fig)
 
 
 def uplift_figure(points: list[tuple[float, float, str]], free_travel_m: float | None,
-                  xlabel: str, title: str) -> str:
+                  xlabel: str, title: str) -> bytes:
     """Peak rise off the seat [m] of every flight against its station (or time).
 
     Parameters
@@ -78,9 +81,9 @@ def uplift_figure(points: list[tuple[float, float, str]], free_travel_m: float |
     Returns
     -------
     str
-        The SVG document.
+        The figure, a one-page PDF.
     """
-    fig, ax = plt.subplots(figsize=(WIDTH_IN, 1.7))
+    fig, ax = plt.subplots(figsize=(WIDTH_IN, UPLIFT_HEIGHT_IN))
     if points:
         x = np.array([p[0] for p in points])
         y = np.array([p[1] for p in points])
@@ -101,10 +104,10 @@ def uplift_figure(points: list[tuple[float, float, str]], free_travel_m: float |
     if points or free_travel_m is not None:
         ax.legend(loc="best")
     fig.tight_layout()
-    return _svg(fig)
+    return _pdf(fig)
 
 
-def ratio_figure(t: np.ndarray, ratios: list[tuple[str, np.ndarray]], title: str) -> str:
+def ratio_figure(t: np.ndarray, ratios: list[tuple[str, np.ndarray]], title: str) -> bytes:
     """Sustained combined ratio (a/A)^2 + (b/B)^2 against time, with the limit 1.
 
     Parameters
@@ -119,9 +122,9 @@ def ratio_figure(t: np.ndarray, ratios: list[tuple[str, np.ndarray]], title: str
     Returns
     -------
     str
-        The SVG document.
+        The figure, a one-page PDF.
     """
-    fig, ax = plt.subplots(figsize=(WIDTH_IN, 1.9))
+    fig, ax = plt.subplots(figsize=(WIDTH_IN, RATIO_HEIGHT_IN))
     for label, r in ratios:
         ax.plot(t, r, lw=0.8, label=label)
     ax.axhline(1.0, color=FINDING_COLOR, lw=1.0, label="limit")
@@ -130,11 +133,27 @@ def ratio_figure(t: np.ndarray, ratios: list[tuple[str, np.ndarray]], title: str
     ax.set_title(title)
     ax.legend(loc="upper right")
     fig.tight_layout()
-    return _svg(fig)
+    return _pdf(fig)
+
+
+def sensitivity_height(rows: int) -> float:
+    """Height of :func:`sensitivity_figure` [in] (its width is WIDTH_IN).
+
+    Parameters
+    ----------
+    rows : int
+        The number of rules (rows of the heat map).
+
+    Returns
+    -------
+    float
+        The figure height [in].
+    """
+    return 0.9 + 0.3 * rows
 
 
 def sensitivity_figure(rules: list[str], labels: list[str], effects: np.ndarray,
-                       margins: np.ndarray, title: str) -> str:
+                       margins: np.ndarray, title: str) -> bytes:
     """Heat map: the change of each rule's margin for a typical change of each parameter, in
     % of that margin (rows: rules, columns: parameters), so rules of different units compare;
     red loses margin, blue gains it.
@@ -157,11 +176,11 @@ def sensitivity_figure(rules: list[str], labels: list[str], effects: np.ndarray,
     Returns
     -------
     str
-        The SVG document.
+        The figure, a one-page PDF.
     """
     scale = np.where(np.abs(margins) > 1e-9, np.abs(margins), np.nan)[:, None]
     rel = 100.0 * effects / scale
-    fig, ax = plt.subplots(figsize=(WIDTH_IN, 0.9 + 0.3 * len(rules)))
+    fig, ax = plt.subplots(figsize=(WIDTH_IN, sensitivity_height(len(rules))))
     top = np.nanmax(np.abs(rel)) if np.isfinite(rel).any() else 1.0
     ax.imshow(np.nan_to_num(rel), cmap="RdBu", vmin=-top, vmax=top, aspect="auto")
     for i in range(rel.shape[0]):
@@ -177,7 +196,7 @@ def sensitivity_figure(rules: list[str], labels: list[str], effects: np.ndarray,
     ax.grid(False)
     ax.set_title(title)
     fig.tight_layout()
-    return _svg(fig)
+    return _pdf(fig)
 
 
 def bank_figure(s: np.ndarray, given: np.ndarray, advised: np.ndarray, target: np.ndarray,
@@ -338,6 +357,27 @@ def aids_section(evaluation, sensitivity=None, draw=_draw_now) -> dict:
     return section
 
 
+def job_height(function, args: tuple) -> float:
+    """The height [in] of an aids figure before it is drawn (its width is WIDTH_IN).
+
+    Parameters
+    ----------
+    function : callable
+        One of the figure functions of this module (not the bank figure).
+    args : tuple
+        Its arguments, as :func:`aids_jobs` lists them.
+
+    Returns
+    -------
+    float
+        The figure height [in].
+    """
+    if function is sensitivity_figure:
+        return sensitivity_height(len(args[0]))
+    return {zones_figure: ZONES_HEIGHT_IN, uplift_figure: UPLIFT_HEIGHT_IN,
+            ratio_figure: RATIO_HEIGHT_IN}[function]
+
+
 class _Pending(int):
     """The index of a figure job not drawn yet."""
 
@@ -371,17 +411,17 @@ def aids_jobs(evaluation, sensitivity) -> tuple[dict, list]:
     return aids_section(evaluation, sensitivity, draw=defer), jobs
 
 
-def aids_context(section: dict, drawn: list[str], asset) -> dict:
+def aids_context(section: dict, drawn: list, asset) -> dict:
     """The section of :func:`aids_jobs` with each figure drawn and handed to ``asset``.
 
     Parameters
     ----------
     section : dict
         The section from :func:`aids_jobs`.
-    drawn : list of str
-        The SVG text of each job, in job order.
+    drawn : list
+        The drawn figure of each job (what ``asset`` takes), in job order.
     asset : callable
-        ``asset(svg) -> str``: registers an SVG figure and returns its ``checker-asset:``
+        ``asset(figure) -> str``: registers a figure and returns its ``checker-asset:``
         URL.
 
     Returns

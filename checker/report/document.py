@@ -1,6 +1,8 @@
 """The report's HTML: a context built from findings and signals, rendered by jinja2.
 
-All user text goes through jinja2's autoescape; only the SVG made here is marked safe.
+All user text goes through jinja2's autoescape. The figures are drawn in worker processes
+while weasyprint lays the document out: each figure's size is known before it is drawn, so
+the HTML holds its place (:mod:`checker.report.placing`).
 """
 
 from __future__ import annotations
@@ -20,8 +22,9 @@ from ..events import RECORD_GAP_S, Event, event_of_finding, explain_events, grou
 from ..limits import AXES, REST, contains
 from ..rules import Evaluation, seat_exposures
 from . import figures
-from .aids_figures import aids_context, aids_jobs
+from .aids_figures import aids_context, aids_jobs, job_height
 from .pdf import ASSET_SCHEME, TEMPLATES, frozen_heap
+from .placing import PdfFigure
 
 PAGE_SIZES = {"a4": "A4", "letter": "letter"}
 
@@ -142,17 +145,38 @@ EXPOSURE_CAPTION = "Exposure: highest level sustained for at least each duration
 COMBINED_CAPTION = "Combined axes (filtered) against the envelopes; red: outside"
 
 
-def _seat_section(result, signal, limits, worst: bool) -> dict:
-    """Figures of one seat (runs in a worker process when there are several seats)."""
+def _seat_section(result, worst: bool) -> dict:
+    """The template context of one seat's page, its figures still to be drawn."""
+    return {"seat": result.seat, "case": result.case, "count": len(result.findings),
+            "verdict": result.verdict, "worst": worst,
+            "captions": {"histories": HISTORIES_CAPTION.format(seat=result.seat,
+                                                               case=result.case),
+                         "exposure": EXPOSURE_CAPTION, "combined": COMBINED_CAPTION}}
+
+
+def _seat_figure_jobs(result, signal, limits) -> dict:
+    """``{key: (function, args, height [in])}`` of a seat page's figures (time histories,
+    exposure curves, combined axes), each only where it has something to draw."""
     spans = [(f.t_start, f.t_end, f.axis) for f in result.findings]
     raw = np.asarray(signal.g) if signal is not None else None
-    histories = figures.time_histories(result.t, result.filtered, raw, spans, "")
+    jobs = {"histories": (figures.time_histories,
+                          (result.t, result.filtered, raw, spans, ""),
+                          figures.time_histories_height(False))}
+    if limits.duration and len(result.t) >= 2:
+        jobs["exposure"] = (_exposure_figure, (result, limits),
+                            figures.exposure_curves_height(False))
+    if limits.combined:
+        jobs["combined"] = (_combined_figure, (result.filtered, limits),
+                            figures.combined_scatter_height(False))
+    return jobs
+
+
+def _exposure_figure(result, limits) -> bytes:
+    """A seat's exposure curves against its duration limits (drawn in a worker)."""
     curves = []
-    exposures = seat_exposures(result, limits)  # only for the seats drawn, at plotted durations
+    exposures = seat_exposures(result, limits)  # only for the seats drawn
     for rule in limits.duration:
-        exp = exposures.get(rule.name)
-        if exp is None:
-            continue
+        exp = exposures[rule.name]
         curves.append({"name": rule.name, "axis": rule.axis, "durations": exp.durations_s,
                        "levels": exp.levels_g,
                        "limit_durations": np.append(rule.durations_s,
@@ -160,20 +184,18 @@ def _seat_section(result, signal, limits, worst: bool) -> dict:
                                                         rule.durations_s[-1])),
                        "limit_levels": np.append(rule.levels_g, rule.levels_g[-1]),
                        "step": rule.interpolation == "step"})
-    exposure = figures.exposure_curves(curves, "") if curves else ""
+    return figures.exposure_curves(curves, "")
+
+
+def _combined_figure(filtered: np.ndarray, limits) -> bytes:
+    """A seat's filtered axis pairs against each combined envelope (drawn in a worker)."""
     panels = []
     for env in limits.combined:
         ia, ib = AXES.index(env.axes[0]), AXES.index(env.axes[1])
-        pts = result.filtered[:, [ia, ib]]
+        pts = filtered[:, [ia, ib]]
         panels.append({"name": env.name, "axes": env.axes, "points": pts,
                        "vertices": env.vertices, "outside": ~contains(env.vertices, pts)})
-    combined = figures.combined_scatter(panels, "") if panels else ""
-    return {"seat": result.seat, "case": result.case, "count": len(result.findings),
-            "verdict": result.verdict, "worst": worst, "histories": histories,
-            "exposure": exposure, "combined": combined,
-            "captions": {"histories": HISTORIES_CAPTION.format(seat=result.seat,
-                                                               case=result.case),
-                         "exposure": EXPOSURE_CAPTION, "combined": COMBINED_CAPTION}}
+    return figures.combined_scatter(panels, "")
 
 
 def ride_statistics(ride, evaluation: Evaluation) -> list[tuple[str, str]]:
@@ -246,47 +268,34 @@ def _worst_rows(evaluation: Evaluation, signals: dict) -> list[dict]:
     return rows
 
 
-def _section_job(args):
-    result, signal, limits, worst = args
-    return _seat_section(result, signal, limits, worst)
-
-
 def _call(job):
     function, args = job
     return function(*args)
 
 
-def _run_figure_jobs(jobs: list) -> list:
-    """Run (function, args) figure jobs, on every core when there are several
-    (matplotlib is the cost); results in order."""
+def _start_figure_jobs(jobs: list) -> list[PdfFigure]:
+    """Start drawing (function, args, height [in]) figure jobs, on every core when there are
+    several, and return each figure at once with its size: its PDF is waited for only when
+    asked (weasyprint lays out meanwhile). Workers are forked with the heap frozen (see
+    :func:`checker.report.pdf.frozen_heap`); the pool is shut down when the last job ends."""
+    width_pt = figures.WIDTH_IN * 72.0
     workers = min(len(jobs), os.cpu_count() or 1)
     if workers < 2:
-        return [_call(j) for j in jobs]
+        return [PdfFigure(width_pt, height * 72.0, _call((function, args)))
+                for function, args, height in jobs]
     import multiprocessing
     from concurrent.futures import ProcessPoolExecutor
 
     from ..parentwatch import watch_parent
 
-    with frozen_heap(), ProcessPoolExecutor(
+    with frozen_heap():  # the workers are forked at the first submission
+        pool = ProcessPoolExecutor(
             workers, mp_context=multiprocessing.get_context("fork"), initializer=watch_parent,
-            initargs=(os.getpid(),)) as pool:
-        return list(pool.map(_call, jobs))
-
-
-def _render_sections(jobs, signals: dict, limits) -> list[dict]:
-    """Seat figures (see :func:`_run_figure_jobs`)."""
-    return _run_figure_jobs([(_seat_section, (s, _lean(signals.get((s.seat, s.case))),
-                                              limits, worst)) for s, worst in jobs])
-
-
-@dataclass
-class _RawSignal:
-    g: np.ndarray
-
-
-def _lean(signal):
-    """Only the raw trace travels to a worker."""
-    return None if signal is None else _RawSignal(np.asarray(signal.g))
+            initargs=(os.getpid(),))
+        futures = [pool.submit(_call, (function, args)) for function, args, _ in jobs]
+    pool.shutdown(wait=False)  # the submitted jobs still run to the end
+    return [PdfFigure(width_pt, height * 72.0, future.result)
+            for future, (_, _, height) in zip(futures, jobs)]
 
 
 def _sweep_context(sweep) -> dict | None:
@@ -430,8 +439,8 @@ def _window_caption(event: Event) -> str:
 
 
 def _event_figure_job(event: Event, evaluation: Evaluation, signals: dict):
-    """(function, args) drawing the zoomed time window (and dG/dt for onset) of the
-    event's governing seat, or None when there is nothing to draw."""
+    """(function, args, height [in]) drawing the zoomed time window (and dG/dt for onset) of
+    the event's governing seat, or None when there is nothing to draw."""
     g = event.governing
     if event.kind == "stall":
         return None
@@ -453,14 +462,17 @@ def _event_figure_job(event: Event, evaluation: Evaluation, signals: dict):
         onset = (onset[0][window], onset[1])
     return (figures.event_window, (seat.t[window], seat.filtered[window],
                                    None if raw is None else raw[window], axes, span, limits,
-                                   "", 1.5, onset))
+                                   "", 1.5, onset),
+            figures.event_window_height(onset is not None, False))
 
 
 def build_html(evaluation: Evaluation, signals: dict, ride, meta: ReportMeta,
-               events: list[Event] | None = None) -> tuple[str, dict[str, str]]:
-    """The whole report as HTML with inline CSS, and its SVG figures by asset name.
+               events: list[Event] | None = None) -> tuple[str, dict[str, PdfFigure]]:
+    """The whole report as HTML with inline CSS, and its figures by asset name.
 
-    The figures are drawn in parallel on every core.
+    The figures are drawn in parallel on every core, and still being drawn when this
+    returns: each waits for its drawing only when its PDF is asked for (by
+    :func:`checker.report.pdf.render_pdf`, after the layout).
 
     Parameters
     ----------
@@ -480,8 +492,8 @@ def build_html(evaluation: Evaluation, signals: dict, ride, meta: ReportMeta,
     -------
     html : str
         The report; figures are referenced as ``checker-asset:NAME`` URLs.
-    assets : dict of str to str
-        SVG text by asset name, for :class:`checker.report.pdf.TemplatesOnlyFetcher`.
+    assets : dict of str to PdfFigure
+        The figures by asset name, for :class:`checker.report.pdf.TemplatesOnlyFetcher`.
     """
     env = _env()
     limits = evaluation.limits
@@ -493,13 +505,13 @@ def build_html(evaluation: Evaluation, signals: dict, ride, meta: ReportMeta,
     seat_rows = [{"seat": s.seat, "case": s.case, "count": len(s.findings),
                   "verdict": ("stall" if any(f.kind == "stall" for f in s.findings)
                               else s.verdict)} for s in evaluation.seats]
-    assets: dict[str, str] = {}
+    assets: dict[str, PdfFigure] = {}
 
-    def asset(svg: str) -> str:
-        if not svg:
+    def asset(figure: PdfFigure | None) -> str:
+        if figure is None:
             return ""
-        name = f"figure{len(assets) + 1}.svg"
-        assets[name] = svg
+        name = f"figure{len(assets) + 1}.pdf"
+        assets[name] = figure
         return f"{ASSET_SCHEME}:{name}"
 
     event_rows = [_event_context(e, evaluation, signals, len(seat_names), len(case_names))
@@ -516,23 +528,26 @@ def build_html(evaluation: Evaluation, signals: dict, ride, meta: ReportMeta,
             geo.position, geo.s, [(e.governing.s_worst_m, e.rule) for e in events
                                   if e.governing.s_worst_m is not None],
             50 if geo.length < 800 else 100, "", (ride.motion.s, ride.motion.v),
-            geo.roll_deg)))
-    jobs += [(_seat_section, (s, _lean(signals.get((s.seat, s.case))), limits, False))
-             for s in chosen]
+            geo.roll_deg), figures.layout_views_height(True, geo.roll_deg is not None)))
+    sections, section_jobs = [], []
+    for s in chosen:
+        sections.append(_seat_section(s, False))
+        section_jobs.append(_seat_figure_jobs(s, signals.get((s.seat, s.case)), limits))
+        jobs += section_jobs[-1].values()
     windows_at = len(jobs)
     jobs += [j for j in event_jobs if j is not None]
     aids_at = len(jobs)
     aids, aid_jobs = aids_jobs(evaluation, meta.sensitivity)
-    jobs += aid_jobs
-    drawn = _run_figure_jobs(jobs)  # every figure, on every core
-    layout_drawn = drawn[0] if ride is not None else ""
-    sections = drawn[int(ride is not None):windows_at]
+    jobs += [(function, args, job_height(function, args)) for function, args in aid_jobs]
+    drawn = _start_figure_jobs(jobs)  # drawn on every core while the PDF is laid out
+    layout_drawn = drawn[0] if ride is not None else None
     windows = iter(drawn[windows_at:aids_at])
     for row, job in zip(event_rows, event_jobs):
         row["window"] = asset(next(windows)) if job is not None else ""
-    for section in sections:
+    drawn_sections = iter(drawn[int(ride is not None):windows_at])
+    for section, figure_jobs in zip(sections, section_jobs):
         for key in ("histories", "exposure", "combined"):
-            section[key] = asset(section[key])
+            section[key] = asset(next(drawn_sections)) if key in figure_jobs else ""
         section["governs"] = ", ".join(governs.get((section["seat"], section["case"]), []))
     layout_svg = asset(layout_drawn)
     station_every = 50 if ride is not None and ride.geometry.length < 800 else 100

@@ -1,8 +1,10 @@
-"""Report figures as inline SVG text (matplotlib, vector output).
+"""Report figures (matplotlib, vector output): one-page PDFs for reports.
 
-Every function takes plain arrays and returns an SVG string; nothing here knows physics or
-rules. Long signals are reduced to per-pixel minimum and maximum before plotting, so the
-peaks stay visible and the files stay small.
+Every function takes plain arrays and returns the figure as a one-page PDF (matplotlib's
+PDF backend; :mod:`checker.report.placing` puts it into the report), its size given by the
+function's ``*_height`` companion so a report can lay out before it is drawn; nothing here
+knows physics or rules. Long signals are reduced to per-pixel minimum and maximum before
+plotting, so the peaks stay visible and the files stay small.
 """
 
 from __future__ import annotations
@@ -20,7 +22,10 @@ import matplotlib.ticker  # noqa: E402
 import numpy as np  # noqa: E402
 
 plt.rcParams.update({
-    "svg.fonttype": "none", "font.family": "DejaVu Sans", "font.size": 8,
+    "svg.fonttype": "none", "font.family": "DejaVu Sans",
+    # Type 3 glyphs: embedding TrueType (42) subsets each figure's font with fontTools,
+    # three times slower per figure (measured on the demo's 22 figures)
+    "pdf.fonttype": 3, "font.size": 8,
     "axes.titlesize": 9, "axes.labelsize": 8, "legend.fontsize": 7, "axes.grid": True,
     "grid.alpha": 0.3, "svg.hashsalt": "checker",  # deterministic element ids
     "text.parse_math": False,  # '$' in a seat, case or file name is text, never math markup
@@ -183,6 +188,15 @@ def free_legend(ax, fontsize: float = 6, **kwargs):
 SVG_NS = "http://www.w3.org/2000/svg"
 XLINK_NS = "http://www.w3.org/1999/xlink"
 _NO_ROTATION = re.compile(r"rotate\(-?0 [-+\d.e]+ [-+\d.e]+\)")
+
+
+def _pdf(fig) -> bytes:
+    """The figure as a one-page PDF of its size; closed unless kept for reuse."""
+    buffer = io.BytesIO()
+    fig.savefig(buffer, format="pdf", metadata={"CreationDate": None})  # same input, same bytes
+    if not any(fig is f for f, _ in _REUSED.values()):
+        plt.close(fig)
+    return buffer.getvalue()
 
 
 def _svg(fig) -> str:
@@ -402,10 +416,26 @@ def path_decimate(points: np.ndarray, tolerance: float) -> np.ndarray:
     return keep
 
 
+def layout_views_height(speed: bool, bank: bool) -> float:
+    """Height of :func:`layout_views` [in] (its width is :data:`WIDTH_IN`).
+
+    Parameters
+    ----------
+    speed, bank : bool
+        Whether the speed and the bank panels are drawn.
+
+    Returns
+    -------
+    float
+        The figure height [in].
+    """
+    return 5.6 + 1.3 * (speed + bank)
+
+
 def layout_views(position: np.ndarray, s: np.ndarray, marks: list[tuple[float, str]],
                  station_every_m: float = 100.0, title: str = "",
                  speed: tuple[np.ndarray, np.ndarray] | None = None,
-                 bank_deg: np.ndarray | None = None) -> str:
+                 bank_deg: np.ndarray | None = None) -> bytes:
     """Plan (x-y) and elevation (station-z) views with station ticks and finding marks, and
     (when given) speed and bank against station, so a reader can see the input was
     understood.
@@ -431,11 +461,12 @@ def layout_views(position: np.ndarray, s: np.ndarray, marks: list[tuple[float, s
     Returns
     -------
     str
-        The SVG document (from ``<svg``).
+        The figure, a one-page PDF.
     """
     extra = (speed is not None) + (bank_deg is not None)
     ratios = [3, 1.4] + [1.0] * extra
-    fig, panels = plt.subplots(2 + extra, 1, figsize=(WIDTH_IN, 5.6 + 1.3 * extra),
+    fig, panels = plt.subplots(2 + extra, 1, figsize=(
+        WIDTH_IN, layout_views_height(speed is not None, bank_deg is not None)),
                                gridspec_kw={"height_ratios": ratios})
     plan, elev = panels[0], panels[1]
     rest = list(panels[2:])
@@ -489,10 +520,10 @@ def layout_views(position: np.ndarray, s: np.ndarray, marks: list[tuple[float, s
     usable = height - 0.3 - 0.5
     fig.subplots_adjust(left=0.1, right=0.98, top=1.0 - 0.3 / height, bottom=0.5 / height,
                         hspace=gap * rows / (usable - gap * (rows - 1)))
-    return _svg(fig)
+    return _pdf(fig)
 
 
-def elevation_pair(left: tuple, right: tuple, labels: tuple[str, str]) -> str:
+def elevation_pair(left: tuple, right: tuple, labels: tuple[str, str]) -> bytes:
     """Two layouts' elevations side by side.
 
     Parameters
@@ -506,7 +537,7 @@ def elevation_pair(left: tuple, right: tuple, labels: tuple[str, str]) -> str:
     Returns
     -------
     str
-        The SVG document.
+        The figure, a one-page PDF.
     """
     fig, axes = plt.subplots(1, 2, figsize=(WIDTH_IN, 2.6), sharey=True)
     for ax, (s, z, marks), label in zip(axes, (left, right), labels):
@@ -518,12 +549,28 @@ def elevation_pair(left: tuple, right: tuple, labels: tuple[str, str]) -> str:
         ax.set_xlabel("station [m]")
     axes[0].set_ylabel("height z [m]")
     fig.tight_layout()
-    return _svg(fig)
+    return _pdf(fig)
+
+
+def time_histories_height(titled: bool) -> float:
+    """Height of :func:`time_histories` [in] (its width is :data:`WIDTH_IN`).
+
+    Parameters
+    ----------
+    titled : bool
+        Whether the figure has a title.
+
+    Returns
+    -------
+    float
+        The figure height [in].
+    """
+    return 3.63 + (TITLE_IN if titled else BARE_TOP_IN)
 
 
 def time_histories(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
                    spans: list[tuple[float, float, str]], title: str,
-                   overlay: tuple[np.ndarray, np.ndarray, str] | None = None) -> str:
+                   overlay: tuple[np.ndarray, np.ndarray, str] | None = None) -> bytes:
     """Gx, Gy, Gz against time: filtered in colour, raw faint behind, findings shaded.
 
     Parameters
@@ -546,10 +593,10 @@ def time_histories(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
     Returns
     -------
     str
-        The SVG document; each signal is reduced with :func:`envelope_decimate`.
+        The figure, a one-page PDF; each signal is reduced with :func:`envelope_decimate`.
     """
     top = TITLE_IN if title else BARE_TOP_IN
-    fig, axes = _reused(3, 1, (WIDTH_IN, 3.63 + top), sharex=True)
+    fig, axes = _reused(3, 1, (WIDTH_IN, time_histories_height(bool(title))), sharex=True)
     for i, (ax, axis) in enumerate(zip(axes, ("gx", "gy", "gz"))):
         if raw is not None:
             ax.plot(*envelope_decimate(t, raw[:, i]), color="#bbbbbb", lw=0.6, label="raw")
@@ -567,10 +614,26 @@ def time_histories(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
         axes[0].set_title(title)
     axes[-1].set_xlabel("time [s]")
     _margins(fig, top, 0.4, left=0.09, right=0.98, hspace=0.12)  # room for "time [s]"
-    return _svg(fig)
+    return _pdf(fig)
 
 
-def exposure_curves(curves: list[dict], title: str) -> str:
+def exposure_curves_height(titled: bool) -> float:
+    """Height of :func:`exposure_curves` [in] (its width is :data:`WIDTH_IN`).
+
+    Parameters
+    ----------
+    titled : bool
+        Whether the figure has a title.
+
+    Returns
+    -------
+    float
+        The figure height [in].
+    """
+    return 1.886 + PANEL_TITLE_IN + (0.164 if titled else 0.0)
+
+
+def exposure_curves(curves: list[dict], title: str) -> bytes:
     """Exposure curves against limits, one panel per axis with both directions.
 
     An exposure curve is the highest level sustained for at least a duration. Each curve is
@@ -591,11 +654,12 @@ def exposure_curves(curves: list[dict], title: str) -> str:
     Returns
     -------
     str
-        The SVG document (durations on a log axis).
+        The figure, a one-page PDF (durations on a log axis).
     """
     axes_names = [a for a in ("gx", "gy", "gz") if any(c["axis"] == a for c in curves)]
     top = PANEL_TITLE_IN + (0.164 if title else 0.0)
-    fig, axes = _reused(1, max(len(axes_names), 1), (WIDTH_IN, 1.886 + top), squeeze=False)
+    fig, axes = _reused(1, max(len(axes_names), 1),
+                        (WIDTH_IN, exposure_curves_height(bool(title))), squeeze=False)
     for ax, axis in zip(axes.flat, axes_names):
         _log_duration_axis(ax)
         longest = 1.0
@@ -628,7 +692,7 @@ def exposure_curves(curves: list[dict], title: str) -> str:
     overlaid = any(c.get("overlay_levels") is not None for c in curves)
     for ax in axes.flat[:len(axes_names)]:
         free_legend(ax, ncol=2 if overlaid else 1, columnspacing=0.8, handlelength=1.6)
-    return _svg(fig)
+    return _pdf(fig)
 
 
 def _own_side(levels: np.ndarray, neutral: float, side: float) -> np.ndarray:
@@ -638,10 +702,34 @@ def _own_side(levels: np.ndarray, neutral: float, side: float) -> np.ndarray:
     return out
 
 
+def _event_window_bands(onset: bool, titled: bool) -> tuple[float, float, float]:
+    """(top margin, axes and the gap between them, bottom margin) of an event window [in]."""
+    top = (0.33 if onset else 0.2325) if titled else BARE_TOP_IN
+    return top, (2.035 if onset else 0.9145), (0.385 if onset else 0.403)
+
+
+def event_window_height(onset: bool, titled: bool) -> float:
+    """Height of :func:`event_window` [in] (its width is :data:`WIDTH_IN`).
+
+    Parameters
+    ----------
+    onset : bool
+        Whether the dG/dt panel is drawn.
+    titled : bool
+        Whether the figure has a title.
+
+    Returns
+    -------
+    float
+        The figure height [in].
+    """
+    return sum(_event_window_bands(onset, titled))
+
+
 def event_window(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
                  axes: list[int], span: tuple[float, float], limits: list[tuple[str, float]],
                  title: str, pad_s: float = 1.5,
-                 onset: tuple[np.ndarray, float] | None = None) -> str:
+                 onset: tuple[np.ndarray, float] | None = None) -> bytes:
     """A few seconds around an event: the filtered (and raw) signal of its axes, the event's
     time span shaded and each limit drawn as a dashed line.
 
@@ -670,15 +758,13 @@ def event_window(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
     Returns
     -------
     str
-        The SVG document.
+        The figure, a one-page PDF.
     """
     names = ("gx", "gy", "gz")
     a, b = span
     window = (t >= a - pad_s) & (t <= b + pad_s)
     rows = 2 if onset is not None else 1
-    top = (0.2325 if rows == 1 else 0.33) if title else BARE_TOP_IN
-    bottom = 0.403 if rows == 1 else 0.385
-    plots = 0.9145 if rows == 1 else 2.035  # height of the axes and the gap between them
+    top, plots, bottom = _event_window_bands(rows == 2, bool(title))
     fig, panels = _reused(rows, 1, (WIDTH_IN, top + plots + bottom), sharex=True,
                           squeeze=False)
     ax = panels[0, 0]
@@ -706,10 +792,26 @@ def event_window(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
     _margins(fig, top, bottom, left=0.09, right=0.98, hspace=0.12)
     for panel in panels[:, 0]:  # placed once the panels have their final size
         free_legend(panel, ncol=3)
-    return _svg(fig)
+    return _pdf(fig)
 
 
-def combined_scatter(panels: list[dict], title: str) -> str:
+def combined_scatter_height(titled: bool) -> float:
+    """Height of :func:`combined_scatter` [in] (its width is :data:`WIDTH_IN`).
+
+    Parameters
+    ----------
+    titled : bool
+        Whether the figure has a title.
+
+    Returns
+    -------
+    float
+        The figure height [in].
+    """
+    return 1.83 + PANEL_TITLE_IN + (0.19 if titled else 0.0)
+
+
+def combined_scatter(panels: list[dict], title: str) -> bytes:
     """Filtered pairs of axes against each envelope polygon.
 
     Parameters
@@ -724,15 +826,16 @@ def combined_scatter(panels: list[dict], title: str) -> str:
     Returns
     -------
     str
-        The SVG document; the trajectory is reduced with :func:`path_decimate` (0.04 g).
+        The figure, a one-page PDF; the trajectory is reduced with :func:`path_decimate` (0.04 g).
     """
     n = len(panels)
     top = PANEL_TITLE_IN + (0.19 if title else 0.0)
-    fig, axes = _reused(1, max(n, 1), (WIDTH_IN, 1.83 + top), squeeze=False)
+    fig, axes = _reused(1, max(n, 1), (WIDTH_IN, combined_scatter_height(bool(title))),
+                        squeeze=False)
     for ax, p in zip(axes.flat, panels):
         pts = p["points"]
         path = pts[path_decimate(pts, 0.04)]
-        # the trajectory as one path (one SVG node), not thousands of markers
+        # the trajectory as one path, not thousands of markers
         ax.plot(path[:, 0], path[:, 1], lw=0.5, color="#1f5fa8", alpha=0.7)
         out = p["outside"]
         if out.any():
@@ -746,4 +849,4 @@ def combined_scatter(panels: list[dict], title: str) -> str:
     if title:
         fig.suptitle(title, fontsize=9)
     _margins(fig, top, 0.4, left=0.08, right=0.98, wspace=0.3)  # room for the x labels
-    return _svg(fig)
+    return _pdf(fig)

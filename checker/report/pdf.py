@@ -1,9 +1,10 @@
 """PDF rendering with weasyprint, reaching nothing outside the project's templates.
 
-The HTML carries its CSS inline; its figures are SVG documents held in memory and named by
-``checker-asset:`` URLs (weasyprint draws them as vectors, and parses them far faster than
-inline markup). The URL fetcher serves those, and files under ``templates/``, and refuses
-every other URL: no local files, no network, no data the user slipped into a name.
+The HTML carries its CSS inline; its figures are held in memory and named by
+``checker-asset:`` URLs: one-page PDFs drawn by matplotlib (:class:`PdfFigure`, placed as
+vectors after layout, see :mod:`checker.report.placing`) or SVG documents (drawn by
+weasyprint). The URL fetcher serves those, and files under ``templates/``, and refuses every
+other URL: no local files, no network, no data the user slipped into a name.
 """
 
 from __future__ import annotations
@@ -19,6 +20,7 @@ from weasyprint import HTML
 from weasyprint.urls import URLFetcher, URLFetcherResponse
 
 from ..resources import templates_folder
+from .placing import FigurePlacer, PdfFigure
 
 TEMPLATES = templates_folder()
 
@@ -61,21 +63,26 @@ class TemplatesOnlyFetcher(URLFetcher):
     ----------
     root : pathlib.Path, optional
         The folder whose files may be fetched (default: the shipped templates).
-    assets : dict of str to str or None, optional
-        The report's SVG figures by name, served as ``checker-asset:NAME``.
+    assets : dict of str to (PdfFigure or str) or None, optional
+        The report's figures by name, served as ``checker-asset:NAME``: a PDF figure as the
+        placeholder image of :attr:`placer`, an SVG document (str) as itself.
 
     Attributes
     ----------
     root : pathlib.Path
         ``root`` resolved (links followed).
-    assets : dict of str to str
+    assets : dict of str to (PdfFigure or str)
         As given (empty when None).
+    placer : FigurePlacer
+        The placeholders served; :func:`render_pdf` passes it to weasyprint as finisher.
     """
 
-    def __init__(self, root: Path = TEMPLATES, assets: dict[str, str] | None = None) -> None:
+    def __init__(self, root: Path = TEMPLATES,
+                 assets: dict[str, PdfFigure | str] | None = None) -> None:
         super().__init__(allowed_protocols={"file", ASSET_SCHEME}, allow_redirects=False)
         self.root = Path(root).resolve()
         self.assets = assets or {}
+        self.placer = FigurePlacer()
 
     def fetch(self, url, headers=None):  # noqa: D401 - weasyprint's signature
         """Serve one URL, or refuse it.
@@ -90,8 +97,9 @@ class TemplatesOnlyFetcher(URLFetcher):
         Returns
         -------
         weasyprint.urls.URLFetcherResponse
-            An asset as ``image/svg+xml``, or a regular file under :attr:`root` (after resolving
-            links) with its guessed MIME type.
+            A PDF figure's placeholder as ``image/png``, an SVG asset as ``image/svg+xml``, or
+            a regular file under :attr:`root` (after resolving links) with its guessed MIME
+            type.
 
         Raises
         ------
@@ -100,8 +108,12 @@ class TemplatesOnlyFetcher(URLFetcher):
             weasyprint logs it and leaves the resource out.
         """
         if url.startswith(ASSET_SCHEME + ":") and url[len(ASSET_SCHEME) + 1:] in self.assets:
-            body = self.assets[url[len(ASSET_SCHEME) + 1:]].encode("utf-8")
-            return URLFetcherResponse(url, body, {"Content-Type": "image/svg+xml"})
+            asset = self.assets[url[len(ASSET_SCHEME) + 1:]]
+            if isinstance(asset, PdfFigure):
+                return URLFetcherResponse(url, self.placer.placeholder(asset),
+                                          {"Content-Type": "image/png"})
+            return URLFetcherResponse(url, asset.encode("utf-8"),
+                                      {"Content-Type": "image/svg+xml"})
         parsed = urlparse(url)
         if parsed.scheme == "file":
             path = Path(unquote(parsed.path)).resolve()
@@ -131,4 +143,4 @@ def render_pdf(html: str, fetcher: TemplatesOnlyFetcher | None = None) -> bytes:
     logging.getLogger("weasyprint").setLevel(logging.CRITICAL)  # refusals are expected
     with frozen_heap():
         document = HTML(string=html, base_url=TEMPLATES.as_uri() + "/", url_fetcher=fetcher)
-        return document.write_pdf()
+        return document.write_pdf(finisher=fetcher.placer)

@@ -1,0 +1,151 @@
+"""Figures drawn as PDF by matplotlib and placed into the report's PDF after layout.
+
+References: matplotlib's own PDF of a figure, rasterized by PDFium, is what a placed figure
+must look like; pypdf reads the page text back.
+"""
+
+from __future__ import annotations
+
+import io
+
+import numpy as np
+import pydyf
+import pytest
+from pypdf import PdfReader
+
+from checker.report import TemplatesOnlyFetcher, render_pdf
+from checker.report.placing import FigurePlacer, PdfFigure, placeholder_png
+
+PAGE = "<style>@page {{ size: 8in 6in; margin: 0 }} body {{ margin: 0 }}</style>{body}"
+
+
+def _figure(width_in: float, height_in: float, label: str = "placed label 42") -> bytes:
+    """A figure with a red block on its left half, a blue line and a text label."""
+    import matplotlib.figure
+
+    fig = matplotlib.figure.Figure(figsize=(width_in, height_in))
+    ax = fig.add_axes((0, 0, 1, 1))
+    ax.set_axis_off()
+    ax.set_xlim(0, 1)
+    ax.set_ylim(0, 1)
+    ax.fill([0, 0.5, 0.5, 0], [0, 0, 1, 1], color="#ff0000", lw=0)
+    ax.plot([0.55, 0.95], [0.8, 0.8], color="#0000ff", lw=4)
+    ax.text(0.6, 0.3, label, fontsize=14)
+    buffer = io.BytesIO()
+    fig.savefig(buffer, format="pdf")
+    return buffer.getvalue()
+
+
+def _raster(pdf: bytes, scale: float = 1.0) -> np.ndarray:
+    import pypdfium2
+
+    page = pypdfium2.PdfDocument(pdf)[0]
+    return np.asarray(page.render(scale=scale).to_pil().convert("RGB"), dtype=int)
+
+
+def test_a_placed_figure_draws_what_its_own_pdf_draws_where_the_layout_put_it():
+    """A 6 x 3 in figure placed by an <img> 1 in from the left and 2 in from the top of an
+    8 x 6 in page: the page's pixels there equal the figure's own PDF (PDFium), the page
+    elsewhere stays white, and no placeholder grey is left."""
+    figure = PdfFigure.of(_figure(6.0, 3.0))
+    assert (figure.width_pt, figure.height_pt) == (432.0, 216.0)
+    body = ('<div style="height: 2in"></div><img src="checker-asset:f.pdf" '
+            'style="margin-left: 1in; width: 6in; display: block">')
+    pdf = render_pdf(PAGE.format(body=body), TemplatesOnlyFetcher(assets={"f.pdf": figure}))
+    page = _raster(pdf)  # 72 px per inch
+    own = _raster(figure.pdf())
+    placed = page[144:144 + 216, 72:72 + 432]
+    assert own.shape == placed.shape
+    # anti-aliased edges may differ by a pixel's blend; the bulk is identical
+    assert np.mean(np.abs(placed - own) > 40) < 0.01
+    assert (placed[100, 50] == [255, 0, 0]).all()  # the red half, as drawn
+    outside = np.concatenate([page[:140].reshape(-1, 3), page[364:].reshape(-1, 3)])
+    assert (outside == 255).all()
+    assert (placed[190:212, 260:420] == 255).all()  # white as drawn: no placeholder grey
+    assert "placed label 42" in PdfReader(io.BytesIO(pdf)).pages[0].extract_text()
+
+
+def test_figures_of_equal_size_get_their_own_place():
+    """Two figures of the same size (two event windows, say) keep their order and content:
+    each placeholder has its own pixel size."""
+    first, second = _figure(4.0, 2.0), _figure(4.0, 2.0, "placed label 77")
+    assets = {"a.pdf": PdfFigure.of(first), "b.pdf": PdfFigure.of(second)}
+    body = ('<img src="checker-asset:a.pdf" style="width: 4in; display: block">'
+            '<img src="checker-asset:b.pdf" style="width: 4in; display: block">')
+    pdf = render_pdf(PAGE.format(body=body), TemplatesOnlyFetcher(assets=assets))
+    text = PdfReader(io.BytesIO(pdf)).pages[0].extract_text()
+    assert text.index("placed label 42") < text.index("placed label 77")
+    sizes = {placeholder_png(288.0, 144.0, k)[1] for k in range(50)}
+    assert len(sizes) == 50
+
+
+def test_a_placeholder_keeps_the_figure_aspect_ratio():
+    for width, height in [(482.4, 144.0), (482.4, 500.0), (100.0, 1000.0), (1000.0, 7.0)]:
+        for serial in (0, 1, 99):
+            png, (w, h) = placeholder_png(width, height, serial)
+            assert png.startswith(b"\x89PNG")
+            assert abs(w / h - width / height) <= 0.5 / h * max(1.0, width / height)
+
+
+def test_a_figure_still_being_drawn_is_waited_for():
+    calls = []
+
+    def later() -> bytes:
+        calls.append(1)
+        return _figure(3.0, 1.5)
+
+    figure = PdfFigure(216.0, 108.0, later)
+    pdf = render_pdf(PAGE.format(body='<img src="checker-asset:f.pdf" style="width: 3in">'),
+                     TemplatesOnlyFetcher(assets={"f.pdf": figure}))
+    assert calls == [1]
+    assert "placed label 42" in PdfReader(io.BytesIO(pdf)).pages[0].extract_text()
+
+
+def test_a_figure_whose_placeholder_is_missing_stops_the_pdf():
+    placer = FigurePlacer()
+    placer.placeholder(PdfFigure.of(_figure(2.0, 1.0)))
+    with pytest.raises(RuntimeError, match="could not be placed"):
+        placer(None, pydyf.PDF())
+
+
+@pytest.mark.parametrize("titled", [False, True])
+def test_planned_figure_sizes_are_the_drawn_ones(titled):
+    """Reports lay out before their figures are drawn: each ``*_height`` must give the
+    height the figure function draws."""
+    from checker.report import aids_figures, figures
+
+    rng = np.random.default_rng(3)
+    t = np.arange(2000) * 0.01
+    g = np.cumsum(rng.normal(size=(2000, 3)), axis=0) * 0.01 + [0, 0, 1]
+    title = "a title" if titled else ""
+    d = np.geomspace(0.01, 10.0, 20)
+    curve = [{"name": "+Gz", "axis": "gz", "durations": d, "levels": 2 - 0.1 * np.log(d),
+              "limit_durations": np.array([0.01, 10.0]), "limit_levels": np.array([3.0, 2.5])}]
+    square = np.array([[-1.0, -1.0], [1.0, -1.0], [1.0, 1.0], [-1.0, 1.0]])
+    panels = [{"name": "x-z", "axes": ("gx", "gz"), "points": g[:, [0, 2]],
+               "vertices": square, "outside": np.zeros(2000, bool)}]
+    xyz = np.column_stack([t, np.sin(t), 0.1 * t])
+    cases = [
+        (figures.time_histories(t, g, g, [], title), figures.time_histories_height(titled)),
+        (figures.exposure_curves(curve, title), figures.exposure_curves_height(titled)),
+        (figures.combined_scatter(panels, title), figures.combined_scatter_height(titled)),
+        (figures.event_window(t, g, None, [2], (5.0, 6.0), [], title),
+         figures.event_window_height(False, titled)),
+        (figures.event_window(t, g, g, [2], (5.0, 6.0), [], title,
+                              onset=(np.gradient(g[:, 2], t), 5.0)),
+         figures.event_window_height(True, titled)),
+        (figures.layout_views(xyz, t, [], 5.0, "", (t, 1 + t), 0 * t),
+         figures.layout_views_height(True, True)),
+        (figures.layout_views(xyz, t, [], 5.0, "", None, None),
+         figures.layout_views_height(False, False)),
+        (aids_figures.sensitivity_figure(["a", "b", "c"], ["p", "q"], np.ones((3, 2)),
+                                         np.ones(3), title),
+         aids_figures.sensitivity_height(3)),
+        (aids_figures.uplift_figure([(1.0, 0.01, "s")], 0.02, "station [m]", title),
+         aids_figures.UPLIFT_HEIGHT_IN),
+        (aids_figures.ratio_figure(t, [("s", g[:, 0])], title), aids_figures.RATIO_HEIGHT_IN),
+    ]
+    for pdf, height_in in cases:
+        drawn = PdfFigure.of(pdf)
+        assert drawn.width_pt == pytest.approx(figures.WIDTH_IN * 72.0, abs=1e-6)
+        assert drawn.height_pt == pytest.approx(height_in * 72.0, abs=1e-6)
