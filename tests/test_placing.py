@@ -149,3 +149,25 @@ def test_planned_figure_sizes_are_the_drawn_ones(titled):
         drawn = PdfFigure.of(pdf)
         assert drawn.width_pt == pytest.approx(figures.WIDTH_IN * 72.0, abs=1e-6)
         assert drawn.height_pt == pytest.approx(height_in * 72.0, abs=1e-6)
+
+
+def test_both_ways_of_taking_a_figure_apart_place_the_same_drawing(monkeypatch):
+    """matplotlib's PDF is cut apart by its cross-reference table; any other goes through
+    pypdf. Both must draw the same page (PDFium), the text included."""
+    from checker.report import placing
+
+    body = '<img src="checker-asset:f.pdf" style="width: 6in; display: block">'
+    pdf = _figure(6.0, 3.0)
+    fast = render_pdf(PAGE.format(body=body),
+                      TemplatesOnlyFetcher(assets={"f.pdf": PdfFigure.of(pdf)}))
+
+    def refuse(data):
+        raise ValueError("not matplotlib's layout")
+
+    monkeypatch.setattr(placing, "_cut_apart", refuse)
+    parsed = render_pdf(PAGE.format(body=body),
+                        TemplatesOnlyFetcher(assets={"f.pdf": PdfFigure.of(pdf)}))
+    assert fast != parsed  # the two ways write different objects...
+    assert (_raster(fast) == _raster(parsed)).all()  # ...that draw the same page
+    for out in (fast, parsed):
+        assert "placed label 42" in PdfReader(io.BytesIO(out)).pages[0].extract_text()

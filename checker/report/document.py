@@ -24,7 +24,7 @@ from ..rules import Evaluation, seat_exposures
 from . import figures
 from .aids_figures import aids_context, aids_jobs, job_height
 from .pdf import ASSET_SCHEME, TEMPLATES, frozen_heap
-from .placing import PdfFigure
+from .placing import PdfFigure, figure_form
 
 PAGE_SIZES = {"a4": "A4", "letter": "letter"}
 
@@ -273,6 +273,12 @@ def _call(job):
     return function(*args)
 
 
+def _draw_form(job):
+    """A figure job drawn and taken apart for placing, in the worker (see
+    :func:`checker.report.placing.figure_form`)."""
+    return figure_form(_call(job))
+
+
 def _start_figure_jobs(jobs: list) -> list[PdfFigure]:
     """Start drawing (function, args, height [in]) figure jobs, on every core when there are
     several, and return each figure at once with its size: its PDF is waited for only when
@@ -292,7 +298,7 @@ def _start_figure_jobs(jobs: list) -> list[PdfFigure]:
         pool = ProcessPoolExecutor(
             workers, mp_context=multiprocessing.get_context("fork"), initializer=watch_parent,
             initargs=(os.getpid(),))
-        futures = [pool.submit(_call, (function, args)) for function, args, _ in jobs]
+        futures = [pool.submit(_draw_form, (function, args)) for function, args, _ in jobs]
     pool.shutdown(wait=False)  # the submitted jobs still run to the end
     return [PdfFigure(width_pt, height * 72.0, future.result)
             for future, (_, _, height) in zip(futures, jobs)]
