@@ -279,14 +279,21 @@ def _draw_form(job):
     return figure_form(_call(job))
 
 
+FIGURES_PER_WORKER = 10
+
+
 def _start_figure_jobs(jobs: list) -> list[PdfFigure]:
-    """Start drawing (function, args, height [in]) figure jobs, on every core when there are
-    several, and return each figure at once with its size: its PDF is waited for only when
-    asked (weasyprint lays out meanwhile). Workers are forked with the heap frozen (see
-    :func:`checker.report.pdf.frozen_heap`); the pool is shut down when the last job ends."""
+    """Start drawing (function, args, height [in]) figure jobs in worker processes (drawn
+    here, at once, on a single core), and return each figure at once with its size: its PDF
+    is waited for only when asked (weasyprint lays out meanwhile). Workers are forked with
+    the heap frozen (see :func:`checker.report.pdf.frozen_heap`); the pool is shut down when
+    the last job ends."""
     width_pt = figures.WIDTH_IN * 72.0
-    workers = min(len(jobs), os.cpu_count() or 1)
-    if workers < 2:
+    # One worker per FIGURES_PER_WORKER figures, at most one per core: a few figures take a
+    # single worker less time than weasyprint's layout beside it, and a second worker would
+    # only cost its start (about 0.3 s of CPU) and slow the layout down.
+    workers = min(-(-len(jobs) // FIGURES_PER_WORKER), os.cpu_count() or 1)
+    if workers < 1 or (os.cpu_count() or 1) < 2:
         return [PdfFigure(width_pt, height * 72.0, _call((function, args)))
                 for function, args, height in jobs]
     import multiprocessing
