@@ -33,3 +33,20 @@ def opening_sections(pages: list[str], headings: set[str], first: str) -> list[s
             if line in headings:
                 current = line
     return opened
+
+
+def placed_figures(pdf: Path | bytes) -> int:
+    """How many figures (form XObjects one report figure wide, 6.7 in) the PDF's pages draw."""
+    if isinstance(pdf, bytes):
+        import io
+
+        pdf = io.BytesIO(pdf)
+    seen = set()
+    for page in PdfReader(pdf).pages:
+        for ref in page.get("/Resources", {}).get("/XObject", {}).values():
+            form = ref.get_object()
+            box = form.get("/BBox")
+            if form.get("/Subtype") == "/Form" and box is not None \
+                    and abs(float(box[2]) - float(box[0]) - 6.7 * 72) < 1e-6:
+                seen.add(ref.idnum)
+    return len(seen)

@@ -9,7 +9,7 @@ import sys
 from pathlib import Path
 
 import numpy as np
-from pagetext import opening_sections, page_texts, running_heads
+from pagetext import opening_sections, page_texts, placed_figures, running_heads
 from pypdf import PdfReader
 
 from checker.cli import main
@@ -48,9 +48,12 @@ def test_demo_writes_both_reports_with_expected_verdicts(tmp_path, capsys):
     printed = capsys.readouterr().out
     assert "revision A (circular loop): FAIL" in printed
     assert "revision B (teardrop loop): PASS" in printed
-    for rev in "AB":
+    for rev, drawn in (("A", 22), ("B", 6)):  # figures of this run, pinned
         pdf = out / f"thistle_comet_rev{rev}.pdf"
         assert pdf.exists() and len(PdfReader(str(pdf)).pages) >= 3
+        # every figure is placed: A's 7 event windows, 4 seat pages of 3, the layout and
+        # the aids; B's seat page, layout and aids
+        assert placed_figures(pdf) == drawn
     doc_a = json.loads((out / "thistle_comet_revA.json").read_text())
     doc_b = json.loads((out / "thistle_comet_revB.json").read_text())
     assert doc_a["verdict"] == "fail" and doc_b["verdict"] == "pass"

@@ -171,3 +171,11 @@ def test_both_ways_of_taking_a_figure_apart_place_the_same_drawing(monkeypatch):
     assert (_raster(fast) == _raster(parsed)).all()  # ...that draw the same page
     for out in (fast, parsed):
         assert "placed label 42" in PdfReader(io.BytesIO(out)).pages[0].extract_text()
+
+
+def test_an_asset_of_another_kind_is_refused_not_left_out():
+    """weasyprint leaves out an image it cannot fetch without a word; a figure handed over
+    as raw bytes must stop the report instead."""
+    with pytest.raises(TypeError, match="not a PdfFigure"):
+        render_pdf(PAGE.format(body='<img src="checker-asset:f.pdf">'),
+                   TemplatesOnlyFetcher(assets={"f.pdf": _figure(2.0, 1.0)}))

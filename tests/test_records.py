@@ -7,7 +7,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from pagetext import page_texts
+from pagetext import page_texts, placed_figures
 
 from checker.cli import main
 from checker.conditioning import FilterSpec
@@ -207,6 +207,7 @@ def test_correlate_command_writes_json_and_pdf(tmp_path, capsys):
     (c,) = doc["correlations"]
     assert abs(c["offset_s"]) < 0.005 and c["method"].startswith("cross-correlation")
     assert out_pdf.read_bytes()[:4] == b"%PDF"
+    assert placed_figures(out_pdf) == 1  # the recorded seat's traces
     assert "car1-r1L" in capsys.readouterr().out
 
 

@@ -5,6 +5,7 @@ from __future__ import annotations
 import json
 import shlex
 
+from pagetext import placed_figures
 from pypdf import PdfReader
 from test_stalls import write_hill
 
@@ -48,5 +49,6 @@ def test_compare_pdf_writes_its_json_sidecar_and_gone_findings_show_their_old_ma
     printed = capsys.readouterr().out
     doc = json.loads(pdf.with_suffix(".json").read_text())
     gone = [c for c in doc["changes"] if c["status"] == "gone"]
+    assert placed_figures(pdf) == 3  # elevations, the focus seat's histories and exposure
     assert gone and "nan" not in printed
     assert "stall -> gone" in " ".join(printed.split())

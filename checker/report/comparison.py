@@ -15,6 +15,7 @@ from ..terminal import shorten
 from . import figures
 from .document import PAGE_SIZES, _env
 from .pdf import ASSET_SCHEME, TemplatesOnlyFetcher, render_pdf
+from .placing import PdfFigure
 
 ELEVATIONS_CAPTION = ("Elevations: height z [m] against station [m], old layout left, new "
                       "layout right.")
@@ -48,11 +49,11 @@ def comparison_pdf(comparison: Comparison, focus: dict, meta: dict) -> bytes:
         The PDF, rendered in memory (nothing is written).
     """
     env = _env()
-    assets: dict[str, str] = {}
+    assets: dict[str, PdfFigure] = {}
 
-    def asset(svg: str) -> str:
-        name = f"figure{len(assets) + 1}.svg"
-        assets[name] = svg
+    def asset(pdf: bytes) -> str:
+        name = f"figure{len(assets) + 1}.pdf"
+        assets[name] = PdfFigure.of(pdf)
         return f"{ASSET_SCHEME}:{name}"
 
     old_res, _, old_ride = focus["old"]

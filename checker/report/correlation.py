@@ -9,6 +9,7 @@ from ..documents import CAUTION
 from . import figures
 from .document import PAGE_SIZES, _env, _fmt
 from .pdf import ASSET_SCHEME, TemplatesOnlyFetcher, render_pdf
+from .placing import PdfFigure
 
 
 def correlation_pdf(correlations, meta: dict) -> bytes:
@@ -29,7 +30,7 @@ def correlation_pdf(correlations, meta: dict) -> bytes:
         The PDF, rendered in memory (nothing is written).
     """
     env = _env()
-    assets: dict[str, str] = {}
+    assets: dict[str, PdfFigure] = {}
     rows, figs = [], []
     for c in correlations:
         for a in c.axes:
@@ -38,11 +39,11 @@ def correlation_pdf(correlations, meta: dict) -> bytes:
                          "peak": _fmt(c.peak_correlation, 3), "axis": a.axis,
                          "rms": _fmt(a.rms_g, 3), "largest": _fmt(a.peak_g, 3),
                          "t_peak": _fmt(a.t_peak_s, 2)})
-        name = f"figure{len(assets) + 1}.svg"
-        assets[name] = figures.time_histories(
+        name = f"figure{len(assets) + 1}.pdf"
+        assets[name] = PdfFigure.of(figures.time_histories(
             c.t, c.simulated, None, [],
             f"{c.recorded_seat}: simulated (colour) and recorded (dashed), filtered, aligned",
-            overlay=(c.t, c.recorded, "recorded"))
+            overlay=(c.t, c.recorded, "recorded")))
         figs.append({"seat": c.recorded_seat, "url": f"{ASSET_SCHEME}:{name}"})
     css = env.get_template("report.css").render(
         page_size=PAGE_SIZES[meta.get("page_size", "a4")],

@@ -138,8 +138,18 @@ def render_pdf(html: str, fetcher: TemplatesOnlyFetcher | None = None) -> bytes:
     -------
     bytes
         The PDF, rendered in memory (nothing is written).
+
+    Raises
+    ------
+    TypeError
+        When an asset is neither a :class:`PdfFigure` nor SVG text (weasyprint would leave
+        the figure out without a word).
     """
     fetcher = fetcher or TemplatesOnlyFetcher()
+    for name, asset in fetcher.assets.items():  # weasyprint would leave a bad one out, silently
+        if not isinstance(asset, (PdfFigure, str)):
+            raise TypeError(f"report asset {name!r} is a {type(asset).__name__}, not a "
+                            "PdfFigure or SVG text")
     logging.getLogger("weasyprint").setLevel(logging.CRITICAL)  # refusals are expected
     with frozen_heap():
         document = HTML(string=html, base_url=TEMPLATES.as_uri() + "/", url_fetcher=fetcher)
