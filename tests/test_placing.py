@@ -179,3 +179,18 @@ def test_an_asset_of_another_kind_is_refused_not_left_out():
     with pytest.raises(TypeError, match="not a PdfFigure"):
         render_pdf(PAGE.format(body='<img src="checker-asset:f.pdf">'),
                    TemplatesOnlyFetcher(assets={"f.pdf": _figure(2.0, 1.0)}))
+
+
+def test_a_failed_report_gives_up_the_figures_not_begun():
+    """A figure whose drawing failed stops the PDF with its error, and the figures still
+    queued for the workers are cancelled rather than drawn for nothing."""
+    from concurrent.futures import Future
+
+    failed, queued = Future(), Future()
+    failed.set_exception(RuntimeError("matplotlib broke"))
+    assets = {"a.pdf": PdfFigure(144.0, 72.0, failed.result),
+              "b.pdf": PdfFigure(144.0, 72.0, queued.result)}
+    body = '<img src="checker-asset:a.pdf">'  # b is still queued when a fails
+    with pytest.raises(RuntimeError, match="matplotlib broke"):
+        render_pdf(PAGE.format(body=body), TemplatesOnlyFetcher(assets=assets))
+    assert queued.cancelled()

@@ -153,4 +153,10 @@ def render_pdf(html: str, fetcher: TemplatesOnlyFetcher | None = None) -> bytes:
     logging.getLogger("weasyprint").setLevel(logging.CRITICAL)  # refusals are expected
     with frozen_heap():
         document = HTML(string=html, base_url=TEMPLATES.as_uri() + "/", url_fetcher=fetcher)
-        return document.write_pdf(finisher=fetcher.placer)
+        try:
+            return document.write_pdf(finisher=fetcher.placer)
+        except BaseException:  # failed or interrupted: figures not begun are not drawn
+            for asset in fetcher.assets.values():
+                if isinstance(asset, PdfFigure):
+                    asset.cancel()
+            raise

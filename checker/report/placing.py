@@ -80,6 +80,12 @@ class PdfFigure:
         drawn = self._drawn()
         return drawn.pdf if isinstance(drawn, FigureForm) else drawn
 
+    def cancel(self) -> None:
+        """Give up a drawing not begun yet (a worker's queued job); a no-op otherwise."""
+        future = getattr(self.source, "__self__", None)  # ``source`` is ``future.result``
+        if hasattr(future, "cancel"):
+            future.cancel()
+
     def form(self) -> FigureForm:
         """The figure taken apart for placing (as the worker that drew it left it, or
         taken apart here).
