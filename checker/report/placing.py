@@ -2,7 +2,7 @@
 
 weasyprint draws an SVG image by interpreting it in Python: a Pango layout for every glyph of
 its text and every number of its path data parsed one by one. That was over half the PDF time
-of a failing report (20 figures). Here matplotlib draws each figure with its own PDF backend
+of a failing report (22 figures). Here matplotlib draws each figure with its own PDF backend
 instead, and the HTML holds a small grey placeholder PNG with the figure's aspect ratio, so
 weasyprint lays out and paginates exactly as for the figure. Once weasyprint has built its
 PDF objects, each placeholder's image XObject becomes a form XObject holding the figure's
@@ -239,8 +239,8 @@ def figure_form(pdf: bytes) -> FigureForm:
     """
     try:
         return _cut_apart(pdf)
-    except (ValueError, KeyError, AttributeError, IndexError):
-        return _parsed_apart(pdf)
+    except (ValueError, KeyError, AttributeError, IndexError, TypeError, StopIteration):
+        return _parsed_apart(pdf)  # not laid out as matplotlib writes
 
 
 _REF = re.compile(rb"(?<![\d.])(\d+) 0 R\b")
@@ -259,10 +259,11 @@ def _cut_apart(pdf: bytes) -> FigureForm:
     table = pdf[head.end():head.end() + 20 * count]
     offsets = {first + k: int(table[20 * k:20 * k + 10]) for k in range(count)
                if table[20 * k + 17:20 * k + 18] == b"n"}
-    ends = sorted(offsets.values()) + [start]
+    starts = sorted(offsets.values()) + [start]
+    following = dict(zip(starts, starts[1:]))  # each object runs to the next one's start
     bodies: dict[int, tuple[bytes, bytes | None]] = {}
     for number, offset in offsets.items():
-        span = pdf[offset:ends[ends.index(offset) + 1]]
+        span = pdf[offset:following[offset]]
         opened = re.compile(rb"(\d+) 0 obj\s*").match(span)
         if int(opened.group(1)) != number:
             raise ValueError("cross-reference offset off its object")
@@ -281,6 +282,8 @@ def _cut_apart(pdf: bytes) -> FigureForm:
     resources_number = int(re.search(rb"/Resources (\d+) 0 R", page).group(1))
     contents_number = int(re.search(rb"/Contents (\d+) 0 R", page).group(1))
     box = [float(v) for v in re.search(rb"/MediaBox\s*\[([^\]]*)\]", page).group(1).split()]
+    if box[:2] != [0.0, 0.0]:
+        raise ValueError("page box not at the origin")
     numbers: dict[int, int] = {}
     objects: list = []
 
