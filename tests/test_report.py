@@ -192,7 +192,7 @@ def test_plotted_envelope_keeps_every_slice_extreme_and_lean_svg_draws_the_same(
 
 def test_a_reused_figure_draws_what_a_new_one_draws():
     """Figures of one layout reuse this process's last figure (emptied): each kind, drawn
-    after another of its kind with other data, gives the SVG a new figure gives."""
+    after another of its kind with other data, gives the PDF a new figure gives."""
     from checker.report import figures
 
     def signal(n, scale, rng):
@@ -235,9 +235,9 @@ def test_a_reused_figure_draws_what_a_new_one_draws():
         draw()
     reused = [draw() for draw in drawings(1)]
     assert figures.plt.get_fignums() == open_before  # kept figures are not pyplot's
-    for draw, svg in zip(drawings(1), reused):
+    for draw, pdf in zip(drawings(1), reused):
         figures._REUSED.clear()
-        assert draw() == svg
+        assert draw() == pdf
 
 
 def _legend_clear_of_lines(ax) -> bool:

@@ -41,8 +41,8 @@ NEUTRAL = {"gx": 0.0, "gy": 0.0, "gz": 1.0}  # the level of a rider at rest [g]
 WIDTH_IN = 6.7  # fits A4 and US Letter with 2 cm margins
 LOG_TICKS = [0.01, 0.1, 1.0, 10.0, 100.0]
 # Space above the top axes [in]: for a figure title, for panel titles only, for none (half a
-# tick label). A report puts its figure titles in the HTML instead: weasyprint lays out SVG
-# text one glyph at a time, and a title was a third of the figures' characters.
+# tick label). A report puts its figure titles in the HTML instead, as captions set once
+# (they were a third of the figures' characters, when weasyprint drew figure text).
 TITLE_IN, PANEL_TITLE_IN, BARE_TOP_IN = 0.23, 0.25, 0.08
 
 
@@ -219,7 +219,7 @@ def _reused(nrows: int, ncols: int, figsize: tuple[float, float], **kwargs):
     figure's matplotlib time goes into making axes and their tick objects, which an emptied
     figure keeps (about 40 % less time per figure). Callers set every label, limit and scale
     on each use; a figure with a title has another height than one without, so titles never
-    carry over. tests/test_report.py checks that a reused figure draws the same SVG as a new
+    carry over. tests/test_report.py checks that a reused figure draws the same PDF as a new
     one.
     """
     key = (nrows, ncols, tuple(figsize), repr(sorted(kwargs.items())))
