@@ -483,9 +483,9 @@ def build_html(evaluation: Evaluation, signals: dict, ride, meta: ReportMeta,
                events: list[Event] | None = None) -> tuple[str, dict[str, PdfFigure]]:
     """The whole report as HTML with inline CSS, and its figures by asset name.
 
-    The figures are drawn in parallel on every core, and still being drawn when this
-    returns: each waits for its drawing only when its PDF is asked for (by
-    :func:`checker.report.pdf.render_pdf`, after the layout).
+    The figures are drawn in worker processes (see :func:`_start_figure_jobs`) and still
+    being drawn when this returns: each waits for its drawing only when its PDF is asked for
+    (by :func:`checker.report.pdf.render_pdf`, after the layout).
 
     Parameters
     ----------
