@@ -559,3 +559,21 @@ def test_parallel_workers_share_the_memory_cap(monkeypatch):
     assert bounds.memory_cap_bytes() == 1_000_000_000
     bounds.share_memory(4)
     assert bounds.memory_cap_bytes() == 250_000_000
+
+
+def test_a_name_in_a_script_the_figure_font_lacks_leaves_the_terminal_clean(tmp_path):
+    """Seat names in Chinese and with an emoji: the PDF is written and stderr carries no
+    Python warning (matplotlib warned once per missing glyph, from every figure worker)."""
+    import subprocess
+    import sys
+
+    rows = "".join(f"{name},{i / 100:.2f},0,0,{6 if name == 'plain' and 100 <= i < 200 else 1}\n"
+                   for name in ["座席-1", "Sitz-ä😀", "plain"] for i in range(300))
+    history = tmp_path / "h.csv"
+    history.write_text("seat,t,gx,gy,gz\n" + rows, encoding="utf-8")
+    done = subprocess.run([sys.executable, "-m", "checker", "check-history", str(history),
+                           "--pdf", str(tmp_path / "h.pdf"), "--seat-pages", "all"],
+                          capture_output=True, text=True, timeout=120)
+    assert done.returncode == 1, done.stderr
+    assert (tmp_path / "h.pdf").exists()
+    assert "Warning" not in done.stderr and "Traceback" not in done.stderr, done.stderr
