@@ -35,8 +35,8 @@ plt.rcParams.update({
     "axes.titley": 1.0,
 })
 # A name in a script DejaVu Sans lacks (a seat called in Chinese, an emoji) is drawn as a
-# box in a figure; the report's text and the terminal show it whole. matplotlib's warning
-# for each missing glyph, with a source line, would only clutter the terminal.
+# box in a figure; the JSON and the terminal keep it whole. matplotlib's warning for each
+# missing glyph, with a source line, would only clutter the terminal.
 warnings.filterwarnings("ignore", message=r"Glyph \d+ .* missing from font", category=UserWarning)
 AXIS_COLORS = {"gx": "#1f5fa8", "gy": "#2a8a3e", "gz": "#6a3d9a"}
 DIRECTION_COLORS = ("#1f5fa8", "#e08a00")  # exposure curves: first and second direction
