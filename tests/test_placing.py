@@ -66,17 +66,18 @@ def test_a_placed_figure_draws_what_its_own_pdf_draws_where_the_layout_put_it():
 
 
 def test_figures_of_equal_size_get_their_own_place():
-    """Two figures of the same size (two event windows, say) keep their order and content:
-    each placeholder has its own pixel size."""
-    first, second = _figure(4.0, 2.0), _figure(4.0, 2.0, "placed label 77")
-    assets = {"a.pdf": PdfFigure.of(first), "b.pdf": PdfFigure.of(second)}
-    body = ('<img src="checker-asset:a.pdf" style="width: 4in; display: block">'
-            '<img src="checker-asset:b.pdf" style="width: 4in; display: block">')
+    """Figures of the same size (event windows, say) keep their order and content: each
+    placeholder carries its figure's number, and stays small however many there are."""
+    count = 40
+    assets = {f"f{k}.pdf": PdfFigure.of(_figure(4.0, 1.0, f"placed label {k:03d}"))
+              for k in range(count)}
+    body = "".join(f'<img src="checker-asset:f{k}.pdf" style="width: 4in; display: block">'
+                   for k in range(count))
     pdf = render_pdf(PAGE.format(body=body), TemplatesOnlyFetcher(assets=assets))
-    text = PdfReader(io.BytesIO(pdf)).pages[0].extract_text()
-    assert text.index("placed label 42") < text.index("placed label 77")
-    sizes = {placeholder_png(288.0, 144.0, k)[1] for k in range(50)}
-    assert len(sizes) == 50
+    text = "".join(page.extract_text() for page in PdfReader(io.BytesIO(pdf)).pages)
+    found = [text.index(f"placed label {k:03d}") for k in range(count)]
+    assert found == sorted(found)
+    assert placeholder_png(288.0, 144.0, 0)[1] == placeholder_png(288.0, 144.0, 10**6)[1]
 
 
 def test_a_placeholder_keeps_the_figure_aspect_ratio():
@@ -194,3 +195,27 @@ def test_a_failed_report_gives_up_the_figures_not_begun():
     with pytest.raises(RuntimeError, match="matplotlib broke"):
         render_pdf(PAGE.format(body=body), TemplatesOnlyFetcher(assets=assets))
     assert queued.cancelled()
+
+
+@pytest.mark.parametrize("kind", [0, 1, 2, 3, 4])
+def test_a_placeholder_number_is_read_through_every_png_row_filter(kind):
+    """The top row of an image as a PDF writer may store it, under each PNG filter type
+    (PNG specification, 9.2-9.4: with no row above, Up predicts 0, Sub and Paeth the byte to
+    the left, Average half of it)."""
+    import zlib
+
+    from checker.report.placing import _MARK, _placeholder_number
+
+    number = 123456
+    pixels = list(_MARK + number.to_bytes(3, "big")) + [235] * 20
+    raw, left = [], 0
+    for value in pixels:
+        predicted = {0: 0, 1: left, 2: 0, 3: left // 2, 4: left}[kind]
+        raw.append((value - predicted) % 256)
+        left = value
+    extra = {"Subtype": "/Image", "ColorSpace": "/DeviceGray", "BitsPerComponent": 8,
+             "Width": len(pixels), "Height": 1}
+    stream = pydyf.Stream([zlib.compress(bytes([kind] + raw))], extra)
+    assert _placeholder_number(stream) == number
+    other = pydyf.Stream([zlib.compress(bytes([kind] + [235] * len(pixels)))], extra)
+    assert _placeholder_number(other) is None  # an image without the mark

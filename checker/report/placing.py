@@ -10,8 +10,9 @@ page. A form XObject drawn with ``Do`` is mapped by its ``/Matrix`` into the cur
 space, where an image fills the unit square (ISO 32000-1:2008, 8.9.5 and 8.10), so the
 figure lands where the layout put the image, at its size, still vector, its text still text.
 
-The placeholders are told apart by their pixel size (unique per figure); the figure keeps
-its own aspect ratio (within the half pixel of the placeholder's, centred vertically).
+A placeholder carries its figure's number in the grey levels of its first pixels, read back
+from the image data weasyprint writes (PNG rows, ISO 32000-1, 7.4.4.4); the figure keeps its
+own aspect ratio (within the half pixel of the placeholder's, centred vertically).
 """
 
 from __future__ import annotations
@@ -23,10 +24,11 @@ from dataclasses import dataclass
 
 import pydyf
 
-# Placeholder heights start here [px]: the n-th figure's is PLACEHOLDER_HEIGHT_PX + n, so
-# every placeholder's (width, height) differs, and the width rounds the aspect ratio to
-# within 1/(2 * 100 * ratio), under 0.1 mm on a report figure.
-PLACEHOLDER_HEIGHT_PX = 100
+# Placeholder height [px]: the width rounds the aspect ratio to within 1/(2 * 200 * ratio),
+# under 0.1 mm on a report figure, and a placeholder stays small however many there are.
+PLACEHOLDER_HEIGHT_PX = 200
+# The first pixels of a placeholder's top row: a mark, then the figure's number (3 bytes)
+_MARK = bytes([17, 230, 71])
 
 
 @dataclass(frozen=True)
@@ -100,30 +102,62 @@ class PdfFigure:
 
 
 def placeholder_png(width_pt: float, height_pt: float, serial: int) -> tuple[bytes, tuple]:
-    """A plain light-grey PNG with a figure's aspect ratio and a pixel size no other
-    placeholder of the document has.
+    """A light-grey PNG with a figure's aspect ratio whose first pixels carry the figure's
+    number.
 
     Parameters
     ----------
     width_pt, height_pt : float
         The figure's size [pt]; only the ratio matters.
     serial : int
-        The figure's number in the document (0, 1, ...).
+        The figure's number in the document (0 to 2^24 - 1).
 
     Returns
     -------
     png : bytes
-        The PNG file.
+        The PNG file (8-bit grey).
     size : (int, int)
         Its (width, height) [px].
     """
     from PIL import Image
 
-    height = PLACEHOLDER_HEIGHT_PX + serial
-    width = max(1, round(height * width_pt / height_pt))
+    height = PLACEHOLDER_HEIGHT_PX
+    width = max(len(_MARK) + 3, round(height * width_pt / height_pt))
+    image = Image.new("L", (width, height), 235)
+    image.putdata(list(_MARK + serial.to_bytes(3, "big")))  # the top row's first pixels
     buffer = io.BytesIO()
-    Image.new("L", (width, height), 235).save(buffer, format="PNG")
+    image.save(buffer, format="PNG")
     return buffer.getvalue(), (width, height)
+
+
+def _placeholder_number(obj: pydyf.Stream) -> int | None:
+    """The figure number a placeholder image carries, or None for another image.
+
+    weasyprint writes an 8-bit grey PNG's rows Flate-compressed with PNG predictors
+    (``/DecodeParms << /Predictor 15 >>``): each row starts with its filter type; on the top
+    row, with nothing above, Up leaves a byte as it is and Sub and Paeth add the byte to its
+    left, Average half of it (PNG specification, 9.2-9.4)."""
+    import zlib
+
+    extra = obj.extra
+    if extra.get("ColorSpace") != "/DeviceGray" or extra.get("BitsPerComponent") != 8 \
+            or int(extra.get("Width", 0)) < len(_MARK) + 3:
+        return None
+    try:
+        data = b"".join(pydyf._to_bytes(item) for item in obj.stream)
+        row = zlib.decompressobj().decompress(data, 1 + len(_MARK) + 3)
+    except (zlib.error, TypeError, AttributeError):
+        return None
+    if len(row) < 1 + len(_MARK) + 3:
+        return None
+    kind, left, pixels = row[0], 0, []
+    for value in row[1:]:
+        value = (value + (left if kind in (1, 4) else left // 2 if kind == 3 else 0)) % 256
+        pixels.append(value)
+        left = value
+    if kind > 4 or bytes(pixels[:len(_MARK)]) != _MARK:
+        return None
+    return int.from_bytes(bytes(pixels[len(_MARK):]), "big")
 
 
 class FigurePlacer:
@@ -132,13 +166,13 @@ class FigurePlacer:
 
     Attributes
     ----------
-    figures : dict
-        ``{(width_px, height_px): PdfFigure}`` of the placeholders handed out.
+    figures : list of PdfFigure
+        The figures handed out, by number.
     """
 
     def __init__(self) -> None:
-        self.figures: dict[tuple[int, int], PdfFigure] = {}
-        self._png: dict[int, bytes] = {}
+        self.figures: list[PdfFigure] = []
+        self._png: dict[int, tuple[bytes, tuple]] = {}
 
     def placeholder(self, figure: PdfFigure) -> bytes:
         """The placeholder PNG of a figure (the same one when asked again).
@@ -154,10 +188,10 @@ class FigurePlacer:
             A PNG with the figure's aspect ratio.
         """
         if id(figure) not in self._png:
-            png, size = placeholder_png(figure.width_pt, figure.height_pt, len(self.figures))
-            self.figures[size] = figure
-            self._png[id(figure)] = png
-        return self._png[id(figure)]
+            self._png[id(figure)] = placeholder_png(figure.width_pt, figure.height_pt,
+                                                    len(self.figures))
+            self.figures.append(figure)
+        return self._png[id(figure)][0]
 
     def __call__(self, document, pdf: pydyf.PDF) -> None:
         """Turn every placeholder image of the PDF into its figure (weasyprint finisher).
@@ -181,10 +215,11 @@ class FigurePlacer:
             if not isinstance(obj, pydyf.Stream) or not extra \
                     or extra.get("Subtype") != "/Image":
                 continue
-            size = (int(extra.get("Width", 0)), int(extra.get("Height", 0)))
-            if size in self.figures and size not in placed:
-                _become_form(obj, self.figures[size], size, pdf)
-                placed.add(size)
+            number = _placeholder_number(obj)
+            if number is not None and number < len(self.figures) and number not in placed:
+                size = (int(extra["Width"]), int(extra["Height"]))
+                _become_form(obj, self.figures[number], size, pdf)
+                placed.add(number)
         if len(placed) < len(self.figures):
             raise RuntimeError(f"{len(self.figures) - len(placed)} figure(s) could not be "
                                "placed in the PDF")
