@@ -219,3 +219,21 @@ def test_a_placeholder_number_is_read_through_every_png_row_filter(kind):
     assert _placeholder_number(stream) == number
     other = pydyf.Stream([zlib.compress(bytes([kind] + [235] * len(pixels)))], extra)
     assert _placeholder_number(other) is None  # an image without the mark
+
+
+def test_a_placed_figure_text_is_found_by_pdfium_down_to_one_character():
+    """PDFium (the PDF viewer of Chromium-based browsers) judges a character's size in the
+    form that draws it: in one form scaled onto the image's unit square it dropped
+    one-character labels (tick labels "0", "2") and ligatures ("fi") of a report's event
+    window. The figure's own form is drawn at its own size, inside the one that scales it."""
+    import pypdfium2
+
+    from checker.report import figures
+
+    t = np.linspace(0.0, 10.0, 2001)
+    g = np.column_stack([np.sin(t), np.cos(t), 1 + 3 * np.sin(2 * t)])
+    window = figures.event_window(t, g, g, [2], (5.0, 6.0), [("l", 2.0)], "")
+    pdf = render_pdf(PAGE.format(body='<img src="checker-asset:f.pdf" style="width: 6.7in">'),
+                     TemplatesOnlyFetcher(assets={"f.pdf": PdfFigure.of(window)}))
+    text = pypdfium2.PdfDocument(pdf)[0].get_textpage().get_text_range().split()
+    assert {"0", "2", "4", "filtered", "l"} <= set(text), text

@@ -6,9 +6,10 @@ of a failing report (22 figures). Here matplotlib draws each figure with its own
 instead, and the HTML holds a small grey placeholder PNG with the figure's aspect ratio, so
 weasyprint lays out and paginates exactly as for the figure. Once weasyprint has built its
 PDF objects, each placeholder's image XObject becomes a form XObject holding the figure's
-page. A form XObject drawn with ``Do`` is mapped by its ``/Matrix`` into the current user
-space, where an image fills the unit square (ISO 32000-1:2008, 8.9.5 and 8.10), so the
-figure lands where the layout put the image, at its size, still vector, its text still text.
+page (drawing it as a form of its own). A form XObject drawn with ``Do`` is mapped by its
+``/Matrix`` into the current user space, where an image fills the unit square (ISO
+32000-1:2008, 8.9.5 and 8.10), so the figure lands where the layout put the image, at its
+size, still vector, its text still text.
 
 A placeholder carries its figure's number in the grey levels of its first pixels, read back
 from the image data weasyprint writes (PNG rows, ISO 32000-1, 7.4.4.4); the figure keeps its
@@ -431,7 +432,12 @@ class _ResolvedStream(pydyf.Stream):
 def _become_form(obj: pydyf.Stream, figure: PdfFigure, size: tuple[int, int],
                  pdf: pydyf.PDF) -> None:
     """Rewrite a placeholder image XObject, in place, as a form XObject drawing the figure
-    scaled to the image's width, centred on its height (references to it stay valid)."""
+    scaled to the image's width, centred on its height (references to it stay valid).
+
+    The figure's page is a form of its own, at its own size in points, which the rewritten
+    one draws scaled: PDFium (Chromium's viewer) judges a character's size in the form that
+    draws it, and in a form scaled onto the unit square it dropped one-character labels and
+    ligatures from the page's text."""
     form = figure.form()
     placed: list = []
     for body, stream in form.objects:
@@ -440,13 +446,16 @@ def _become_form(obj: pydyf.Stream, figure: PdfFigure, size: tuple[int, int],
         pdf.add_object(placed[-1])
     width, height = form.width_pt, form.height_pt
     scale_y = size[0] / size[1] / width  # the image's aspect ratio, as laid out
+    inner = pydyf.Stream([form.content], pydyf.Dictionary({
+        "Type": "/XObject", "Subtype": "/Form", "BBox": pydyf.Array([0, 0, width, height]),
+        "Resources": _Resolved(form.resources, placed), "Filter": "/FlateDecode"}))
+    pdf.add_object(inner)
     obj.extra = pydyf.Dictionary({
         "Type": "/XObject", "Subtype": "/Form",
         "BBox": pydyf.Array([0, 0, width, height]),
         # figure units -> the unit square of the image: width fills it, height centred
         "Matrix": pydyf.Array([1 / width, 0, 0, scale_y, 0, (1 - height * scale_y) / 2]),
-        "Resources": _Resolved(form.resources, placed),
-        "Filter": "/FlateDecode",
+        "Resources": pydyf.Dictionary({"XObject": pydyf.Dictionary({"Fig": inner.reference})}),
     })
-    obj.stream = [form.content]
+    obj.stream = [b"/Fig Do"]
     obj.compress = False
