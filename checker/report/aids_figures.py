@@ -35,7 +35,7 @@ def zones_figure(zones, traces: list[tuple[str, np.ndarray, np.ndarray]], title:
 
     Returns
     -------
-    str
+    bytes
         The figure, a one-page PDF.
     """
     fig, ax = plt.subplots(figsize=(WIDTH_IN, ZONES_HEIGHT_IN))
@@ -80,7 +80,7 @@ def uplift_figure(points: list[tuple[float, float, str]], free_travel_m: float |
 
     Returns
     -------
-    str
+    bytes
         The figure, a one-page PDF.
     """
     fig, ax = plt.subplots(figsize=(WIDTH_IN, UPLIFT_HEIGHT_IN))
@@ -93,7 +93,7 @@ def uplift_figure(points: list[tuple[float, float, str]], free_travel_m: float |
             ax.plot(x[over], y[over], "o", ms=3.5, color=FINDING_COLOR,
                     label="beyond the free travel")
         ax.set_yscale("log")
-        # plain numbers: mathtext labels do not survive as SVG text
+        # plain numbers: the log axis labels by default with math text, turned off here
         ax.yaxis.set_major_formatter(matplotlib.ticker.FuncFormatter(lambda v, _: f"{v:g}"))
         ax.yaxis.set_minor_locator(matplotlib.ticker.NullLocator())
     if free_travel_m is not None:
@@ -121,7 +121,7 @@ def ratio_figure(t: np.ndarray, ratios: list[tuple[str, np.ndarray]], title: str
 
     Returns
     -------
-    str
+    bytes
         The figure, a one-page PDF.
     """
     fig, ax = plt.subplots(figsize=(WIDTH_IN, RATIO_HEIGHT_IN))
@@ -175,7 +175,7 @@ def sensitivity_figure(rules: list[str], labels: list[str], effects: np.ndarray,
 
     Returns
     -------
-    str
+    bytes
         The figure, a one-page PDF.
     """
     scale = np.where(np.abs(margins) > 1e-9, np.abs(margins), np.nan)[:, None]
@@ -255,7 +255,7 @@ def _draw_now(function, *args):
 
 
 def aids_section(evaluation, sensitivity=None, draw=_draw_now) -> dict:
-    """Template context of the aids section: tables and SVG figures (not yet assets).
+    """Template context of the aids section: tables and figures (not yet assets).
 
     Parameters
     ----------
@@ -265,8 +265,8 @@ def aids_section(evaluation, sensitivity=None, draw=_draw_now) -> dict:
         Adds the sensitivity table and heat map when it has rows.
     draw : callable, optional
         Called as ``draw(figure_function, *args)`` for each figure; its return value is
-        what the section holds as that figure (by default the SVG, drawn at once; the
-        report passes one that queues the figure for its worker pool).
+        what the section holds as that figure (by default the one-page PDF, drawn at once;
+        the report passes one that queues the figure for its worker pool).
 
     Returns
     -------
@@ -274,8 +274,8 @@ def aids_section(evaluation, sensitivity=None, draw=_draw_now) -> dict:
         ``uplift`` (free travel, the three highest seats, the worst flight, figure),
         ``zones`` (None without a diagram), ``sustained`` (one entry per sustained rule, its
         ratio figure at the governing seat with signals) and ``sensitivity`` (or None);
-        each ``figure`` is what ``draw`` returned (SVG text by default; empty when there is
-        nothing to draw).
+        each ``figure`` is what ``draw`` returned (a one-page PDF by default; empty when
+        there is nothing to draw).
     """
     from ..aids import sustained_document, uplift_document, zones_document
 

@@ -465,7 +465,7 @@ def layout_views(position: np.ndarray, s: np.ndarray, marks: list[tuple[float, s
 
     Returns
     -------
-    str
+    bytes
         The figure, a one-page PDF.
     """
     extra = (speed is not None) + (bank_deg is not None)
@@ -541,7 +541,7 @@ def elevation_pair(left: tuple, right: tuple, labels: tuple[str, str]) -> bytes:
 
     Returns
     -------
-    str
+    bytes
         The figure, a one-page PDF.
     """
     fig, axes = plt.subplots(1, 2, figsize=(WIDTH_IN, 2.6), sharey=True)
@@ -597,7 +597,7 @@ def time_histories(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
 
     Returns
     -------
-    str
+    bytes
         The figure, a one-page PDF; each signal is reduced with :func:`envelope_decimate`.
     """
     top = TITLE_IN if title else BARE_TOP_IN
@@ -658,7 +658,7 @@ def exposure_curves(curves: list[dict], title: str) -> bytes:
 
     Returns
     -------
-    str
+    bytes
         The figure, a one-page PDF (durations on a log axis).
     """
     axes_names = [a for a in ("gx", "gy", "gz") if any(c["axis"] == a for c in curves)]
@@ -762,7 +762,7 @@ def event_window(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
 
     Returns
     -------
-    str
+    bytes
         The figure, a one-page PDF.
     """
     names = ("gx", "gy", "gz")
@@ -830,7 +830,7 @@ def combined_scatter(panels: list[dict], title: str) -> bytes:
 
     Returns
     -------
-    str
+    bytes
         The figure, a one-page PDF; the trajectory is reduced with :func:`path_decimate` (0.04 g).
     """
     n = len(panels)

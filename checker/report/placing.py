@@ -62,12 +62,10 @@ class PdfFigure:
         Returns
         -------
         PdfFigure
-            With the page's MediaBox size.
+            With the page's MediaBox size, taken apart for placing once and for all.
         """
-        from pypdf import PdfReader
-
-        box = PdfReader(io.BytesIO(pdf)).pages[0].mediabox
-        return cls(float(box.width), float(box.height), pdf)
+        form = figure_form(pdf)
+        return cls(form.width_pt, form.height_pt, form)
 
     def _drawn(self):
         return self.source() if callable(self.source) else self.source
@@ -173,7 +171,7 @@ class FigurePlacer:
 
     def __init__(self) -> None:
         self.figures: list[PdfFigure] = []
-        self._png: dict[int, tuple[bytes, tuple]] = {}
+        self._png: dict[int, bytes] = {}
 
     def placeholder(self, figure: PdfFigure) -> bytes:
         """The placeholder PNG of a figure (the same one when asked again).
@@ -190,9 +188,9 @@ class FigurePlacer:
         """
         if id(figure) not in self._png:
             self._png[id(figure)] = placeholder_png(figure.width_pt, figure.height_pt,
-                                                    len(self.figures))
+                                                    len(self.figures))[0]
             self.figures.append(figure)
-        return self._png[id(figure)][0]
+        return self._png[id(figure)]
 
     def __call__(self, document, pdf: pydyf.PDF) -> None:
         """Turn every placeholder image of the PDF into its figure (weasyprint finisher).
@@ -402,6 +400,11 @@ def _syntax(value, numbers: dict, objects: list) -> bytes:
 _REFERENCE = re.compile(rb"\0(\d+)\0")
 
 
+def _resolved(body: bytes, placed: list) -> bytes:
+    """``body`` with each ``NUL k NUL`` replaced by a reference to the k-th placed object."""
+    return _REFERENCE.sub(lambda m: placed[int(m[1])].reference, body)
+
+
 class _Resolved(pydyf.Object):
     """PDF syntax whose ``NUL k NUL`` marks become references to the k-th placed object
     (resolved when written, once every object has its number)."""
@@ -412,7 +415,7 @@ class _Resolved(pydyf.Object):
 
     @property
     def data(self) -> bytes:
-        return _REFERENCE.sub(lambda m: self.placed[int(m[1])].reference, self.body)
+        return _resolved(self.body, self.placed)
 
 
 class _ResolvedStream(pydyf.Stream):
@@ -424,7 +427,7 @@ class _ResolvedStream(pydyf.Stream):
 
     @property
     def data(self) -> bytes:
-        body = _REFERENCE.sub(lambda m: self.placed[int(m[1])].reference, self.body)
+        body = _resolved(self.body, self.placed)
         return b"".join((body[:-2], b" /Length %d>>\nstream\n" % len(self.encoded),
                          self.encoded, b"\nendstream"))
 
