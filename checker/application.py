@@ -1530,6 +1530,7 @@ def write_demo(folder: str | Path, *, page_size: str = "a4",
     for path in paths:
         check_output(report_sidecar(path, None))
     _report()  # imported once, before the fork (the child would import it again)
+    import scipy.interpolate  # noqa: F401  the simulation's (0.5-0.65 s of CPU), likewise
     # revision A (the failing one, the longer report) is the critical path: revision B
     # runs at a lower priority and fills the core that A's single-threaded PDF leaves idle
     later = [_Forked(_demo_summary, i, page_size, seat_pages, nice=DEMO_CHILD_NICE)
