@@ -38,7 +38,7 @@ from .documents import (
 )
 from .errors import InputError
 from .events import events_of_run
-from .geometry import STATION_STEP_M
+from .geometry import STATION_STEP_M, TrackGeometry
 from .history import load_record
 from .instrument import load_instrument
 from .limits import LimitSet, load_limits, sha256_of
@@ -615,23 +615,23 @@ class ComparisonFocus:
         Its load case.
     old : SeatResult
         The seat's result in the old revision, with its filtered signal.
-    old_ride : RideResult
-        The old revision's ride in that case.
+    old_geometry : TrackGeometry
+        The old revision's track geometry (its elevation is drawn).
     new : SeatResult
         The seat's result in the new revision.
     new_signal : checker.kinematics.SeatHistory
         The seat's raw signal in the new revision [g0].
-    new_ride : RideResult
-        The new revision's ride in that case.
+    new_geometry : TrackGeometry
+        The new revision's track geometry.
     """
 
     seat: str
     case: str
     old: SeatResult
-    old_ride: RideResult
+    old_geometry: TrackGeometry
     new: SeatResult
     new_signal: object
-    new_ride: RideResult
+    new_geometry: TrackGeometry
 
 
 @dataclass(frozen=True, eq=False)
@@ -865,15 +865,25 @@ def compare_layouts(old: str | Path, new: str | Path, *, train: str | Path | Non
         governing = new_sweep.governing() or old_sweep.governing()
         focus_case = governing[0].case if governing else case_list[0].name
         focus_seat = governing[0].seat if governing else None
-        case_by_name = {c.name: c for c in case_list}
-        runs: list[CheckRun] = []
-        for line, ops in ((old_line, old_ops), (new_line, new_ops)):
-            tr, op, opt = apply_case(the_train, ops, options, case_by_name[focus_case])
-            runs.append(run_check(line, tr, op, limit_set, opt, focus_case))
-        seat = focus_seat or runs[1].evaluation.seats[0].seat
-        old_res, new_res = (next(s for s in r.evaluation.seats if s.seat == seat) for r in runs)
-        focus = ComparisonFocus(seat, focus_case, old_res, runs[0].ride, new_res,
-                                runs[1].signals[(seat, focus_case)], runs[1].ride)
+        # the sweeps keep the signals of every seat of the first case and of each case's
+        # governing seats: the rides are run again only for a seat they did not keep
+        kept = [next(o.kept for o in sweep.outcomes if o.case == focus_case)
+                for sweep in (old_sweep, new_sweep)]
+        seat = focus_seat or next(iter(kept[1]), None)
+        if seat is not None and all(seat in k for k in kept):
+            (old_res, _), (new_res, new_signal) = (k[seat] for k in kept)
+        else:
+            case_by_name = {c.name: c for c in case_list}
+            runs: list[CheckRun] = []
+            for line, ops in ((old_line, old_ops), (new_line, new_ops)):
+                tr, op, opt = apply_case(the_train, ops, options, case_by_name[focus_case])
+                runs.append(run_check(line, tr, op, limit_set, opt, focus_case))
+            seat = seat or runs[1].evaluation.seats[0].seat
+            old_res, new_res = (next(s for s in r.evaluation.seats if s.seat == seat)
+                                for r in runs)
+            new_signal = runs[1].signals[(seat, focus_case)]
+        focus = ComparisonFocus(seat, focus_case, old_res, old_sweep.geometry, new_res,
+                                new_signal, new_sweep.geometry)
     inputs = (_record(old, new, None if ideal else train, old_ops_file,
                       new_ops_file if new_ops_file != old_ops_file else None, cases_file)
               + _limit_files(limit_set))

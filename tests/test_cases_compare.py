@@ -268,3 +268,41 @@ def test_progress_bar_only_on_a_terminal(monkeypatch, capsys):
     quiet = Progress("cases", quiet=True)
     quiet(1, 2)
     assert capsys.readouterr().err == ""
+
+
+def test_compare_focus_from_the_sweep_equals_rides_run_again(monkeypatch):
+    # The figures' seat comes with the signals the sweep kept; a sweep that kept none makes
+    # compare_layouts run both rides again. Both must draw the same arrays.
+    from dataclasses import replace
+
+    from checker import application
+
+    def compared():
+        return application.compare_layouts(
+            SAMPLES / "thistle_comet_revA.csv", SAMPLES / "thistle_comet_revB.csv",
+            train=SAMPLES / "thistle_comet_train.toml",
+            old_operation=SAMPLES / "thistle_comet_revA.operation.toml",
+            new_operation=SAMPLES / "thistle_comet_revB.operation.toml", workers=1)
+
+    runs = []
+    run_check = application.run_check
+    monkeypatch.setattr(application, "run_check",
+                        lambda *a, **k: runs.append(a) or run_check(*a, **k))
+    kept = compared().focus
+    assert runs == []  # the sweep kept every seat of its first (here only) case
+
+    run_layouts = application.run_layouts
+    monkeypatch.setattr(application, "run_layouts", lambda *a, **k: [
+        replace(sweep, outcomes=[replace(o, kept={}) for o in sweep.outcomes])
+        for sweep in run_layouts(*a, **k)])
+    again = compared().focus
+    assert len(runs) == 2
+    assert (kept.seat, kept.case) == (again.seat, again.case) == ("car1-r1R", "nominal")
+    for name in ("old", "new"):
+        a, b = getattr(kept, name), getattr(again, name)
+        np.testing.assert_array_equal(a.filtered, b.filtered)
+        np.testing.assert_array_equal(a.t, b.t)
+        assert a.findings == b.findings
+        ga, gb = getattr(kept, f"{name}_geometry"), getattr(again, f"{name}_geometry")
+        np.testing.assert_array_equal(ga.position, gb.position)
+    np.testing.assert_array_equal(kept.new_signal.g, again.new_signal.g)

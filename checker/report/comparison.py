@@ -37,7 +37,7 @@ def comparison_pdf(comparison: Comparison, focus: dict, meta: dict) -> bytes:
         Peaks and finding changes of the two revisions.
     focus : dict
         ``seat``, ``case``, and for ``"old"`` and ``"new"`` a tuple (SeatResult with its
-        filtered signal, raw signal or None, RideResult); the new raw signal is drawn.
+        filtered signal, raw signal or None, TrackGeometry); the new raw signal is drawn.
     meta : dict
         ``project``, ``old_name``, ``new_name``, ``limits`` (LimitSet), ``cases`` (text),
         ``inputs`` (list of (file, sha256)) and ``command`` are required; ``page_size`` and
@@ -56,15 +56,15 @@ def comparison_pdf(comparison: Comparison, focus: dict, meta: dict) -> bytes:
         assets[name] = PdfFigure.of(pdf)
         return f"{ASSET_SCHEME}:{name}"
 
-    old_res, _, old_ride = focus["old"]
-    new_res, new_raw, new_ride = focus["new"]
+    old_res, _, old_geometry = focus["old"]
+    new_res, new_raw, new_geometry = focus["new"]
     marks_old = [c.old.s_worst_m for c in comparison.changes
                  if c.old is not None and c.old.s_worst_m is not None]
     marks_new = [c.new.s_worst_m for c in comparison.changes
                  if c.new is not None and c.new.s_worst_m is not None]
     elevations = asset(figures.elevation_pair(
-        (old_ride.geometry.s, old_ride.geometry.position[:, 2], marks_old),
-        (new_ride.geometry.s, new_ride.geometry.position[:, 2], marks_new),
+        (old_geometry.s, old_geometry.position[:, 2], marks_old),
+        (new_geometry.s, new_geometry.position[:, 2], marks_new),
         (f"old: {meta['old_name']}", f"new: {meta['new_name']}")))
     elevations_caption = ELEVATIONS_CAPTION + (
         f" Red crosses: the worst point (station of the filtered peak) of each finding of that "
@@ -167,8 +167,8 @@ def comparison_report_pdf(result) -> bytes:
                          "signals to draw")
     return comparison_pdf(result.comparison, {
         "seat": focus.seat, "case": focus.case,
-        "old": (focus.old, None, focus.old_ride),
-        "new": (focus.new, focus.new_signal, focus.new_ride)}, {
+        "old": (focus.old, None, focus.old_geometry),
+        "new": (focus.new, focus.new_signal, focus.new_geometry)}, {
         "project": shorten(result.labels.project, 200), "old_name": result.old_name,
         "new_name": result.new_name, "limits": result.limits,
         "cases": ", ".join(result.cases),
