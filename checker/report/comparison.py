@@ -13,7 +13,7 @@ from ..documents import change_head, change_text, margin_text
 from ..rules import seat_exposures
 from ..terminal import shorten
 from . import figures
-from .document import PAGE_SIZES, _env
+from .document import PAGE_SIZES, _env, start_figure_jobs
 from .pdf import ASSET_SCHEME, TemplatesOnlyFetcher, render_pdf
 from .placing import PdfFigure
 
@@ -51,9 +51,9 @@ def comparison_pdf(comparison: Comparison, focus: dict, meta: dict) -> bytes:
     env = _env()
     assets: dict[str, PdfFigure] = {}
 
-    def asset(pdf: bytes) -> str:
+    def asset(figure: PdfFigure) -> str:
         name = f"figure{len(assets) + 1}.pdf"
-        assets[name] = PdfFigure.of(pdf)
+        assets[name] = figure
         return f"{ASSET_SCHEME}:{name}"
 
     old_res, _, old_geometry = focus["old"]
@@ -62,18 +62,19 @@ def comparison_pdf(comparison: Comparison, focus: dict, meta: dict) -> bytes:
                  if c.old is not None and c.old.s_worst_m is not None]
     marks_new = [c.new.s_worst_m for c in comparison.changes
                  if c.new is not None and c.new.s_worst_m is not None]
-    elevations = asset(figures.elevation_pair(
+    jobs = [(figures.elevation_pair, (
         (old_geometry.s, old_geometry.position[:, 2], marks_old),
         (new_geometry.s, new_geometry.position[:, 2], marks_new),
-        (f"old: {meta['old_name']}", f"new: {meta['new_name']}")))
+        (f"old: {meta['old_name']}", f"new: {meta['new_name']}")),
+        figures.ELEVATION_PAIR_HEIGHT_IN)]
     elevations_caption = ELEVATIONS_CAPTION + (
         f" Red crosses: the worst point (station of the filtered peak) of each finding of that "
         f"revision ({len(marks_old)} old, {len(marks_new)} new)." if marks_old or marks_new
         else " Neither revision has a finding to mark.")
     spans = [(f.t_start, f.t_end, f.axis) for f in new_res.findings]
-    histories = asset(figures.time_histories(
+    jobs.append((figures.time_histories, (
         new_res.t, new_res.filtered, np.asarray(new_raw.g), spans, "",
-        overlay=(old_res.t, old_res.filtered, "old")))
+        (old_res.t, old_res.filtered, "old")), figures.time_histories_height(False)))
     curves = []
     old_exp = seat_exposures(old_res, meta["limits"])
     new_exp = seat_exposures(new_res, meta["limits"])
@@ -89,7 +90,11 @@ def comparison_pdf(comparison: Comparison, focus: dict, meta: dict) -> bytes:
                                                         rule.durations_s[-1])),
                        "limit_levels": np.append(rule.levels_g, rule.levels_g[-1]),
                        "step": rule.interpolation == "step"})
-    exposure = asset(figures.exposure_curves(curves, "")) if curves else ""
+    if curves:
+        jobs.append((figures.exposure_curves, (curves, ""), figures.exposure_curves_height(False)))
+    # drawn in a worker while weasyprint lays the document out
+    elevations, histories, *exposure = (asset(f) for f in start_figure_jobs(jobs))
+    exposure = exposure[0] if exposure else ""
     # captions in HTML, naming the seat, so each figure says whose it is on any page
     captions = {key: text.format(seat=focus["seat"], case=focus["case"])
                 for key, text in FOCUS_CAPTIONS.items()}

@@ -7,9 +7,8 @@ import datetime as _dt
 from .. import __version__
 from ..documents import CAUTION
 from . import figures
-from .document import PAGE_SIZES, _env, _fmt
+from .document import PAGE_SIZES, _env, _fmt, start_figure_jobs
 from .pdf import ASSET_SCHEME, TemplatesOnlyFetcher, render_pdf
-from .placing import PdfFigure
 
 
 def correlation_pdf(correlations, meta: dict) -> bytes:
@@ -30,8 +29,7 @@ def correlation_pdf(correlations, meta: dict) -> bytes:
         The PDF, rendered in memory (nothing is written).
     """
     env = _env()
-    assets: dict[str, PdfFigure] = {}
-    rows, figs = [], []
+    rows, figs, jobs = [], [], []
     for c in correlations:
         for a in c.axes:
             rows.append({"recorded": c.recorded_seat, "simulated": c.simulated_seat,
@@ -39,12 +37,14 @@ def correlation_pdf(correlations, meta: dict) -> bytes:
                          "peak": _fmt(c.peak_correlation, 3), "axis": a.axis,
                          "rms": _fmt(a.rms_g, 3), "largest": _fmt(a.peak_g, 3),
                          "t_peak": _fmt(a.t_peak_s, 2)})
-        name = f"figure{len(assets) + 1}.pdf"
-        assets[name] = PdfFigure.of(figures.time_histories(
+        jobs.append((figures.time_histories, (
             c.t, c.simulated, None, [],
             f"{c.recorded_seat}: simulated (colour) and recorded (dashed), filtered, aligned",
-            overlay=(c.t, c.recorded, "recorded")))
-        figs.append({"seat": c.recorded_seat, "url": f"{ASSET_SCHEME}:{name}"})
+            (c.t, c.recorded, "recorded")), figures.time_histories_height(True)))
+        figs.append({"seat": c.recorded_seat, "url": f"{ASSET_SCHEME}:figure{len(jobs)}.pdf"})
+    # drawn in a worker while weasyprint lays the document out
+    assets = {f"figure{k}.pdf": figure
+              for k, figure in enumerate(start_figure_jobs(jobs), start=1)}
     css = env.get_template("report.css").render(
         page_size=PAGE_SIZES[meta.get("page_size", "a4")],
         footer_left="checker self-check - not a certification or an approval")

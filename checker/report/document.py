@@ -282,12 +282,25 @@ def _draw_form(job):
 FIGURES_PER_WORKER = 10
 
 
-def _start_figure_jobs(jobs: list) -> list[PdfFigure]:
-    """Start drawing (function, args, height [in]) figure jobs in worker processes (drawn
-    here, at once, on a single core), and return each figure at once with its size: its PDF
-    is waited for only when asked (weasyprint lays out meanwhile). Workers are forked with
-    the heap frozen (see :func:`checker.report.pdf.frozen_heap`); the pool is shut down when
-    the last job ends."""
+def start_figure_jobs(jobs: list) -> list[PdfFigure]:
+    """Start drawing figures in worker processes and return each at once with its size.
+
+    A figure's PDF is waited for only when asked for (weasyprint lays the document out
+    meanwhile). Workers are forked with the heap frozen (see
+    :func:`checker.report.pdf.frozen_heap`); the pool is shut down when the last job ends.
+    On a single core the figures are drawn here, at once.
+
+    Parameters
+    ----------
+    jobs : list of (callable, tuple, float)
+        ``(function, args, height)``: ``function(*args)`` draws a figure of the report's
+        width (:data:`checker.report.figures.WIDTH_IN`) and ``height`` [in] as PDF bytes.
+
+    Returns
+    -------
+    list of PdfFigure
+        One per job, in order.
+    """
     width_pt = figures.WIDTH_IN * 72.0
     # One worker per FIGURES_PER_WORKER figures, at most one per core: a few figures take a
     # single worker less time than weasyprint's layout beside it, and a second worker would
@@ -483,7 +496,7 @@ def build_html(evaluation: Evaluation, signals: dict, ride, meta: ReportMeta,
                events: list[Event] | None = None) -> tuple[str, dict[str, PdfFigure]]:
     """The whole report as HTML with inline CSS, and its figures by asset name.
 
-    The figures are drawn in worker processes (see :func:`_start_figure_jobs`) and still
+    The figures are drawn in worker processes (see :func:`start_figure_jobs`) and still
     being drawn when this returns: each waits for its drawing only when its PDF is asked for
     (by :func:`checker.report.pdf.render_pdf`, after the layout).
 
@@ -552,7 +565,7 @@ def build_html(evaluation: Evaluation, signals: dict, ride, meta: ReportMeta,
     aids_at = len(jobs)
     aids, aid_jobs = aids_jobs(evaluation, meta.sensitivity)
     jobs += [(function, args, job_height(function, args)) for function, args in aid_jobs]
-    drawn = _start_figure_jobs(jobs)  # drawn on every core while the PDF is laid out
+    drawn = start_figure_jobs(jobs)  # drawn on every core while the PDF is laid out
     layout_drawn = drawn[0] if ride is not None else None
     windows = iter(drawn[windows_at:aids_at])
     for row, job in zip(event_rows, event_jobs):

@@ -528,6 +528,9 @@ def layout_views(position: np.ndarray, s: np.ndarray, marks: list[tuple[float, s
     return _pdf(fig)
 
 
+ELEVATION_PAIR_HEIGHT_IN = 2.6  # the figure of elevation_pair [in]
+
+
 def elevation_pair(left: tuple, right: tuple, labels: tuple[str, str]) -> bytes:
     """Two layouts' elevations side by side.
 
@@ -544,7 +547,7 @@ def elevation_pair(left: tuple, right: tuple, labels: tuple[str, str]) -> bytes:
     bytes
         The figure, a one-page PDF.
     """
-    fig, axes = plt.subplots(1, 2, figsize=(WIDTH_IN, 2.6), sharey=True)
+    fig, axes = plt.subplots(1, 2, figsize=(WIDTH_IN, ELEVATION_PAIR_HEIGHT_IN), sharey=True)
     for ax, (s, z, marks), label in zip(axes, (left, right), labels):
         ax.plot(s, z, color="#333333", lw=1.0)
         if marks:
