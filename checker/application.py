@@ -39,7 +39,7 @@ from .documents import (
 from .errors import InputError
 from .events import events_of_run
 from .geometry import STATION_STEP_M, TrackGeometry
-from .history import load_record
+from .history import file_notes, load_record
 from .instrument import load_instrument
 from .limits import LimitSet, load_limits, sha256_of
 from .loadcases import STANDARD_CASES, LoadCase, apply_case, load_cases
@@ -499,6 +499,9 @@ def check_layout(track: str | Path, *, train: str | Path | None = None, ideal: b
                            + ", ".join(c.name for c in case_list) + ")"))
     else:
         run = run_check(line, the_train, ops, limit_set, options, case)
+    # the parameters as given: a sweep's ride is its first case's, whose case may change them
+    shown = run.ride if sweep is None or run.ride is None else replace(
+        run.ride, train=the_train, operation=ops, options=options)
     inputs = (_record(track, None if ideal else train, operation, cases_file)
               + _limit_files(limit_set))
     evaluation = replace(run.evaluation, warnings=tuple(filter_warnings(limit_set.filter))
@@ -512,7 +515,7 @@ def check_layout(track: str | Path, *, train: str | Path | None = None, ideal: b
     return _layout_check(evaluation, run.signals, run.ride, sweep,
                          Labels(project, layout or Path(track).stem, revision, page_size,
                                 seat_pages),
-                         Provenance(inputs, tuple(ride_parameters(run.ride) + parameters),
+                         Provenance(inputs, tuple(ride_parameters(shown) + parameters),
                                     call), ranked)
 
 
@@ -591,6 +594,9 @@ def check_history(history: str | Path, *, units: str = "g", limits: str | Path |
                    else f"irregular parts at {resample_hz:g} Hz"))
     if record.method:
         parameters += (("record conditioning", record.method),)
+    notes = file_notes(history)
+    if notes:  # the record's origin as its file states it (instrument, test, synthetic)
+        parameters += (("notes in the record file", " / ".join(notes)),)
     return _layout_check(evaluation, {(s.seat, case): s for s in signals}, None, None,
                          Labels(project, layout or Path(history).stem, revision, page_size,
                                 seat_pages),
@@ -1361,7 +1367,11 @@ def correlate_ride(record: str | Path, track: str | Path, *, record_units: str =
                          "and operation") from None
     inputs = (_record(record, instrument, track, None if ideal else train, operation)
               + _limit_files(limit_set))
-    return RideCorrelation(tuple(found), notes, limit_set.filter.describe(), loaded.method,
+    # the filter named with the limit set it comes from (the limit values play no part)
+    source = f"from the limit set {limit_set.title!r}" + (
+        ", ILLUSTRATIVE: invented example values" if limit_set.illustrative else "")
+    return RideCorrelation(tuple(found), notes, f"{limit_set.filter.describe()} ({source})",
+                           loaded.method,
                            Labels(project, Path(track).name, page_size=page_size),
                            Path(record).name,
                            Provenance(inputs, tuple(ride_parameters(ride)), call))
@@ -1491,7 +1501,7 @@ class _Forked:
 DEMO_CHILD_NICE = 5  # scheduling priority drop of the demo's second revision (Unix nice)
 
 
-def _demo_check(index: int, page_size: str, seat_pages: str):
+def _demo_check(index: int, page_size: str, seat_pages: str, pdf: Path | None = None):
     here = demo_folder()
     rev, what = DEMO_REVISIONS[index]
     train = here / "thistle_comet_train.toml"
@@ -1500,7 +1510,8 @@ def _demo_check(index: int, page_size: str, seat_pages: str):
     call = shlex.join(["checker", "check", str(track), "--train", str(train),
                        "--operation", str(ops), "--project", DEMO_PROJECT,
                        "--layout-name", DEMO_LAYOUT, "--revision", f"{rev} ({what})",
-                       "--page-size", page_size, "--seat-pages", seat_pages])
+                       "--page-size", page_size, "--seat-pages", seat_pages]
+                      + (["--pdf", str(pdf)] if pdf is not None else []))
     return rev, what, check_layout(
         track, train=train, operation=ops, project=DEMO_PROJECT, layout=DEMO_LAYOUT,
         revision=f"{rev} ({what})", page_size=page_size, seat_pages=seat_pages, call=call)
@@ -1543,10 +1554,10 @@ def write_demo(folder: str | Path, *, page_size: str = "a4",
     import scipy.interpolate  # noqa: F401  the simulation's (0.5-0.65 s of CPU), likewise
     # revision A (the failing one, the longer report) is the critical path: revision B
     # runs at a lower priority and fills the core that A's single-threaded PDF leaves idle
-    later = [_Forked(_demo_summary, i, page_size, seat_pages, nice=DEMO_CHILD_NICE)
+    later = [_Forked(_demo_summary, i, page_size, seat_pages, paths[i], nice=DEMO_CHILD_NICE)
              for i in range(1, len(DEMO_REVISIONS))]
     try:
-        done = [_demo_summary(0, page_size, seat_pages)] + [f.result() for f in later]
+        done = [_demo_summary(0, page_size, seat_pages, paths[0])] + [f.result() for f in later]
     finally:  # interrupted or failed: no child is left behind
         for forked in later:
             forked.stop()
@@ -1558,10 +1569,11 @@ def write_demo(folder: str | Path, *, page_size: str = "a4",
     return written
 
 
-def _demo_summary(index: int, page_size: str, seat_pages: str):
+def _demo_summary(index: int, page_size: str, seat_pages: str, pdf: Path):
     """One demo revision checked: (revision, what changed, verdict, number of findings, PDF
-    bytes, JSON text), all of which pickle (it may run in a forked process)."""
-    rev, what, check = _demo_check(index, page_size, seat_pages)
+    bytes, JSON text), all of which pickle (it may run in a forked process); its call writes
+    the report to ``pdf``."""
+    rev, what, check = _demo_check(index, page_size, seat_pages, pdf)
     return (rev, what, check.verdict, len(check.findings), _report().check_report_pdf(check),
             to_json(check.document()))
 

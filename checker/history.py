@@ -226,6 +226,35 @@ def load_record(path: str | Path, units: str = "g", instrument: Instrument | Non
     return Record(signals, tuple(notes), method)
 
 
+def file_notes(path: str | Path, most: int = 12, width: int = 200) -> list[str]:
+    """The comment lines (``#``) at the top of a record file, for the report: a record's
+    origin (instrument, test, or a synthetic history) is often written there.
+
+    Parameters
+    ----------
+    path : str or pathlib.Path
+        The record file (already read once: it exists).
+    most : int, optional
+        Most lines kept.
+    width : int, optional
+        Longest line kept [characters]; longer ones are cut, the cut marked with '...'.
+
+    Returns
+    -------
+    list of str
+        The lines without their ``#`` and surrounding blanks, empty ones left out.
+    """
+    notes = []
+    with open(path, encoding="utf-8-sig", errors="replace") as text:
+        for line in text:
+            if not line.lstrip().startswith("#") or len(notes) == most:
+                break
+            note = line.strip().lstrip("#").strip()
+            if note:
+                notes.append(note if len(note) <= width else note[:width - 3] + "...")
+    return notes
+
+
 def _streams(path: Path, table, instrument: Instrument) -> list[tuple[str, np.ndarray]]:
     """(seat name, row indices) for every seat: by seat column, by column group, or one."""
     if len(instrument.groups) > 1:

@@ -103,6 +103,12 @@ class Sweep:
                       key=lambda f: (-f.severity, f.seat, f.case, f.t_start))
 
     @property
+    def ride_case(self) -> str | None:
+        """The case whose ride the documents show (track, speed, ride time): the first case
+        with a simulated motion, or None."""
+        return next((o.case for o in self.outcomes if o.motion is not None), None)
+
+    @property
     def verdict(self) -> str:
         """``"fail"`` when any case fails (a stall included), else ``"pass"``."""
         return verdict_of(*(o.verdict == "fail" for o in self.outcomes))
@@ -397,8 +403,8 @@ def sweep_check_run(sweep: Sweep, centerline: Centerline, train: Train, operatio
 
     Nothing is simulated again: the signals are those kept by the sweep
     (:attr:`CaseOutcome.kept`); a governing pair whose signals were not kept is drawn without
-    them. The ride is that of the first case with a governing pair (the first case when
-    every case passes).
+    them. The ride is that of :attr:`Sweep.ride_case` (the first case with a motion), with
+    that case's train and operation.
 
     Parameters
     ----------
@@ -431,25 +437,30 @@ def sweep_check_run(sweep: Sweep, centerline: Centerline, train: Train, operatio
         wanted[sweep.outcomes[0].case] = set(sweep.outcomes[0].kept)
     full, signals = {}, {}
     ride = None
-    geometry = sweep.geometry
-    if geometry is None and wanted:
-        geometry = layout_geometry(centerline, options)
+    shown = sweep.ride_case
+    if shown is not None:
+        geometry = sweep.geometry
+        if geometry is None:
+            geometry = layout_geometry(centerline, options)
+        tr, ops, opt = apply_case(train, operation, options, by_name[shown])
+        ride = RideResult(geometry, outcome_of[shown].motion, [], tr, ops, opt)
     for name, seats in wanted.items():
         outcome = outcome_of[name]
-        if ride is None and outcome.motion is not None:
-            tr, ops, opt = apply_case(train, operation, options, by_name[name])
-            ride = RideResult(geometry, outcome.motion, [], tr, ops, opt)
         for seat in seats:
             if seat in outcome.kept:
                 result, history = outcome.kept[seat]
                 full[(seat, name)] = result
                 signals[(seat, name)] = history
     seats_all = []
-    warnings: list[str] = []
+    warned: dict[str, list[str]] = {}  # a warning of the track comes from every case
     for o in sweep.outcomes:
-        warnings += [f"case {o.case}: {w}" for w in o.evaluation.warnings]
+        for w in o.evaluation.warnings:
+            warned.setdefault(w, []).append(o.case)
         for s in o.evaluation.seats:
             seats_all.append(full.get((s.seat, o.case), s.without_signals()))
+    warnings = [("every case" if len(names) == len(sweep.outcomes) > 1
+                 else f"case{'s' if len(names) > 1 else ''} {', '.join(names)}") + f": {w}"
+                for w, names in warned.items()]
     stalls = tuple(f"case {o.case}: {s}" for o in sweep.outcomes for s in o.evaluation.stalls)
     evaluation = Evaluation(limits, tuple(seats_all), tuple(warnings), stalls)
     return CheckRun(evaluation, ride, signals)

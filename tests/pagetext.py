@@ -3,6 +3,7 @@ page opens in."""
 
 from __future__ import annotations
 
+import os
 from pathlib import Path
 
 from pypdf import PdfReader
@@ -18,8 +19,13 @@ def page_texts(pdf: Path | bytes) -> list[str]:
 
 
 def running_heads(pages: list[str]) -> list[str]:
-    """The running head (top right) of every page."""
-    return [p.splitlines()[-2] for p in pages]
+    """The running head (top right) of every page: the line of the page heads with the
+    top-left head (the layout, the same on every page) taken off the front. That is the
+    lines' common start, back to a word's end (sections differ in their first word)."""
+    lines = [p.splitlines()[-2] for p in pages]
+    common = os.path.commonprefix(lines) if len(set(lines)) > 1 else ""
+    cut = common.rfind(" ") + 1
+    return [line[cut:] for line in lines]
 
 
 def opening_sections(pages: list[str], headings: set[str], first: str) -> list[str]:

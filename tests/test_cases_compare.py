@@ -250,6 +250,9 @@ def test_sweep_report_shows_governing_case_and_matrix(tmp_path, capsys):
     assert "Verdict by seat and load case" in text and "warm-fast" in text
     doc = json.loads(pdf.with_suffix(".json").read_text())
     assert set(doc["matrix"]["car1-r1L"]) == {"slow-lift", "warm-fast"}
+    # the rounded track's warning comes from every case's ride: said once, not once a case
+    grid = [w for w in doc["warnings"] if "track coordinates sit on" in w]
+    assert len(grid) == 1 and grid[0].startswith("every case: ")
     assert doc["governing"] and all(g["case"] in ("slow-lift", "warm-fast")
                                     for g in doc["governing"])
 

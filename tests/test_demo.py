@@ -5,6 +5,7 @@ from __future__ import annotations
 import importlib.util
 import json
 import re
+import shlex
 import sys
 from pathlib import Path
 
@@ -57,6 +58,9 @@ def test_demo_writes_both_reports_with_expected_verdicts(tmp_path, capsys):
     doc_a = json.loads((out / "thistle_comet_revA.json").read_text())
     doc_b = json.loads((out / "thistle_comet_revB.json").read_text())
     assert doc_a["verdict"] == "fail" and doc_b["verdict"] == "pass"
+    for rev, doc in (("A", doc_a), ("B", doc_b)):  # the stored command writes the report too
+        pdf = out / f"thistle_comet_rev{rev}.pdf"
+        assert shlex.split(doc["command"])[-2:] == ["--pdf", str(pdf)]
     start, end = loop_stations("A")
     # every finding of revision A lies at the loop (its entry and exit at the bottom)
     assert all(start - 15 <= f["s_start_m"] <= end + 15 for f in doc_a["findings"])

@@ -273,6 +273,11 @@ def test_record_report_speaks_of_times_not_stations():
     assert f"time ranges overlap or lie within {RECORD_GAP_S:g} s" in flat
     assert "Off the seat [s] From [s] Lowest Gz [g]" in flat  # the uplift table's head
     assert "Highest zone From [s] Longest outside every zone [s]" in flat
+    # no load case either (a record is one ride as it was), and the caution quotes the
+    # record file's own notes on where it came from (here: synthetic, not measured)
+    assert "case" not in flat.replace("no load case is involved", "").lower()
+    assert "nominal" not in flat
+    assert "its file says: \u201cSYNTHETIC test-ride record" in flat
 
 
 def test_checking_a_record_leaves_the_heavy_libraries_unloaded():

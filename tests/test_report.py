@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import re
 from dataclasses import replace
 
 import numpy as np
@@ -312,3 +313,40 @@ def test_exposure_and_event_legends_cover_no_line():
     ax = kept[-1][1][0, 0]
     assert any(line.get_label().startswith("limit") for line in ax.lines)
     assert ax.get_legend() is not None and _legend_clear_of_lines(ax)
+
+
+def test_seat_table_of_many_seats_and_cases_runs_on_within_the_pages(tmp_path):
+    # 150 seats in 3 cases (450 rows): the appendix's seat table must break over pages
+    # with every row inside the page's text area (it once ran off the bottom of one page),
+    # and the running head (top left) carries the layout name, escaped for CSS
+    import pypdfium2 as pdfium
+
+    t = np.arange(int(3 * RATE)) / RATE
+    g = np.zeros((len(t), 3))
+    g[:, 2] = 1.0
+    limits = LimitSet("Test limits", "tests", "1", True, FilterSpec(),
+                      (DurationLimit("gz", 1, np.array([0.0, 2.0]), np.array([4.0, 3.0])),),
+                      (), (), path="limits.toml", sha256="ab" * 32)
+    seats, signals = [], {}
+    for case in ("cold", "warm", "windy"):
+        sigs = [RecordedSignal(f"s{k:03d}", t, g) for k in range(150)]
+        seats += evaluate(sigs, limits, case).seats
+        signals.update({(s.seat, case): s for s in sigs})
+    ev = replace(evaluate(sigs[:1], limits), seats=tuple(seats))
+    name = 'Loop "A" </style> & B\\C'
+    run = _layout_check(ev, signals, None, None, Labels("P", name, "R2"),
+                        Provenance((), (), "checker check x"))
+    out = tmp_path / "seats.pdf"
+    run.write_pdf(out)
+    doc = pdfium.PdfDocument(str(out))
+    seen, heads = [], set()
+    for page in doc:
+        width, height = page.get_size()
+        box = page.get_textpage()
+        # the text area: within the side margins, above the footer, below the head (16-18 mm)
+        area = box.get_text_bounded(left=40, bottom=51, right=width - 40, top=height - 51)
+        seen += re.findall(r"(s\d{3})\s+0\s+PASS", area)  # recorded data: no case column
+        heads.add(box.get_text_bounded(left=0, bottom=height - 51, right=width / 2,
+                                       top=height).strip())
+    assert sorted(seen) == sorted(s.seat for s in seats)  # each seat once per case
+    assert f"{name}, revision R2" in heads

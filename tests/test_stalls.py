@@ -180,3 +180,31 @@ def test_a_stalling_case_comes_back_from_parallel_workers(tmp_path):
         docs[workers] = json.loads(out.read_text())
     assert docs["2"]["matrix"] == docs["1"]["matrix"] == {"car1-rider": {"fast": "pass",
                                                                          "slow": "stall"}}
+
+
+def test_two_stalling_cases_each_named_with_its_own_station(tmp_path):
+    # page 1 once gave both stalling cases the first one's station; each stops where the
+    # energy equation puts it, v0^2 / (2 g0) up the hill (no losses in the ideal run)
+    import re
+
+    cases = tmp_path / "cases.toml"
+    cases.write_text('[[case]]\nname = "fast"\nstart_speed_m_s = 13.0\n\n'
+                     '[[case]]\nname = "slow"\nstart_speed_m_s = 10.0\n\n'
+                     '[[case]]\nname = "slower"\nstart_speed_m_s = 9.0\n')
+    pdf = tmp_path / "cases.pdf"
+    assert main(["check", write_hill(tmp_path), "--ideal", "--cases", str(cases),
+                 "--workers", "1", "--quiet", "--pdf", str(pdf), "--seat-pages", "none"]) == 1
+    first = " ".join(PdfReader(str(pdf)).pages[0].extract_text().split())
+    stations = dict(re.findall(r"case (slow|slower): the train \w+ .*? at station ([\d.]+) m",
+                               first))
+    assert stations.keys() == {"slow", "slower"}
+    for name, speed in (("slow", 10.0), ("slower", 9.0)):
+        assert float(stations[name]) == pytest.approx(
+            hill_station_at_height(speed**2 / (2 * G0)), abs=0.3)
+    # the parameters are the inputs as given (no start speed), not one case's; the ride
+    # statistics say which case they describe
+    doc = json.loads(pdf.with_suffix(".json").read_text())
+    given = {p["name"]: p["value"] for p in doc["parameters"]}
+    assert given["start speed"] == "0 m/s"
+    text = " ".join(" ".join(p.extract_text() for p in PdfReader(str(pdf)).pages).split())
+    assert "Track, speed and ride time of load case fast (the first case)" in text

@@ -126,5 +126,6 @@ def test_zone_figure_draws_the_seats_its_table_lists():
     section = aids_section(result.evaluation, draw=record)
     rows = section["zones"]["rows"]
     (traces,) = [args[1] for name, args in drawn if name == "zones_figure"]
-    assert [label for label, _, _ in traces] == [f"{r['seat']} ({r['case']})" for r in rows]
+    # one load case: the legend names the seats only (the case in brackets with several)
+    assert [label for label, _, _ in traces] == [r["seat"] for r in rows]
     assert len({r["seat"] for r in rows}) == 3

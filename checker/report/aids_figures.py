@@ -301,6 +301,11 @@ def aids_section(evaluation, sensitivity=None, draw=_draw_now) -> dict:
                                   "every flight of every seat")},
         "zones": None, "sustained": [], "sensitivity": None,
     }
+    several = len({s.case for s in evaluation.seats}) > 1  # name the case only then
+
+    def who(result) -> str:
+        return f"{result.seat} ({result.case})" if several else result.seat
+
     zones = zones_document(evaluation)
     if zones is not None:
         summaries = {(s.seat, s.case): s for s in evaluation.seats if s.zones is not None}
@@ -310,15 +315,19 @@ def aids_section(evaluation, sensitivity=None, draw=_draw_now) -> dict:
         ranked = [kept[(r["seat"], r["case"])] for r in _top_zone_rows(zones["seats"],
                                                                         len(zones["seats"]))
                   if (r["seat"], r["case"]) in kept]
-        traces = [(f"{s.seat} ({s.case})", s.filtered[:, 0], s.filtered[:, 2])
-                  for s in ranked[:3]]
+        traces = [(who(s), s.filtered[:, 0], s.filtered[:, 2]) for s in ranked[:3]]
+        named = top[0] if top else None  # (seat, case) reaching the highest zone first
+        drawn = named is not None and named in {(s.seat, s.case) for s in ranked[:3]}
         section["zones"] = {
             "top": zones["highest"], "rows": _top_zone_rows(zones["seats"], 3),
             "more": max(0, len(zones["seats"]) - 3),
             "diagram": [{"name": z.name, "order": z.order, "dwell": z.dwell_s}
                         for z in limits.zones],
+            "top_drawn": drawn,
+            # the longest stretch outside the diagram, of any seat (the table lists three)
+            "outside": max(zones["seats"], key=lambda r: r["outside_longest_s"], default=None),
             "figure": draw(zones_figure, limits.zones, traces, "Filtered (Gx, Gz) over the "
-                           "zone diagram" + (f"; highest zone by {top[0][0]}" if top else "")),
+                           "zone diagram" + (f"; highest zone by {named[0]}" if drawn else "")),
         }
     for entry in sustained_document(evaluation):
         seat = _governing(evaluation, entry["rule"])
@@ -332,7 +341,7 @@ def aids_section(evaluation, sensitivity=None, draw=_draw_now) -> dict:
             res = sustained_combined(seat.filtered[:, ia], seat.filtered[:, ib], dt,
                                      pair_limits(limits.duration, env.axes[0]),
                                      pair_limits(limits.duration, env.axes[1]))
-            figure = draw(ratio_figure, seat.t, [(f"{seat.seat} ({seat.case})", res.ratio)],
+            figure = draw(ratio_figure, seat.t, [(who(seat), res.ratio)],
                           f"{entry['rule']}: (a/A)^2 + (b/B)^2 at the governing seat")
         section["sustained"].append({**entry, "figure": figure})
     if sensitivity is not None and sensitivity.rows:
@@ -480,5 +489,6 @@ def bank_pdf(advice, svg: str, info: dict) -> bytes:
     html = env.get_template("bank.html.j2").render(
         css=css, track=info["track"], output=info["output"], riders=info["riders"],
         version=__version__, caution=CAUTION, rows=rows, figure=f"{ASSET_SCHEME}:bank.svg",
-        inputs=info["inputs"], command=info["command"])
+        inputs=info["inputs"], command=info["command"],
+        worse=d["max_abs_gy_advised_g"] > d["max_abs_gy_given_g"])
     return render_pdf(html, TemplatesOnlyFetcher(assets={"bank.svg": svg}))

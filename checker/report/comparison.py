@@ -13,7 +13,7 @@ from ..documents import change_head, change_text, margin_text
 from ..rules import seat_exposures
 from ..terminal import shorten
 from . import figures
-from .document import PAGE_SIZES, _env, start_figure_jobs
+from .document import PAGE_SIZES, _env, css_string, start_figure_jobs
 from .pdf import ASSET_SCHEME, TemplatesOnlyFetcher, render_pdf
 from .placing import PdfFigure
 
@@ -110,7 +110,8 @@ def comparison_pdf(comparison: Comparison, focus: dict, meta: dict) -> bytes:
     event_counts = {k.value: comparison.count_events(k) for k in ChangeState}
     css = env.get_template("report.css").render(
         page_size=PAGE_SIZES[meta.get("page_size", "a4")],
-        footer_left=f"checker: {CAUTION_SHORT}")
+        footer_left=f"checker: {CAUTION_SHORT}",
+        header_left=css_string(f"{meta['old_name']} against {meta['new_name']}"))
     limits = meta["limits"]
     html = env.get_template("compare.html.j2").render(
         css=css, project=meta["project"], old_name=meta["old_name"],

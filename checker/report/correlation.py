@@ -5,9 +5,9 @@ from __future__ import annotations
 import datetime as _dt
 
 from .. import __version__
-from ..documents import CAUTION
+from ..caution import CAUTION, CAUTION_SHORT
 from . import figures
-from .document import PAGE_SIZES, _env, _fmt, start_figure_jobs
+from .document import PAGE_SIZES, _env, _fmt, css_string, start_figure_jobs
 from .pdf import ASSET_SCHEME, TemplatesOnlyFetcher, render_pdf
 
 
@@ -47,7 +47,8 @@ def correlation_pdf(correlations, meta: dict) -> bytes:
               for k, figure in enumerate(start_figure_jobs(jobs), start=1)}
     css = env.get_template("report.css").render(
         page_size=PAGE_SIZES[meta.get("page_size", "a4")],
-        footer_left="checker self-check - not a certification or an approval")
+        footer_left=f"checker: {CAUTION_SHORT}",
+        header_left=css_string(f"{meta['record_name']} against {meta['track_name']}"))
     html = env.get_template("correlate.html.j2").render(
         css=css, project=meta.get("project", "(not given)"), record_name=meta["record_name"],
         track_name=meta["track_name"], date=_dt.date.today().isoformat(), version=__version__,

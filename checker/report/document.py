@@ -12,6 +12,7 @@ import os
 from dataclasses import dataclass
 
 import jinja2
+import markupsafe
 import numpy as np
 
 from .. import __version__
@@ -21,6 +22,7 @@ from ..documents import MARGIN_CONVENTION, STATION_NOTE, margin_text, with_unit
 from ..events import RECORD_GAP_S, Event, event_of_finding, explain_events, group_findings
 from ..limits import AXES, REST, contains
 from ..rules import Evaluation, seat_exposures
+from ..terminal import shorten
 from . import figures
 from .aids_figures import aids_context, aids_jobs, job_height
 from .pdf import ASSET_SCHEME, TEMPLATES, frozen_heap
@@ -140,17 +142,42 @@ def _describe_vertices(env) -> str:
 
 
 # figure titles, printed by the template above each figure (see figures.TITLE_IN)
-HISTORIES_CAPTION = "Seat {seat}, case {case}: filtered (colour) and raw (grey); shaded: findings"
+HISTORIES_CAPTION = "Seat {seat}: filtered (colour) and raw (grey); shaded: findings"
 EXPOSURE_CAPTION = "Exposure: highest level sustained for at least each duration, against the limit"
 COMBINED_CAPTION = "Combined axes (filtered) against the envelopes; red: outside"
 
 
-def _seat_section(result, worst: bool) -> dict:
+def css_string(text: str, limit: int = 90) -> str:
+    """``text`` as the inside of a CSS string (a running header): backslashes and quotes
+    escaped, line breaks as spaces, cut to ``limit`` characters.
+
+    Parameters
+    ----------
+    text : str
+        Any text (a layout or file name given by the user).
+    limit : int, optional
+        Longest text kept [characters].
+
+    Returns
+    -------
+    markupsafe.Markup
+        Safe between the double quotes of a CSS ``content`` value inside the page's
+        ``<style>`` element: ``\\``, ``"``, ``<``, ``>`` and ``&`` as CSS escapes (so that
+        jinja2 leaves it as it is and no text can close the element).
+    """
+    flat = " ".join(shorten(text, limit).split())
+    for char in "\\\"<>&":
+        flat = flat.replace(char, f"\\{ord(char):x} ")
+    return markupsafe.Markup(flat)
+
+
+def _seat_section(result, worst: bool, recorded: bool) -> dict:
     """The template context of one seat's page, its figures still to be drawn."""
+    who = result.seat if recorded else f"{result.seat}, case {result.case}"
+    stalled = any(f.kind == "stall" for f in result.findings)
     return {"seat": result.seat, "case": result.case, "count": len(result.findings),
-            "verdict": result.verdict, "worst": worst,
-            "captions": {"histories": HISTORIES_CAPTION.format(seat=result.seat,
-                                                               case=result.case),
+            "verdict": "stall" if stalled else result.verdict, "worst": worst,
+            "captions": {"histories": HISTORIES_CAPTION.format(seat=who),
                          "exposure": EXPOSURE_CAPTION, "combined": COMBINED_CAPTION}}
 
 
@@ -183,7 +210,8 @@ def _exposure_figure(result, limits) -> bytes:
                                                     max(exp.durations_s[-1],
                                                         rule.durations_s[-1])),
                        "limit_levels": np.append(rule.levels_g, rule.levels_g[-1]),
-                       "step": rule.interpolation == "step"})
+                       "step": rule.interpolation == "step",
+                       "limit_label": "illustrative limit" if limits.illustrative else "limit"})
     return figures.exposure_curves(curves, "")
 
 
@@ -226,12 +254,14 @@ def ride_statistics(ride, evaluation: Evaluation) -> list[tuple[str, str]]:
                                    f"({np.ptp(z):.1f} m)"),
                   ("Top speed", f"{motion.v.max():.2f} m/s ({motion.v.max() * 3.6:.1f} km/h)"),
                   ("Ride time", f"{motion.duration_s:.1f} s ({motion.end_reason})")]
-    below = [(float(np.sum(s.filtered[:, 2] < 0.0)) * float(np.median(np.diff(s.t))), s.seat)
-             for s in evaluation.seats if s.filtered is not None and len(s.t) > 1]
+    below = [(float(np.sum(s.filtered[:, 2] < 0.0)) * float(np.median(np.diff(s.t))), s.seat,
+              s.case) for s in evaluation.seats if s.filtered is not None and len(s.t) > 1]
     if below:
-        longest = max(below)
+        longest, seat, case = max(below)
+        several = len({s.case for s in evaluation.seats}) > 1
         stats.append(("Time below 0 g vertical (filtered Gz < 0)",
-                      f"{longest[0]:.2f} s at most (seat {longest[1]})"))
+                      f"{longest:.2f} s at most (seat {seat}"
+                      + (f", case {case})" if several else ")")))
     if ride is None:
         rates = sorted({round(1.0 / float(np.median(np.diff(s.t))), 6) for s in evaluation.seats
                         if s.t is not None and len(s.t) > 1})
@@ -262,7 +292,7 @@ def _worst_rows(evaluation: Evaluation, signals: dict) -> list[dict]:
             _, v, s, j = best
             sig = signals.get((s.seat, s.case))
             station = getattr(sig, "s", None) if sig is not None else None
-            rows.append({"label": label, "value": f"{v:.2f}", "seat": s.seat,
+            rows.append({"label": label, "value": f"{v:.2f}", "seat": s.seat, "case": s.case,
                          "t": f"{s.t[j]:.2f}",
                          "s": f"{station[j]:.1f}" if station is not None else "-"})
     return rows
@@ -360,8 +390,11 @@ def finding_lines(findings, ids: list[str], recorded: bool = False) -> list[str]
         Header, then one line per finding: number, event, rule, seat, case, start [s],
         station [m], duration [s], peak, limit and margin with their units (long names cut).
     """
-    head = (f"{'#':>4} {'event':<5} {'rule':<22} {'seat':<12} "
-            + ("" if recorded else f"{'case':<16} ")
+    # seat and case columns as wide as their longest name, within what the page holds
+    seat_w = min(max([4, *(len(f.seat) for f in findings)]), 14)
+    case_w = min(max([4, *(len(f.case) for f in findings)]), 19)
+    head = (f"{'#':>4} {'event':<5} {'rule':<22} {'seat':<{seat_w}} "
+            + ("" if recorded else f"{'case':<{case_w}} ")
             + f"{'start [s]':>9} " + ("" if recorded else f"{'station [m]':>11} ")
             + f"{'dur. [s]':>8} {'peak':>10} {'limit':>10} {'margin':>10}")
     lines = [head]
@@ -369,8 +402,8 @@ def finding_lines(findings, ids: list[str], recorded: bool = False) -> list[str]
         peak = "0 m/s" if f.kind == "stall" else with_unit(f.peak_g, f.peak_unit)
         limit = "-" if f.kind == "stall" else with_unit(f.limit_g, f.peak_unit)
         lines.append(
-            f"{i + 1:>4} {ids[i]:<5} {f.rule[:22]:<22} {f.seat[:12]:<12} "
-            + ("" if recorded else f"{f.case[:16]:<16} ")
+            f"{i + 1:>4} {ids[i]:<5} {shorten(f.rule, 22):<22} {shorten(f.seat, seat_w):<{seat_w}} "
+            + ("" if recorded else f"{shorten(f.case, case_w):<{case_w}} ")
             + f"{f.t_start:>9.2f} " + ("" if recorded else f"{_fmt(f.s_worst_m, 1):>11} ")
             + f"{f.duration_s:>8.3f} {peak:>10} {limit:>10} {margin_text(f):>10}")
     return lines
@@ -429,7 +462,7 @@ def seats_to_show(events: list[Event], evaluation: Evaluation, mode: str) -> lis
 
 
 def _event_context(event: Event, evaluation: Evaluation, signals: dict, seat_count: int,
-                   case_count: int) -> dict:
+                   case_count: int, recorded: bool = False) -> dict:
     g = event.governing
     none = ("no computed remedy: recorded data carry no geometry" if event.s_start_m is None
             else "no computed remedy for this rule")
@@ -444,8 +477,12 @@ def _event_context(event: Event, evaluation: Evaluation, signals: dict, seat_cou
         "case_names": ", ".join(event.cases),
         "margin": margin_text(event),
         "peak": "speed 0 m/s" if event.kind == "stall" else with_unit(g.peak_g, g.peak_unit),
-        "limit": "-" if event.kind == "stall" else with_unit(g.limit_g, g.peak_unit),
-        "governing": f"{g.seat} / {g.case}", "findings": len(event.members),
+        # an onset limit holds both ways (|dG/dt|), the peak keeps its sign
+        "limit": "-" if event.kind == "stall" else (
+            "\u00b1" + with_unit(abs(g.limit_g), g.peak_unit) if event.kind == "onset"
+            else with_unit(g.limit_g, g.peak_unit)),
+        "governing": g.seat if recorded else f"{g.seat} / {g.case}",
+        "findings": len(event.members),
         "t": f"{event.t_start:.2f}-{event.t_end:.2f} s",
         "s_worst": _fmt(g.s_worst_m, 1), "s_motion": _fmt(g.s_motion_m, 1),
         "s_start": _fmt(g.s_start_m, 1),
@@ -454,14 +491,14 @@ def _event_context(event: Event, evaluation: Evaluation, signals: dict, seat_cou
         # page 1's table: the column heading and the note above it say "first estimate" once
         "remedy_short": event.remedy.suggestion if event.remedy is not None else none,
         "message": g.detail, "attitude": g.attitude,
-        "window": "", "window_caption": _window_caption(event),
+        "window": "", "window_caption": _window_caption(event, recorded),
     }
 
 
-def _window_caption(event: Event) -> str:
+def _window_caption(event: Event, recorded: bool = False) -> str:
     """The title of an event's time window (printed above the figure)."""
     g = event.governing
-    return f"{event.id} {event.rule}: seat {g.seat}, case {g.case}"
+    return f"{event.id} {event.rule}: seat {g.seat}" + ("" if recorded else f", case {g.case}")
 
 
 def _event_figure_job(event: Event, evaluation: Evaluation, signals: dict):
@@ -478,7 +515,8 @@ def _event_figure_job(event: Event, evaluation: Evaluation, signals: dict):
     raw = np.asarray(raw_signal.g) if raw_signal is not None else None
     axes = [AXES.index(a) for a in g.axis.split("+") if a in AXES]
     span = (g.t_start, g.t_end)
-    limits = [(f"limit {g.limit_g:.2f} g for {g.duration_s:.2f} s", g.limit_g)] \
+    name = "illustrative limit" if evaluation.limits.illustrative else "limit"
+    limits = [(f"{name} {g.limit_g:.2f} g for {g.duration_s:.3g} s", g.limit_g)] \
         if event.kind == "duration" else []
     onset = None
     if event.kind == "onset" and axes:
@@ -488,7 +526,7 @@ def _event_figure_job(event: Event, evaluation: Evaluation, signals: dict):
         onset = (onset[0][window], onset[1])
     return (figures.event_window, (seat.t[window], seat.filtered[window],
                                    None if raw is None else raw[window], axes, span, limits,
-                                   "", 1.5, onset),
+                                   "", 1.5, onset, name),
             figures.event_window_height(onset is not None, False))
 
 
@@ -540,8 +578,8 @@ def build_html(evaluation: Evaluation, signals: dict, ride, meta: ReportMeta,
         assets[name] = figure
         return f"{ASSET_SCHEME}:{name}"
 
-    event_rows = [_event_context(e, evaluation, signals, len(seat_names), len(case_names))
-                  for e in events]
+    event_rows = [_event_context(e, evaluation, signals, len(seat_names), len(case_names),
+                                 meta.recorded) for e in events]
     event_jobs = [_event_figure_job(e, evaluation, signals) for e in events]
     chosen = seats_to_show(events, evaluation, meta.seat_pages)
     governs: dict[tuple, list[str]] = {}
@@ -557,7 +595,7 @@ def build_html(evaluation: Evaluation, signals: dict, ride, meta: ReportMeta,
             geo.roll_deg), figures.layout_views_height(True, geo.roll_deg is not None)))
     sections, section_jobs = [], []
     for s in chosen:
-        sections.append(_seat_section(s, False))
+        sections.append(_seat_section(s, False, meta.recorded))
         section_jobs.append(_seat_figure_jobs(s, signals.get((s.seat, s.case)), limits))
         jobs += section_jobs[-1].values()
     windows_at = len(jobs)
@@ -582,13 +620,17 @@ def build_html(evaluation: Evaluation, signals: dict, ride, meta: ReportMeta,
     delays = [f.group_delay_s for f in findings if f.kind != "stall"]
     css = env.get_template("report.css").render(
         page_size=PAGE_SIZES[meta.page_size],
-        footer_left=f"checker: {CAUTION_SHORT}")
+        footer_left=f"checker: {CAUTION_SHORT}",
+        header_left=css_string(meta.layout + ("" if meta.revision in ("", "(not given)")
+                                              else f", revision {meta.revision}")))
     stall_messages = []
     for e in events:
-        if e.kind == "stall":
-            stall_messages.append(f"{e.id}, case{'s' if len(e.cases) > 1 else ''} "
-                                  f"{', '.join(e.cases)}: "
-                                  + e.governing.detail.split("; this seat")[0])
+        if e.kind == "stall":  # each case where its own train stopped
+            where: dict[str, str] = {}
+            for m in e.members:
+                where.setdefault(findings[m].case, findings[m].detail.split("; this seat")[0])
+            stall_messages.append(f"{e.id}: " + "; ".join(f"case {case}: {text}"
+                                                          for case, text in where.items()))
     return env.get_template("report.html.j2").render(
         title=f"Self-check {meta.layout}", css=css, project=meta.project, layout=meta.layout,
         revision=meta.revision, date=meta.date or _dt.date.today().isoformat(),
@@ -602,6 +644,7 @@ def build_html(evaluation: Evaluation, signals: dict, ride, meta: ReportMeta,
         seat_pages=meta.seat_pages, method=list(meta.method), parameters=list(meta.parameters),
         inputs=[{"file": f, "sha256": h} for f, h in meta.inputs], command=meta.command,
         stalls=stall_messages, sweep=_sweep_context(meta.sweep), recorded=meta.recorded,
+        ride_case=meta.sweep.ride_case if meta.sweep is not None else None,
         margin_convention=MARGIN_CONVENTION, station_note=STATION_NOTE,
         record_gap=f"{RECORD_GAP_S:g}",
         group_delay=f"{max(delays):.3f}" if delays else None,

@@ -654,8 +654,8 @@ def exposure_curves(curves: list[dict], title: str) -> bytes:
         Each: ``name``, ``axis`` (``"gx"``, ``"gy"`` or ``"gz"``), ``durations`` [s] and
         ``levels`` [g] (equal length, increasing durations), ``limit_durations`` [s] and
         ``limit_levels`` [g]; optionally ``step`` (draw the limit as steps),
-        ``overlay_durations``, ``overlay_levels`` and ``overlay_label`` (a second curve
-        drawn dotted).
+        ``limit_label`` (its legend, default ``"limit"``), ``overlay_durations``,
+        ``overlay_levels`` and ``overlay_label`` (a second curve drawn dotted).
     title : str
         Figure title; empty: none (the panels keep their size, the figure is shorter).
 
@@ -685,7 +685,7 @@ def exposure_curves(curves: list[dict], title: str) -> bytes:
             lim_d = np.asarray(c["limit_durations"], dtype=float)
             ax.plot(np.maximum(lim_d, d[0]), c["limit_levels"], color=LIMIT_COLOR, lw=1.0,
                     ls="--", drawstyle="steps-post" if c.get("step") else "default",
-                    label="limit" if n == 0 else None)
+                    label=c.get("limit_label", "limit") if n == 0 else None)
             longest = max(longest, d[-1], lim_d[-1])
         ax.axhline(neutral, color="#888888", lw=0.6)
         ax.set_xlim(curves[0]["durations"][0], longest)
@@ -737,7 +737,8 @@ def event_window_height(onset: bool, titled: bool) -> float:
 def event_window(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
                  axes: list[int], span: tuple[float, float], limits: list[tuple[str, float]],
                  title: str, pad_s: float = 1.5,
-                 onset: tuple[np.ndarray, float] | None = None) -> bytes:
+                 onset: tuple[np.ndarray, float] | None = None,
+                 limit_name: str = "limit") -> bytes:
     """A few seconds around an event: the filtered (and raw) signal of its axes, the event's
     time span shaded and each limit drawn as a dashed line.
 
@@ -762,6 +763,8 @@ def event_window(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
     onset : (numpy.ndarray, float) or None, optional
         (rate, shape (n,) [g/s], limit [g/s]): a second panel shows dG/dt of the filtered
         signal against +-limit.
+    limit_name : str, optional
+        What the onset limit's legend calls it (``"illustrative limit"`` for an example set).
 
     Returns
     -------
@@ -778,8 +781,9 @@ def event_window(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
     ax = panels[0, 0]
     for i in axes:
         if raw is not None:
-            ax.plot(t[window], raw[window, i], color="#bbbbbb", lw=0.6,
-                    label=f"{names[i].capitalize()} raw")
+            # a light tint of the axis's colour: two axes' raw traces stay apart
+            ax.plot(t[window], raw[window, i], color=AXIS_COLORS[names[i]], alpha=0.3,
+                    lw=0.6, label=f"{names[i].capitalize()} raw")
         ax.plot(t[window], filtered[window, i], color=AXIS_COLORS[names[i]], lw=1.1,
                 label=f"{names[i].capitalize()} filtered")
     for label, level in limits:
@@ -792,7 +796,8 @@ def event_window(t: np.ndarray, filtered: np.ndarray, raw: np.ndarray | None,
         rate, limit = onset
         ax2 = panels[1, 0]
         ax2.plot(t[window], rate[window], color="#1f5fa8", lw=1.1, label="dG/dt (filtered)")
-        ax2.axhline(limit, color=LIMIT_COLOR, ls="--", lw=1.0, label=f"limit +-{limit:g} g/s")
+        ax2.axhline(limit, color=LIMIT_COLOR, ls="--", lw=1.0,
+                    label=f"{limit_name} \u00b1{limit:g} g/s")
         ax2.axhline(-limit, color=LIMIT_COLOR, ls="--", lw=1.0)
         ax2.axvspan(a, b, color=FINDING_COLOR, alpha=0.12, lw=0, label="exceedance")
         ax2.set_ylabel("[g/s]")
