@@ -51,6 +51,7 @@ from .ride import (
     CheckRun,
     RideOptions,
     RideResult,
+    fit_dependence,
     histories_csv,
     load_inputs,
     ride_parameters,
@@ -497,15 +498,20 @@ def check_layout(track: str | Path, *, train: str | Path | None = None, ideal: b
         run = sweep_check_run(sweep, line, the_train, ops, limit_set, options, case_list)
         parameters.append(("load cases", f"{cases} ({len(case_list)} cases: "
                            + ", ".join(c.name for c in case_list) + ")"))
-    else:
+    fitted: list[str] = []
+    if cases_file is None:
         run = run_check(line, the_train, ops, limit_set, options, case)
+        smoothed = run.ride.geometry.smoothing
+        if options.smoothing_m is None and smoothed is not None and not smoothed.refused:
+            fitted = fit_dependence(line, the_train, ops, limit_set, options, case,
+                                    run.evaluation)
     # the parameters as given: a sweep's ride is its first case's, whose case may change them
     shown = run.ride if sweep is None or run.ride is None else replace(
         run.ride, train=the_train, operation=ops, options=options)
     inputs = (_record(track, None if ideal else train, operation, cases_file)
               + _limit_files(limit_set))
     evaluation = replace(run.evaluation, warnings=tuple(filter_warnings(limit_set.filter))
-                         + run.evaluation.warnings)
+                         + run.evaluation.warnings + tuple(fitted))
     ranked = None
     if sensitivity:
         from .sensitivity import run_sensitivity

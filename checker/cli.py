@@ -298,7 +298,12 @@ def _note_limits(args: argparse.Namespace, app) -> None:
 def _outputs(args: argparse.Namespace) -> list[tuple[str, str | Path | None]]:
     """(option, path) of every output of a check or comparison; --pdf brings its sidecar."""
     sidecar = report_sidecar(args.pdf, args.json) if args.pdf else args.json
-    return [("--pdf", args.pdf), ("--json", sidecar)]
+    return [("--pdf", args.pdf), (_sidecar_label(args), sidecar)]
+
+
+def _sidecar_label(args: argparse.Namespace) -> str:
+    """How an error names the JSON output: the option given, or the report's sidecar."""
+    return "--json" if args.json or not args.pdf else "the --pdf report's JSON sidecar"
 
 
 def _check_outputs(args: argparse.Namespace, *inputs: str | Path | None) -> None:
@@ -424,8 +429,10 @@ def _cmd_advise_bank(args: argparse.Namespace, app, call: str) -> int:
     if out.suffix.lower() == ".svg":
         raise InputError(out, "-o names the track CSV; its plot goes beside it as .svg",
                          "give the output a .csv name")
+    sidecar = report_sidecar(args.pdf, args.json) if args.pdf else args.json  # as the others
     check_run_paths([args.track, args.train, args.operation],
-                    [("-o", out), ("plot", plot), ("--json", args.json), ("--pdf", args.pdf)])
+                    [("-o", out), ("plot", plot), (_sidecar_label(args), sidecar),
+                     ("--pdf", args.pdf)])
     advice = app.advise_bank_angle(
         args.track, train=args.train, ideal=args.ideal, operation=args.operation,
         start_speed_m_s=args.start_speed, rate_hz=args.rate, units=args.units,
@@ -433,7 +440,7 @@ def _cmd_advise_bank(args: argparse.Namespace, app, call: str) -> int:
         tolerance_g=args.tolerance, roll_smoothing_s=args.roll_smoothing,
         page_size=args.page_size, call=call)
     print(advice.summary())
-    files = advice.write(out, plot, args.json, args.pdf)
+    files = advice.write(out, plot, sidecar, args.pdf)
     print("wrote " + ", ".join(str(f) for f in files))
     print("caution: advice for a designer to review, not a verified design; " + CAUTION)
     return EXIT_OK
@@ -442,7 +449,7 @@ def _cmd_advise_bank(args: argparse.Namespace, app, call: str) -> int:
 def _cmd_correlate(args: argparse.Namespace, app, call: str) -> int:
     sidecar = report_sidecar(args.pdf, args.json) if args.pdf else args.json
     check_run_paths([args.record, args.track, args.train, args.operation, args.limits,
-                     args.instrument], [("--pdf", args.pdf), ("--json", sidecar)])
+                     args.instrument], [("--pdf", args.pdf), (_sidecar_label(args), sidecar)])
     _note_limits(args, app)
     result = app.correlate_ride(
         args.record, args.track, record_units=args.record_units, instrument=args.instrument,

@@ -260,25 +260,31 @@ def _section_arrays(stations: np.ndarray, operation: Operation, track_length: fl
     return code, remaining, target_e, accel, force, cap_e
 
 
-def attitude(up_z: float) -> str:
-    """Riders' attitude from the world-up component of the rider z axis.
+def attitude(up_z: float, left_z: float = 0.0) -> str:
+    """Riders' attitude from the world-up components of the rider's up and left axes.
+
+    Pitch alone (a steep climb, the riders on their backs) leaves them upright in this sense:
+    a train that stops there rolls back down, it does not hang.
 
     Parameters
     ----------
     up_z : float
         World-up (z) component of the unit rider up axis [-].
+    left_z : float, optional
+        World-up (z) component of the unit rider left axis [-] (0: not rolled).
 
     Returns
     -------
     attitude : {"upright", "on its side", "inverted"}
-        ``"upright"`` within 45 degrees of world up, ``"inverted"`` beyond 135 degrees, else
-        ``"on its side"``.
+        ``"inverted"`` with the up axis beyond 135 degrees from world up; ``"on its side"``
+        with the left axis within 45 degrees of vertical (rolled onto one side); else
+        ``"upright"``.
     """
-    if up_z >= math.cos(math.radians(45.0)):
-        return "upright"
     if up_z <= -math.cos(math.radians(45.0)):
         return "inverted"
-    return "on its side"
+    if abs(left_z) >= math.cos(math.radians(45.0)):
+        return "on its side"
+    return "upright"
 
 
 ATTITUDE_ORDER = ("upright", "on its side", "inverted")
@@ -290,8 +296,9 @@ def _stall(geometry: TrackGeometry, train: Train, station: float, time: float,
     """The stall at lead-car ``station`` [m]: why (start, crest, inverted, on its side)
     and the riders' worst attitude over the cars there."""
     cars = station - train.spacing_m * np.arange(train.car_count)
-    (up,) = geometry.sample(cars, "up")
-    worst = max((attitude(float(z)) for z in up[:, 2]), key=ATTITUDE_ORDER.index)
+    up, left = geometry.sample(cars, "up", "left")
+    worst = max((attitude(float(u), float(v)) for u, v in zip(up[:, 2], left[:, 2])),
+                key=ATTITUDE_ORDER.index)
     if travelled < START_DISTANCE_M:
         cause = "start"
     elif worst != "upright":

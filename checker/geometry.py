@@ -78,6 +78,9 @@ class SmoothingReport:
         Largest curvature removed at a sample [1/m].
     station_of_max_removed_m : float
         Station of that sample [m].
+    refused : str
+        Empty, or why the smoothed fit was not used: the curve then passes through every
+        sample (the other figures are zero).
     """
 
     tolerance_m: float
@@ -85,6 +88,7 @@ class SmoothingReport:
     rms_curvature_removed: float
     max_curvature_removed: float
     station_of_max_removed_m: float
+    refused: str = ""  # why the fit was not used (the curve then passes through the samples)
 
 
 @dataclass(frozen=True)
@@ -516,6 +520,8 @@ def _discrepancy_fit(u: np.ndarray, points: np.ndarray, u_all: np.ndarray,
     low, high = -14.0, 14.0
     if near is not None and excess(near - 1.0) < 0 < excess(near + 1.0):
         low, high = near - 1.0, near + 1.0
+    elif excess(low) > 0:  # even the least smoothing stays farther than the tolerance
+        raise _OutOfReach
     log_lam = high if excess(high) <= 0 else brentq(excess, low, high, xtol=0.01)
     width = h * (scale * 10.0**log_lam) ** (1.0 / (2 * PENALTY_ORDER))
     return BSpline(knots, coefficients(log_lam), degree, axis=0), log_lam, float(width)
@@ -602,8 +608,17 @@ def _curvature_continuation(spline: BSpline, u_end: float, sign: float, window: 
     return (u_out[::-1], out[::-1]) if sign < 0 else (u_out, out)
 
 
+class _OutOfReach(ValueError):
+    """No fit on the smoothing knots comes within the tolerance of the samples (samples much
+    denser in places than the knots, which are evenly spaced)."""
+
+
+STRAY_TOLERANCES = 20  # a smoothed fit this many tolerances off the samples' curve is refused
+
+
 def _fit_centerline(points: np.ndarray, smoothing_m: float):
-    """Fit the centerline; returns (fit used, exact interpolant, sample parameters).
+    """Fit the centerline; returns (fit used, exact interpolant, sample parameters, why the
+    smoothed fit was refused or "").
 
     The parameter starts as the chord length and is then replaced by the interpolant's own
     arc length at the samples (ARC_LENGTH_PASSES times). With chord lengths, unevenly spaced
@@ -611,7 +626,12 @@ def _fit_centerline(points: np.ndarray, smoothing_m: float):
     under-states its arc more than a short one), and a degree-5 spline answers with wiggles
     that show as curvature ringing; with the arc-length parameter the speed is 1 everywhere
     and the ringing goes (alternating 0.1 m / 1.9 m samples then match even ones).
-    With ``smoothing_m`` > 0 the curve is the penalized fit on the interpolant's knots.
+    With ``smoothing_m`` > 0 the curve is the penalized fit on the interpolant's knots,
+    unless that fit cannot come within the tolerance or strays from the interpolant between
+    samples by more than STRAY_TOLERANCES tolerances: its knots are evenly spaced, so between
+    samples far apart only the penalty holds it, and with the small tolerance of a finely
+    rounded file it swings there (curvature of 17 1/m on a gentle track, seen); the curve
+    then passes through every sample, and the report says why.
 
     References
     ----------
@@ -628,8 +648,17 @@ def _fit_centerline(points: np.ndarray, smoothing_m: float):
         u = _arc_length_at(interp, u)
         interp = make_interp_spline(u, points, k=degree, axis=0)
     if smoothing_m <= 0:
-        return interp, interp, u
-    return _penalized_fit(points, u, degree, smoothing_m), interp, u
+        return interp, interp, u, ""
+    try:
+        fit = _penalized_fit(points, u, degree, smoothing_m)
+    except _OutOfReach:
+        return interp, interp, u, "no smooth curve comes within the tolerance of them"
+    between = np.linspace(u[:-1], u[1:], 5)[1:-1].ravel()  # inside every sample interval
+    stray = float(np.linalg.norm(_eval(fit, between) - _eval(interp, between), axis=1).max())
+    if stray > STRAY_TOLERANCES * smoothing_m:
+        return interp, interp, u, (f"the smoothed curve strays {stray * 1000:.3g} mm from "
+                                   "them between unevenly spaced samples")
+    return fit, interp, u, ""
 
 
 def _curvature_of(spline, u: np.ndarray) -> np.ndarray:
@@ -690,7 +719,7 @@ def build_geometry(
     from scipy.interpolate import CubicHermiteSpline, make_interp_spline
 
     points = np.asarray(points, dtype=float)
-    spline, interp, u = _fit_centerline(points, smoothing_m)
+    spline, interp, u, refused = _fit_centerline(points, smoothing_m)
     # Arc length s(u): 3-point Gauss-Legendre on sub-intervals no longer than step_m / 2.
     chords = np.diff(u)
     pieces = np.maximum(1, np.ceil(chords / (0.5 * step_m)).astype(int))
@@ -755,13 +784,20 @@ def build_geometry(
     ])
     domega = np.gradient(omega, s, axis=0, edge_order=2)  # second order at the track ends
 
-    report = (_smoothing_report(points, spline, interp, u, sample_s, smoothing_m)
-              if smoothing_m > 0 else None)
+    report = None
+    if refused:
+        report = SmoothingReport(smoothing_m, 0.0, 0.0, 0.0, 0.0, refused)
+    elif smoothing_m > 0:
+        report = _smoothing_report(points, spline, interp, u, sample_s, smoothing_m)
     noise = None
     if smoothing_m < NOISE_PROBE_M and len(points) >= 8:
-        probe = _penalized_fit(points, u, 5 if len(points) >= QUINTIC_MIN_SAMPLES else 3,
-                               NOISE_PROBE_M, end_passes=0)
-        noise = _smoothing_report(points, probe, spline, u, sample_s, NOISE_PROBE_M)
+        try:
+            probe = _penalized_fit(points, u, 5 if len(points) >= QUINTIC_MIN_SAMPLES else 3,
+                                   NOISE_PROBE_M, end_passes=0)
+        except _OutOfReach:  # nothing to compare with: no probe
+            probe = None
+        if probe is not None:
+            noise = _smoothing_report(points, probe, spline, u, sample_s, NOISE_PROBE_M)
     return TrackGeometry(s, position, tangent, left_v, up_v, curv, omega, domega, roll,
                          torsion, sample_s, report, noise)
 

@@ -48,7 +48,12 @@ def fitting_warnings(geometry: TrackGeometry, line, automatic: bool) -> list[str
     """
     out = []
     sm = geometry.smoothing
-    if automatic and sm is not None:
+    if automatic and sm is not None and sm.refused:
+        out.append(f"track coordinates sit on a {line.resolution_text} grid (rounded export), "
+                   f"but they are not smoothed: {sm.refused}; the curve passes through every "
+                   "sample, so the rounding may show as false onset and curvature: export "
+                   "finer or more evenly spaced samples, or give --smoothing")
+    elif automatic and sm is not None:
         out.append(f"track coordinates sit on a {line.resolution_text} grid (rounded export): "
                    f"the curve is fitted within {sm.tolerance_m * 1000:.3g} mm RMS of the samples"
                    f" (not through them); curvature removed rms {sm.rms_curvature_removed:.4f}"

@@ -282,6 +282,11 @@ def _stall_remedy(geometry, s, attitude: str = "upright") -> Remedy:
         radius = 1.0 / max(float(np.linalg.norm(geometry.curvature_vector[top])), 1e-9)
         need_top = G0 * radius if geometry.up[top, 2] < 0 else 0.0
     speed = math.sqrt(need_top + 2.0 * G0 * dz)
+    if speed < 0.05:  # nothing ahead to climb: it stopped for want of speed alone
+        return Remedy("speed at the stall point", speed, "m/s", "v > 0",
+                      "nothing ahead is higher than here: the train stops because it has no "
+                      "speed left against its resistances (or never had any); give it speed "
+                      "(a start speed, a lift or a launch)")
     why = (f"to reach the top ahead ({dz:.1f} m higher) with v^2 / r >= g0 there"
            if need_top else f"to reach the top ahead ({dz:.1f} m higher)")
     return Remedy("speed at the stall point", speed, "m/s",

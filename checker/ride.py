@@ -431,6 +431,52 @@ def _smoothing_text(result: RideResult) -> str:
     return f"{used:g} m (given)"
 
 
+def fit_dependence(centerline: Centerline, train: Train, operation: Operation,
+                   limits: LimitSet, options: RideOptions, case: str,
+                   evaluation: Evaluation) -> list[str]:
+    """Rules whose outcome depends on smoothing a rounded track file: the ride run again with
+    the curve through every sample, each rule that fails one way only named.
+
+    Smoothing within half the file's grid takes the rounding's false curvature out, but it
+    also rounds off a true curvature step (a turn entered without a transition) over its
+    width, and lowers the onset there: a layout exported at 1 mm passed where its exact
+    points failed. Neither curve is the truth, so the verdict stays the smoothed one's, and
+    the reviewer is told which rule the fit decides, where, and by how much.
+
+    Parameters
+    ----------
+    centerline, train, operation, limits, options, case
+        As for :func:`run_check` (``options`` as used: automatic smoothing).
+    evaluation : Evaluation
+        The check with the smoothed curve.
+
+    Returns
+    -------
+    list of str
+        One review item per rule that fails one way only (empty when the fit decides none).
+    """
+    exact = run_check(centerline, train, operation, limits,
+                      replace(options, smoothing_m=0.0), case, keep_signals=False).evaluation
+    smoothed_rules = {f.rule for f in evaluation.findings if f.kind != "stall"}
+    notes = []
+    for f in exact.findings:  # most severe first: one note per rule
+        if f.kind == "stall" or f.rule in smoothed_rules:
+            continue
+        smoothed_rules.add(f.rule)
+        where = f" at station {f.s_worst_m:.1f} m" if f.s_worst_m is not None else ""
+        notes.append(f"{f.rule} passes with the rounded coordinates smoothed but fails with "
+                     f"the curve through every sample (margin {f.margin:.3g} {f.unit}, seat "
+                     f"{f.seat}{where}): the fit decides this rule; check it with a finer "
+                     "export of the track")
+    exact_rules = {f.rule for f in exact.findings}
+    for rule in sorted({f.rule for f in evaluation.findings if f.kind != "stall"}
+                       - exact_rules):
+        notes.append(f"{rule} fails with the rounded coordinates smoothed but passes with the "
+                     "curve through every sample: the fit decides this rule; check it with a "
+                     "finer export of the track")
+    return notes
+
+
 def ride_parameters(result: RideResult) -> list[tuple[str, str]]:
     """Every parameter of a simulated run, for the record.
 

@@ -46,8 +46,8 @@ def stall_findings(stall: TrainStalled, histories, geometry: TrackGeometry, case
     out = []
     for h in histories:
         car_station = stall.station_m - (h.car - 1) * car_spacing_m
-        (up,) = geometry.sample(np.array([car_station]), "up")
-        seat_attitude = attitude(float(up[0, 2]))
+        up, left = geometry.sample(np.array([car_station]), "up", "left")
+        seat_attitude = attitude(float(up[0, 2]), float(left[0, 2]))
         position = tuple(float(v) for v in np.asarray(h.position)[-1])
         out.append(Finding(
             rule=STALL_RULE, kind=FindingKind.STALL, axis="", seat=h.seat, case=case,

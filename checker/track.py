@@ -139,6 +139,17 @@ def smoothing_for(line: Centerline, requested_m: float | None) -> float:
     return 0.5 * line.resolution_m if line.resolution_m else 0.0
 
 
+def _refuse_out_of_reach(path, points: np.ndarray, rows: np.ndarray) -> None:
+    """A one-line error naming the first coordinate beyond MAX_COORDINATE_M (row, column),
+    before any arithmetic on it can overflow."""
+    beyond = np.abs(points) > MAX_COORDINATE_M
+    if beyond.any():
+        i, k = np.argwhere(beyond)[0]
+        raise InputError(path, f"coordinate beyond {MAX_COORDINATE_M:.0e} m",
+                         "check the units and the export; coordinates are metres",
+                         row=int(rows[i]), column="xyz"[k])
+
+
 def validate_centerline(line: Centerline) -> Centerline:
     """Check the geometric sanity of a centerline; raise InputError naming the sample.
 
@@ -164,11 +175,7 @@ def validate_centerline(line: Centerline) -> Centerline:
     if len(pts) < 4:
         raise InputError(path, f"has {len(pts)} samples; a centerline needs at least 4",
                          "export the centerline with more points")
-    big = np.flatnonzero(np.abs(pts).max(axis=1) > MAX_COORDINATE_M)
-    if big.size:
-        raise InputError(path, f"coordinate beyond {MAX_COORDINATE_M:.0e} m",
-                         "check the units and the export; coordinates are metres",
-                         row=int(rows[big[0]]), column="x")
+    _refuse_out_of_reach(path, pts, rows)
     chords = np.linalg.norm(np.diff(pts, axis=0), axis=1)
     repeated = np.flatnonzero(chords < MIN_CHORD_M)
     if repeated.size:
@@ -231,6 +238,8 @@ def load_centerline(path: str | Path, units: str = "m") -> Centerline:
                              what="centerline")
     scale = FOOT_M if units == "ft" else 1.0
     points = np.column_stack([table.columns[c] for c in "xyz"]) * scale
+    _refuse_out_of_reach(path, points, table.lines if table.lines is not None
+                         else np.arange(2, len(points) + 2))
     up_names = [c for c in ("up_x", "up_y", "up_z") if table.has(c)]
     if table.has("roll_deg") and up_names:
         raise InputError(path, "gives both roll_deg and up vector columns",

@@ -62,6 +62,10 @@ def test_advise_bank_writes_track_plot_and_json(tmp_path, capsys):
     assert max(abs(float(r.split(",")[3])) for r in lines[2:]) > 20.0  # it banks the turns
     assert (tmp_path / "banked.svg").read_text().lstrip().startswith("<svg")
     assert json.loads((tmp_path / "a.json").read_text())["advice"]["max_roll_rate_deg_s"] <= 60.0
+    # --pdf alone writes its JSON sidecar beside it, as every other command does
+    assert main(["advise-bank", str(track), "--ideal", "--start-speed", "15", "-o",
+                 str(tmp_path / "b.csv"), "--pdf", str(tmp_path / "b.pdf")]) == 0
+    assert "advice" in json.loads((tmp_path / "b.json").read_text())
 
 
 def test_advise_bank_bad_track_writes_nothing(tmp_path, capsys):

@@ -116,6 +116,17 @@ def test_output_through_a_link_to_the_input_is_refused(tmp_path, capsys):
     assert history.read_bytes() == before and (tmp_path / "soft.json").is_symlink()
 
 
+def test_a_sidecar_onto_an_input_is_named_as_the_sidecar(tmp_path, capsys):
+    # no --json given: the clash is the --pdf report's sidecar, and the error says so
+    _, history, _ = _copies(tmp_path)
+    source = tmp_path / "r.json"
+    source.write_bytes(history.read_bytes())
+    code, _, err = run(["check-history", source, "--pdf", tmp_path / "r.pdf"], capsys)
+    line = one_error_line(err)
+    assert code == 2 and "the --pdf report's JSON sidecar is the same file" in line
+    assert "--json" not in line
+
+
 def test_json_dash_is_refused_and_creates_no_file(tmp_path, capsys, monkeypatch):
     monkeypatch.chdir(tmp_path)
     code, _, err = run(["check-history", HISTORY, "--json", "-"], capsys)

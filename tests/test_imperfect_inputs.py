@@ -271,3 +271,69 @@ def test_left_turn_gives_positive_gy_and_the_readme_says_what_the_rider_feels():
     assert "left turn" in cells[2]
     for axis in ("Gx > 0", "Gx < 0", "Gy < 0", "Gz > 0", "Gz < 0"):
         assert f"| {axis} |" in text
+
+
+def straight_hill_and_turn(stations: np.ndarray, radius: float = 30.0,
+                           lead: float = 60.0) -> np.ndarray:
+    """A straight with a 2 m cosine hill (20 m to 50 m), then a flat right turn of
+    ``radius`` entered at ``lead`` with no transition, at the given stations [m]."""
+    theta = np.clip(stations - lead, 0.0, None) / radius
+    x = np.where(stations < lead, stations, lead + radius * np.sin(theta))
+    y = np.where(stations < lead, 0.0, -radius * (1 - np.cos(theta)))
+    z = 1.0 - np.cos(2 * np.pi * np.clip(stations - 20.0, 0.0, 30.0) / 30.0)
+    return np.column_stack([x, y, z])
+
+
+@pytest.mark.parametrize("decimals", [5, 6])
+def test_unevenly_spaced_finely_rounded_track_passes_through_its_samples(tmp_path, decimals):
+    # Gaps of 0.1 m to 2.4 m, written with 5 or 6 decimals: the smoothing fit's evenly spaced
+    # knots cannot follow the dense parts within the tiny tolerance (an internal error once)
+    # or swing between the sparse samples (10 g of error once with 4 decimals). The curve
+    # then passes through every sample and says why; the filtered signals agree with the
+    # same samples at full precision within 0.01 g.
+    rng = np.random.default_rng(1)
+    fine = np.arange(0.0, 210.0, 0.1)
+    picks = [0]
+    while picks[-1] < len(fine) - 1:
+        picks.append(min(len(fine) - 1, picks[-1] + int(rng.integers(1, 25))))
+    stations = fine[picks]
+    ops = Operation(start_speed_m_s=15.0)
+    exact = run_ride(Centerline(straight_hill_and_turn(stations)), HEART, ops)
+    path = write_track(tmp_path / "uneven.csv", straight_hill_and_turn(stations), decimals)
+    result = run_ride(load_centerline(path, "m"), HEART, ops)
+    assert result.geometry.smoothing is not None and result.geometry.smoothing.refused
+    a, b = (lowpass(r.histories[0].g, 200.0, LIMITS.filter) for r in (exact, result))
+    n = min(len(a), len(b)) - 10
+    assert np.max(np.abs(a[:n] - b[:n])) < 0.01
+
+
+def test_a_rule_the_fit_decides_is_named_with_its_place():
+    # A flat turn entered with no transition: the lateral onset at the step is what the
+    # smoothing of a 1 mm export rounds off. With the onset limit set between the smoothed
+    # and the exact curve's worst Gy onset, the check passes with the smoothed curve and
+    # must name the rule and the step's station as decided by the fit (a 1 mm export once
+    # turned FAIL into PASS without a word).
+    from checker.limits import LimitSet, OnsetLimit
+    from checker.ride import fit_dependence
+
+    lead = 60.0
+    points = straight_hill_and_turn(np.arange(0.0, 210.0, 0.5), lead=lead)
+    rounded = Centerline(np.round(points, 3), resolution_m=0.001)
+    ops = Operation(start_speed_m_s=18.0)
+    worst = []
+    for smoothing in (None, 0.0):
+        ride = run_ride(rounded, HEART, ops, RideOptions(smoothing_m=smoothing))
+        gy = lowpass(ride.histories[0].g, 200.0, LIMITS.filter)[:, 1]
+        worst.append(np.max(np.abs(np.gradient(gy, ride.histories[0].t))))
+    assert worst[1] > 1.2 * worst[0]  # the fit lowers the onset at the step
+    limits = LimitSet("onset only", "tests", "1", True, LIMITS.filter, (), (),
+                      (OnsetLimit("gy", 0.5 * (worst[0] + worst[1])),))
+    options = RideOptions()
+    ride = run_ride(rounded, HEART, ops, options)
+    smoothed = evaluate(ride.histories, limits)
+    assert not smoothed.findings  # passes with the smoothed curve
+    notes = fit_dependence(rounded, HEART, ops, limits, options, "nominal", smoothed)
+    (note,) = notes
+    assert note.startswith("onset gy passes with the rounded coordinates smoothed but fails")
+    station = float(re.search(r"at station ([\d.]+) m", note).group(1))
+    assert abs(station - lead) < 5.0  # at the turn's entry

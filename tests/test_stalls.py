@@ -105,6 +105,11 @@ def test_no_speed_at_the_start_says_what_to_give():
     assert "no speed at the start" in stall.detail
     assert "start speed" in stall.detail and "lift" in stall.detail and "launch" in stall.detail
     assert run.evaluation.verdict == "fail"
+    # its remedy asks for speed, not for "at least 0.0 m/s to reach the top ahead"
+    from checker.events import events_of_run
+
+    (event,) = [e for e in events_of_run(run.evaluation, run.ride) if e.kind == "stall"]
+    assert "0.0 m/s" not in event.remedy.text and "give it speed" in event.remedy.text
 
 
 def test_case_file_with_one_stalling_case_fails_and_marks_the_matrix(tmp_path, capsys):
@@ -208,3 +213,20 @@ def test_two_stalling_cases_each_named_with_its_own_station(tmp_path):
     assert given["start speed"] == "0 m/s"
     text = " ".join(" ".join(p.extract_text() for p in PdfReader(str(pdf)).pages).split())
     assert "Track, speed and ride time of load case fast (the first case)" in text
+
+
+@pytest.mark.parametrize("pitch_deg, roll_deg, expected", [
+    (60.0, 0.0, "upright"),      # a steep climb: on their backs, not on their side
+    (0.0, 90.0, "on its side"),  # rolled a quarter turn
+    (0.0, 50.0, "on its side"),
+    (0.0, 30.0, "upright"),
+    (150.0, 0.0, "inverted"),    # past the top of a loop
+    (0.0, 180.0, "inverted"),    # a zero-g roll, upside down
+])
+def test_stall_attitude_comes_from_roll_and_inversion_not_pitch(pitch_deg, roll_deg, expected):
+    # rider axes for a pitch (about the left axis) then a roll (about the track tangent):
+    # up_z = cos(pitch) cos(roll), left_z = sin(roll) (rotation matrices, from memory)
+    from checker.dynamics import attitude
+
+    p, r = np.radians(pitch_deg), np.radians(roll_deg)
+    assert attitude(float(np.cos(p) * np.cos(r)), float(np.sin(r))) == expected
