@@ -24,7 +24,7 @@ from .events import group_findings
 from .limits import AXES, REST, LimitSet
 from .loadcases import LoadCase, apply_case
 from .operation import Operation
-from .parentwatch import watch_parent
+from .parentwatch import stop_pool, watch_parent
 from .ride import CheckRun, RideOptions, RideResult, evaluate_ride, layout_geometry, run_check
 from .rules import Evaluation, Finding, verdict_of
 from .terminal import shorten
@@ -335,13 +335,18 @@ def _execute(jobs: list, workers: int | None, scheduler: str | None,
     from concurrent.futures import as_completed as first_done
 
     context = multiprocessing.get_context("fork" if sys.platform != "win32" else "spawn")
-    with ProcessPoolExecutor(min(workers, total), mp_context=context,
-                             initializer=_start_worker,
-                             initargs=(os.getpid(), min(workers, total))) as pool:
+    pool = ProcessPoolExecutor(min(workers, total), mp_context=context,
+                               initializer=_start_worker,
+                               initargs=(os.getpid(), min(workers, total)))
+    try:
         futures = {pool.submit(_run_one, job): i for i, job in enumerate(jobs)}
         for fut in first_done(futures):
             outcomes[futures[fut]] = fut.result()
             tick(outcomes[futures[fut]])
+    except BaseException:  # interrupted or failed: the other cases are not wanted
+        stop_pool(pool)
+        raise
+    pool.shutdown()
     return outcomes
 
 
