@@ -455,8 +455,9 @@ def fit_dependence(centerline: Centerline, train: Train, operation: Operation,
     list of str
         One review item per rule that fails one way only (empty when the fit decides none).
     """
+    # signals kept: the margins stay uncomputed (only the findings are read here)
     exact = run_check(centerline, train, operation, limits,
-                      replace(options, smoothing_m=0.0), case, keep_signals=False).evaluation
+                      replace(options, smoothing_m=0.0), case).evaluation
     smoothed_rules = {f.rule for f in evaluation.findings if f.kind != "stall"}
     notes = []
     for f in exact.findings:  # most severe first: one note per rule
