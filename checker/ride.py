@@ -455,9 +455,9 @@ def fit_dependence(centerline: Centerline, train: Train, operation: Operation,
     list of str
         One review item per rule that fails one way only (empty when the fit decides none).
     """
-    # signals kept: the margins stay uncomputed (only the findings are read here)
-    exact = run_check(centerline, train, operation, limits,
-                      replace(options, smoothing_m=0.0), case).evaluation
+    # only the findings are read: no design aids, the margins left uncomputed
+    ride = run_ride(centerline, train, operation, replace(options, smoothing_m=0.0))
+    exact = evaluate(ride.histories, limits, case, keep_signals=True, aids=False)
     smoothed_rules = {f.rule for f in evaluation.findings if f.kind != "stall"}
     notes = []
     for f in exact.findings:  # most severe first: one note per rule
