@@ -35,6 +35,7 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
+from .errors import InputError
 from .ride import RideOptions, run_ride
 
 DEFAULT_ROLL_RATE_DEG_S = 60.0
@@ -309,7 +310,7 @@ def advise_bank(centerline, train, operation, options: RideOptions | None = None
     ------
     InputError
         As :func:`checker.ride.run_ride` (track too short, sections off the track, memory
-        cap).
+        cap), and when the train stalls (no speed to bank for beyond the stall).
 
     References
     ----------
@@ -318,6 +319,13 @@ def advise_bank(centerline, train, operation, options: RideOptions | None = None
     """
     options = options or RideOptions()
     given = run_ride(centerline, train, operation, options)
+    stall = given.motion.stall
+    if stall is not None:  # no speed beyond it: nothing to bank for
+        raise InputError(centerline.source, f"the train comes to rest with its lead car at "
+                         f"station {stall.station_m:.1f} m (t = {stall.time_s:.2f} s), and the "
+                         "bank advice needs a ride that reaches the end of the track",
+                         "make the train get through first (checker check shows the stall "
+                         "and what to change)")
     grid = given.geometry.s
     sample_s = given.geometry.sample_stations
     current = given.geometry.roll_deg.copy()

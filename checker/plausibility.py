@@ -147,7 +147,8 @@ def motion_warnings(geometry: TrackGeometry, motion: RideMotion,
         without a launch, a start speed more than :data:`ENERGY_TOLERANCE_M_S` above what the
         height range gives (``sqrt(2 g0 h)``); unless a force launch without a speed cap is
         present, a top speed more than :data:`ENERGY_TOLERANCE_M_S` above
-        ``sqrt(v_p**2 + 2 g0 h)``, ``v_p`` the largest start, lift or launch speed.
+        ``sqrt(v_p**2 + 2 g0 h)``, ``v_p`` the largest start, lift or launch speed; a train
+        still faster than :data:`END_SPEED_M_S` at the end of the track (no stopping brake).
     """
     out = []
     if motion.unsettled_e > 0.0:
@@ -178,6 +179,11 @@ def motion_warnings(geometry: TrackGeometry, motion: RideMotion,
         out.append(f"start speed {operation.start_speed_m_s:.1f} m/s is more than the layout's "
                    f"{np.ptp(z):.1f} m height range can give ({from_height:.1f} m/s) and no "
                    "launch provides it (energy check): check the start speed and its units")
+    if motion.end_reason.startswith("reached the end") and motion.v[-1] > END_SPEED_M_S:
+        out.append(f"the train reaches the end of the track at {motion.v[-1]:.1f} m/s: no "
+                   "stopping brake brings it to rest, so what happens beyond is not checked; "
+                   "add a brake section with speed_m_s = 0 at the end (operation file) or "
+                   "extend the track")
     bound = float(np.sqrt(max(powered) ** 2 + 2 * G0 * np.ptp(z)))
     top = float(motion.v.max())
     if not force_launch and top > bound + ENERGY_TOLERANCE_M_S:
@@ -187,6 +193,7 @@ def motion_warnings(geometry: TrackGeometry, motion: RideMotion,
     return out
 
 
+END_SPEED_M_S = 0.5  # a train faster than this at the track's end ran off it (rough)
 REST_GZ_RANGE = (0.5, 1.5)  # [g0] median Gz of a seated rider's record (rough, common practice)
 USUAL_CORNER_HZ = (1.0, 30.0)  # low-pass corners used for ride acceleration (common practice)
 BODY_REACH_M = 0.5  # a rider's reach beyond the seat reference point (rough)

@@ -77,3 +77,16 @@ def test_advise_bank_bad_track_writes_nothing(tmp_path, capsys):
     err = capsys.readouterr().err
     assert code == 2 and "bad.csv" in err and len(err.strip().splitlines()) == 1
     assert out.read_text() == "previous\n" and not (tmp_path / "banked.svg").exists()
+
+
+def test_advise_bank_refuses_a_ride_that_stalls(tmp_path, capsys):
+    # a hill too high for the start speed: beyond the stall there is nothing to bank for,
+    # and the advice once wrote a track with roll 0 through turns the train never reaches
+    from test_stalls import write_hill
+
+    track = write_hill(tmp_path)
+    out = tmp_path / "banked.csv"
+    code = main(["advise-bank", track, "--ideal", "--start-speed", "10", "-o", str(out)])
+    err = capsys.readouterr().err
+    assert code == 2 and len(err.strip().splitlines()) == 1 and "comes to rest" in err
+    assert not out.exists() and not (tmp_path / "banked.svg").exists()

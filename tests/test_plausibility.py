@@ -132,3 +132,18 @@ def test_filter_corner_outside_the_usual_range_is_flagged(tmp_path, capsys):
         main(["check-history", record, "--limits", str(limits)])
         err = capsys.readouterr().err
         assert ("outside the usual 1 to 30 Hz" in err) == flagged, (corner, err)
+
+
+def test_running_off_the_end_of_the_track_is_flagged():
+    # a level straight without a stopping brake: the train still rolls at the last sample,
+    # so whatever follows is unchecked; with a brake that stops it, nothing is said
+    from checker.operation import Brake
+
+    pts = straight(150.0, 1.0)
+    assert "reaches the end of the track at" in warnings_for(pts, start=8.0)
+    braked = run_ride(Centerline(pts), ideal_rider(),
+                      Operation(start_speed_m_s=8.0,
+                                sections=(Brake(start_m=-60.0, end_m=-2.0, speed_m_s=0.0),)),
+                      RideOptions(rate_hz=50))
+    assert braked.motion.end_reason.startswith("stopped by a brake")
+    assert not any("end of the track" in w for w in braked.warnings)
