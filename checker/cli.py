@@ -402,6 +402,10 @@ def _cmd_compare(args: argparse.Namespace, app, call: str) -> int:
         plot_signals=bool(args.pdf), call=call)
     for stall in result.new_stalls:
         print(f"warning: {stall}", file=sys.stderr)
+    for outcome in result.new.outcomes:  # a stall both revisions share fails the new one too
+        if outcome.stall and not any(f"case {outcome.case}:" in s for s in result.new_stalls):
+            print(f"warning: new revision, case {outcome.case}, stalls as the old one did: "
+                  f"{outcome.stall}", file=sys.stderr)
     print(result.summary())
     _write_documents(args, result)
     return EXIT_FINDINGS if result.regressed else EXIT_OK

@@ -222,7 +222,7 @@ def explain_events(events: Sequence[Event], geometry=None, sections: tuple = (),
     """Events with the element there in words and a remedy computed from the physics.
 
     Without geometry (recorded data), or for an event without stations, the place reads
-    "recorded data (no track geometry)" and there is no computed remedy.
+    "recorded data" and there is no computed remedy.
 
     Parameters
     ----------
@@ -247,7 +247,7 @@ def explain_events(events: Sequence[Event], geometry=None, sections: tuple = (),
     out = []
     for e in events:
         if geometry is None or e.s_start_m is None:
-            out.append(replace(e, place="recorded data (no track geometry)"))
+            out.append(replace(e, place="recorded data"))  # no track geometry
             continue
         place = element_at(geometry, e.s_start_m, e.s_end_m, sections)
         out.append(replace(e, place=place,

@@ -235,3 +235,26 @@ def test_stall_attitude_comes_from_roll_and_inversion_not_pitch(pitch_deg, roll_
 
     p, r = np.radians(pitch_deg), np.radians(roll_deg)
     assert attitude(float(np.cos(p) * np.cos(r)), float(np.sin(r))) == expected
+
+
+def test_compare_names_a_stall_both_revisions_share(tmp_path, capsys):
+    # the old revision stalled too, so it is no regression, but the new one still fails:
+    # the terminal says so (it once never mentioned the stall)
+    hill = write_hill(tmp_path)
+    code = main(["compare", hill, hill, "--ideal", "--start-speed", "10", "--workers", "1",
+                 "--quiet"])
+    err = capsys.readouterr().err
+    assert code == 0  # not worse than before
+    assert "new revision, case nominal, stalls as the old one did" in err
+
+
+def test_recorded_events_name_no_element_beyond_the_terminal_column():
+    # recorded data have no track: the element reads "recorded data" (the terminal's
+    # 20-character column once cut a longer text to "recorded data (no tr")
+    from checker.events import explain_events, group_findings
+    from checker.rules import Finding
+
+    finding = Finding("duration +Gz", "duration", "gz", "seatA", "nominal", 5.0, 5.5, 0.5,
+                      4.5, 4.0, -0.5, 5.2)
+    (event,) = explain_events(group_findings([finding]))
+    assert event.place == "recorded data" and len(event.place) <= 20
