@@ -89,7 +89,9 @@ def comparison_pdf(comparison: Comparison, focus: dict, meta: dict) -> bytes:
                                                     max(b.durations_s[-1],
                                                         rule.durations_s[-1])),
                        "limit_levels": np.append(rule.levels_g, rule.levels_g[-1]),
-                       "step": rule.interpolation == "step"})
+                       "step": rule.interpolation == "step",
+                       "limit_label": ("illustrative limit" if meta["limits"].illustrative
+                                       else "limit")})
     if curves:
         jobs.append((figures.exposure_curves, (curves, ""), figures.exposure_curves_height(False)))
     # drawn in a worker while weasyprint lays the document out
