@@ -308,7 +308,7 @@ class LayoutCheck:
         str
             Newline-separated lines, no trailing newline.
         """
-        lines = [summary_table(self.evaluation, list(self.events)),
+        lines = [summary_table(self.evaluation, list(self.events), self.ride is None),
                  aids_summary(self.evaluation, self.sensitivity)]
         if self.sweep is not None:
             lines.append(sweep_tables(self.sweep))

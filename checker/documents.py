@@ -204,7 +204,8 @@ def to_json(doc: dict) -> str:
     return json.dumps(doc, indent=2, sort_keys=True) + "\n"
 
 
-def events_table(events: list, verdict: str, finding_count: int) -> str:
+def events_table(events: list, verdict: str, finding_count: int,
+                 recorded: bool = False) -> str:
     """Terminal view: one line per event, worst first, then the overall verdict.
 
     Parameters
@@ -215,6 +216,8 @@ def events_table(events: list, verdict: str, finding_count: int) -> str:
         The overall verdict (``"pass"``/``"fail"``), printed upper case.
     finding_count : int
         How many findings the events group.
+    recorded : bool, optional
+        Recorded data: the governing seat is named without a load case (none is involved).
 
     Returns
     -------
@@ -230,7 +233,7 @@ def events_table(events: list, verdict: str, finding_count: int) -> str:
         g = e.governing
         lines.append(f"{e.id:<5} {e.rule[:24]:<24} {e.where:<17} {e.place[:20]:<20} "
                      f"{len(e.seats):>5} {len(e.cases):>5}  {margin_text(e):>13}  "
-                     f"{g.seat} / {g.case}")
+                     + (g.seat if recorded else f"{g.seat} / {g.case}"))
         if e.kind == "stall":
             lines.append(f"      {g.detail.split('; this seat')[0]}")
         if e.remedy is not None:
@@ -252,7 +255,8 @@ def events_table(events: list, verdict: str, finding_count: int) -> str:
     return "\n".join(lines)
 
 
-def summary_table(evaluation: Evaluation, events: list | None = None) -> str:
+def summary_table(evaluation: Evaluation, events: list | None = None,
+                  recorded: bool = False) -> str:
     """Terminal summary: the events table (see :func:`events_table`).
 
     Parameters
@@ -261,6 +265,8 @@ def summary_table(evaluation: Evaluation, events: list | None = None) -> str:
         The check's evaluation.
     events : list of Event or None, optional
         The events when already grouped; None groups and explains them here.
+    recorded : bool, optional
+        Recorded data (see :func:`events_table`).
 
     Returns
     -------
@@ -272,7 +278,7 @@ def summary_table(evaluation: Evaluation, events: list | None = None) -> str:
     findings = evaluation.findings
     if events is None:
         events = explain_events(group_findings(findings))
-    return events_table(events, evaluation.verdict, len(findings))
+    return events_table(events, evaluation.verdict, len(findings), recorded)
 
 
 def sweep_document(sweep) -> dict:

@@ -350,3 +350,11 @@ def test_seat_table_of_many_seats_and_cases_runs_on_within_the_pages(tmp_path):
                                        top=height).strip())
     assert sorted(seen) == sorted(s.seat for s in seats)  # each seat once per case
     assert f"{name}, revision R2" in heads
+
+
+def test_terminal_names_no_load_case_for_recorded_data():
+    # a record is one ride as it was: the events table names the governing seat alone
+    run = pulse_run(3.6)
+    assert run.evaluation.findings
+    text = run.summary()
+    assert " seatA" in text and "/ nominal" not in text
