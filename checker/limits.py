@@ -589,7 +589,10 @@ def load_limits(path: str | Path) -> LimitSet:
                               "list the vertices in order around the boundary")
         rest = np.array([[REST[axes[0]], REST[axes[1]]]])
         if not contains(vertices, rest)[0]:
-            raise f.error("vertices", f"envelope does not contain the rest point "
+            given = "table" if f.has("table") else "vertices"  # name what holds the points
+            what = (f"the polygon of table '{f.raw('table')}'" if given == "table"
+                    else "envelope")
+            raise f.error(given, f"{what} does not contain the rest point "
                           f"({axes[0]}, {axes[1]}) = ({rest[0, 0]:g}, {rest[0, 1]:g})",
                           "a rider at rest must be inside; check signs and axis order")
         f.done()

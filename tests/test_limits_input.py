@@ -134,3 +134,17 @@ def test_check_json_carries_station_and_is_deterministic(tmp_path, capsys):
     assert gz and all(f["s_start_m"] is not None for f in gz)
     # the +Gz exceedance is at the loop's bottom half: the track station 29 m to 60 m
     assert 29.0 < gz[0]["s_worst_m"] < 62.0
+
+
+def test_a_table_polygon_missing_the_rest_point_names_its_table(tmp_path, capsys):
+    # the points come from a CSV table: the error names the key that gives the table and the
+    # table's file, not a 'vertices' key the user never wrote
+    (tmp_path / "far.csv").write_text("gy,gz\n-1,2\n1,2\n0,4\n")
+    limits = tmp_path / "limits.toml"
+    limits.write_text(HEAD + '[[combined]]\naxes = ["gy", "gz"]\ntable = "far.csv"\n')
+    hist = history_csv(tmp_path / "h.csv", np.arange(100) / 200, np.ones(100))
+    code = main(["check-history", str(hist), "--limits", str(limits)])
+    err = capsys.readouterr().err
+    assert code == 2 and err.count("\n") == 1
+    assert "combined[1].table" in err and "far.csv" in err and "rest point" in err
+    assert "vertices" not in err
