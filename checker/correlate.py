@@ -5,9 +5,10 @@ Both signals are filtered with the limit set's filter, then aligned in time:
 * by station, where the record carries the station ``s`` of its car: each recorded sample is
   paired with the simulated sample at the same station, and the time offset is the median
   of the paired time differences;
-* otherwise by the cross-correlation of the filtered Gz (mean removed) on a common uniform
-  grid (scipy.signal.correlate and correlation_lags), with the peak refined to a fraction
-  of a sample by a parabola through the three highest values.
+* otherwise by the cross-correlation of the filtered Gz on a common uniform grid: the
+  correlation coefficient over each lag's overlap (sliding sums by scipy.signal.correlate,
+  lags by correlation_lags; J. P. Lewis, "Fast normalized cross-correlation", 1995), the
+  peak refined to a fraction of a sample by a parabola through the three highest values.
 
 The differences (recorded minus simulated) are then taken on the overlap, per axis: RMS and
 largest absolute difference with its time. Arrays in, a frozen :class:`Correlation` out.
@@ -122,9 +123,10 @@ def cross_correlation_offset(t_rec: np.ndarray, gz_rec: np.ndarray, t_sim: np.nd
                              ) -> tuple[float, float]:
     """Time offset between a record and a simulation by cross-correlation.
 
-    Both signals are put on the simulation's step (linear interpolation), their means
-    removed, and cross-correlated (scipy.signal.correlate, full mode); the best lag is
-    refined by a parabola through the peak and its two neighbours.
+    Both signals are put on the simulation's step (linear interpolation); at every lag whose
+    overlap covers at least half the shorter signal, the correlation coefficient over that
+    overlap is computed from sliding sums (scipy.signal.correlate, full mode); the best lag
+    is refined by a parabola through the peak and its two neighbours.
 
     Parameters
     ----------
@@ -144,8 +146,8 @@ def cross_correlation_offset(t_rec: np.ndarray, gz_rec: np.ndarray, t_sim: np.nd
     offset_s : float
         Record time = simulation time + offset_s [s].
     peak : float
-        Normalized cross-correlation at the integer peak lag, -1..1; nan when either
-        signal is constant [-].
+        Correlation coefficient over the overlap at the integer peak lag, -1..1; nan when
+        no lag gives a usable overlap (a constant signal) [-].
 
     References
     ----------
@@ -157,22 +159,38 @@ def cross_correlation_offset(t_rec: np.ndarray, gz_rec: np.ndarray, t_sim: np.nd
     sim_grid = t_sim[0] + step * np.arange(int(np.floor((t_sim[-1] - t_sim[0]) / step)) + 1)
     a = np.interp(rec_grid, t_rec, gz_rec)
     b = np.interp(sim_grid, t_sim, gz_sim)
-    a = a - a.mean()
+    # The correlation coefficient at every lag over that lag's overlap (means and energies
+    # of the overlapping parts only, from sliding sums: J. P. Lewis, "Fast normalized
+    # cross-correlation", Vision Interface 1995). Whole-signal means biased the peak of a
+    # record of part of the ride by 8 ms (its mean is not the ride's).
+    a = a - a.mean()  # conditioning only: the coefficient ignores constant offsets
     b = b - b.mean()
-    corr = signal.correlate(a, b, mode="full")
+    ones_a, ones_b = np.ones_like(a), np.ones_like(b)
+    count = np.rint(signal.correlate(ones_a, ones_b, mode="full"))
+    sum_ab = signal.correlate(a, b, mode="full")
+    sum_a = signal.correlate(a, ones_b, mode="full")
+    sum_b = signal.correlate(ones_a, b, mode="full")
+    sum_aa = signal.correlate(a * a, ones_b, mode="full")
+    sum_bb = signal.correlate(ones_a, b * b, mode="full")
     lags = signal.correlation_lags(len(a), len(b), mode="full")
+    with np.errstate(invalid="ignore", divide="ignore"):
+        spread = ((sum_aa - sum_a**2 / count) * (sum_bb - sum_b**2 / count)).clip(min=0.0)
+        corr = (sum_ab - sum_a * sum_b / count) / np.sqrt(spread)
+    # only lags that overlap over at least half the shorter signal can be trusted
+    usable = (count >= 0.5 * min(len(a), len(b))) & np.isfinite(corr)
     if max_lag_s is not None:
-        keep = np.abs(lags * step) <= max_lag_s
-        corr, lags = corr[keep], lags[keep]
+        usable &= np.abs(lags * step) <= max_lag_s
+    if not usable.any():
+        return rec_grid[0] - sim_grid[0], float("nan")
+    corr = np.where(usable, corr, -np.inf)
     k = int(np.argmax(corr))
     shift = float(lags[k])
-    if 0 < k < len(corr) - 1:
+    if 0 < k < len(corr) - 1 and np.isfinite(corr[k - 1]) and np.isfinite(corr[k + 1]):
         y0, y1, y2 = corr[k - 1], corr[k], corr[k + 1]
         denom = y0 - 2 * y1 + y2
         if denom < 0:
             shift += 0.5 * (y0 - y2) / denom
-    norm = float(np.sqrt(np.sum(a * a) * np.sum(b * b)))
-    peak = float(corr[k] / norm) if norm > 0 else float("nan")
+    peak = float(corr[k])
     return rec_grid[0] - sim_grid[0] + shift * step, peak
 
 
