@@ -33,6 +33,10 @@ from .train import Train
 # what acts at a station of the marching grid (0: nothing, the train rolls freely)
 UNPOWERED, LIFT, LAUNCH_FORCE, LAUNCH_SPEED, BRAKE = 0, 1, 2, 3, 4  # section code per step
 RAN_TO_END, STOPPED_BY_BRAKE, STALLED = 0, 1, 2
+# v^2 / 2 below which the train is at rest [m^2/s^2] (1 mm/s): a train started from rest on
+# a track level to the last bit of its coordinates otherwise crept along at 1e-22 m/s and
+# "arrived" after 5e14 s (a memory error instead of the stall at the start)
+REST_ENERGY = 0.5 * 1e-3**2
 
 
 @dataclass(frozen=True)
@@ -162,7 +166,7 @@ def _linear_steps(e_start: float, ds: float, alpha: np.ndarray,
     e = growth * (e_start + np.cumsum(add / growth))
     before = np.concatenate([[e_start], e[:-1]])
     pred = before * (1.0 + ds * b0) + ds * a0
-    bad = np.flatnonzero((e <= 0.0) | (pred < 0.0))
+    bad = np.flatnonzero((e <= REST_ENERGY) | (pred < 0.0))
     valid = int(bad[0]) if bad.size else len(e)
     return e, valid
 
@@ -217,8 +221,8 @@ def _march_linear(ds, base, dload, mu_over_m, drag_over_m, wind, e0, gravity, co
             en = max(ef - accel[k] * ds, target_e[k])
         else:
             en = ef
-        if en <= 0.0:
-            frac = ek / (ek - en) if ek - en > 0.0 else 0.0
+        if en <= REST_ENERGY:  # at rest (or creeping too slowly to ever arrive)
+            frac = min(ek / (ek - en), 1.0) if ek - en > 0.0 and en <= 0.0 else 0.0
             reason = STOPPED_BY_BRAKE if (c == BRAKE and target_e[k] <= 0.0) else STALLED
             return np.asarray(e), k, reason, frac
         e[k + 1] = en

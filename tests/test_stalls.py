@@ -258,3 +258,17 @@ def test_recorded_events_name_no_element_beyond_the_terminal_column():
                       4.5, 4.0, -0.5, 5.2)
     (event,) = explain_events(group_findings([finding]))
     assert event.place == "recorded data" and len(event.place) <= 20
+
+
+def test_a_train_at_rest_on_a_track_level_to_its_last_digits_stalls_at_the_start():
+    # a fall of 1e-12 m per metre (rounding's last bit): with no losses (the ideal rider)
+    # the train once crept along at microns a second and "reached the end" after days,
+    # which the memory check then refused (a trial's S-curve: 5e14 s); at 1 mm/s and below
+    # it is at rest: no speed at the start
+    x = np.arange(0.0, 80.0, 0.5)
+    points = np.column_stack([x, 0 * x, -1e-12 * x])
+    run = run_check(Centerline(points), ideal_rider(), Operation(start_speed_m_s=0.0),
+                    load_limits(BUNDLED_LIMITS))
+    (stall,) = [f for f in run.evaluation.findings if f.kind == "stall"]
+    assert "no speed at the start" in stall.detail
+    assert run.ride.motion.duration_s < 10.0
