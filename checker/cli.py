@@ -297,13 +297,16 @@ def _note_limits(args: argparse.Namespace, app) -> None:
 
 def _outputs(args: argparse.Namespace) -> list[tuple[str, str | Path | None]]:
     """(option, path) of every output of a check or comparison; --pdf brings its sidecar."""
-    sidecar = report_sidecar(args.pdf, args.json) if args.pdf else args.json
-    return [("--pdf", args.pdf), (_sidecar_label(args), sidecar)]
+    return [("--pdf", args.pdf), _json_output(args)]
 
 
-def _sidecar_label(args: argparse.Namespace) -> str:
-    """How an error names the JSON output: the option given, or the report's sidecar."""
-    return "--json" if args.json or not args.pdf else "the --pdf report's JSON sidecar"
+def _json_output(args: argparse.Namespace) -> tuple[str, str | Path | None]:
+    """(how an error names it, path) of the JSON a command writes: ``--json``, or the
+    sidecar that ``--pdf`` brings."""
+    if args.pdf is None:
+        return "--json", args.json
+    label = "--json" if args.json else "the --pdf report's JSON sidecar"
+    return label, report_sidecar(args.pdf, args.json)
 
 
 def _check_outputs(args: argparse.Namespace, *inputs: str | Path | None) -> None:
@@ -402,8 +405,9 @@ def _cmd_compare(args: argparse.Namespace, app, call: str) -> int:
         plot_signals=bool(args.pdf), call=call)
     for stall in result.new_stalls:
         print(f"warning: {stall}", file=sys.stderr)
+    old_stalls = {o.case for o in result.old.outcomes if o.stall}
     for outcome in result.new.outcomes:  # a stall both revisions share fails the new one too
-        if outcome.stall and not any(f"case {outcome.case}:" in s for s in result.new_stalls):
+        if outcome.stall and outcome.case in old_stalls:
             print(f"warning: new revision, case {outcome.case}, stalls as the old one did: "
                   f"{outcome.stall}", file=sys.stderr)
     print(result.summary())
@@ -433,10 +437,9 @@ def _cmd_advise_bank(args: argparse.Namespace, app, call: str) -> int:
     if out.suffix.lower() == ".svg":
         raise InputError(out, "-o names the track CSV; its plot goes beside it as .svg",
                          "give the output a .csv name")
-    sidecar = report_sidecar(args.pdf, args.json) if args.pdf else args.json  # as the others
+    json_label, sidecar = _json_output(args)
     check_run_paths([args.track, args.train, args.operation],
-                    [("-o", out), ("plot", plot), (_sidecar_label(args), sidecar),
-                     ("--pdf", args.pdf)])
+                    [("-o", out), ("plot", plot), (json_label, sidecar), ("--pdf", args.pdf)])
     advice = app.advise_bank_angle(
         args.track, train=args.train, ideal=args.ideal, operation=args.operation,
         start_speed_m_s=args.start_speed, rate_hz=args.rate, units=args.units,
@@ -451,9 +454,9 @@ def _cmd_advise_bank(args: argparse.Namespace, app, call: str) -> int:
 
 
 def _cmd_correlate(args: argparse.Namespace, app, call: str) -> int:
-    sidecar = report_sidecar(args.pdf, args.json) if args.pdf else args.json
+    json_label, sidecar = _json_output(args)
     check_run_paths([args.record, args.track, args.train, args.operation, args.limits,
-                     args.instrument], [("--pdf", args.pdf), (_sidecar_label(args), sidecar)])
+                     args.instrument], [("--pdf", args.pdf), (json_label, sidecar)])
     _note_limits(args, app)
     result = app.correlate_ride(
         args.record, args.track, record_units=args.record_units, instrument=args.instrument,

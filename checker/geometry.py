@@ -38,6 +38,7 @@ QUINTIC_MIN_SAMPLES = 6  # a degree-5 spline needs 6 samples; fewer get a cubic
 # twist-minimal bridge; SMOOTHING_LENGTH_M sets how gently the reference may turn [m].
 BLEND_START_DEG = 10.0
 SMOOTHING_LENGTH_M = 1.5
+STRAY_TOLERANCES = 20  # a smoothed fit this many tolerances off the samples' curve is refused
 # Passes that replace the chord-length parameter by the fitted curve's arc length.
 ARC_LENGTH_PASSES = 2
 # Smoothing fit: order of the coefficient differences penalized; the length of track end a
@@ -55,6 +56,11 @@ END_WINDOW_WIDTHS = 4.5
 # Curvature-noise probe: a smoothing fit within this tolerance [m] is compared with the fit
 # used; noise shows as curvature the probe removes (RMS over the samples).
 NOISE_PROBE_M = 0.002
+
+
+class _OutOfReach(ValueError):
+    """No fit on the smoothing knots comes within the tolerance of the samples (samples much
+    denser in places than the knots, which are evenly spaced)."""
 
 
 @dataclass(frozen=True)
@@ -608,14 +614,6 @@ def _curvature_continuation(spline: BSpline, u_end: float, sign: float, window: 
     return (u_out[::-1], out[::-1]) if sign < 0 else (u_out, out)
 
 
-class _OutOfReach(ValueError):
-    """No fit on the smoothing knots comes within the tolerance of the samples (samples much
-    denser in places than the knots, which are evenly spaced)."""
-
-
-STRAY_TOLERANCES = 20  # a smoothed fit this many tolerances off the samples' curve is refused
-
-
 def _fit_centerline(points: np.ndarray, smoothing_m: float):
     """Fit the centerline; returns (fit used, exact interpolant, sample parameters, why the
     smoothed fit was refused or "").
@@ -795,8 +793,8 @@ def build_geometry(
             probe = _penalized_fit(points, u, 5 if len(points) >= QUINTIC_MIN_SAMPLES else 3,
                                    NOISE_PROBE_M, end_passes=0)
         except _OutOfReach:  # nothing to compare with: no probe
-            probe = None
-        if probe is not None:
+            pass
+        else:
             noise = _smoothing_report(points, probe, spline, u, sample_s, NOISE_PROBE_M)
     return TrackGeometry(s, position, tangent, left_v, up_v, curv, omega, domega, roll,
                          torsion, sample_s, report, noise)

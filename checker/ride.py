@@ -25,7 +25,7 @@ from .plausibility import (
     track_warnings,
     train_clearance_m,
 )
-from .rules import Evaluation, evaluate
+from .rules import Evaluation, Finding, evaluate
 from .stalls import stall_findings
 from .track import Centerline, load_centerline, smoothing_for
 from .train import Train, ideal_rider, load_train
@@ -458,23 +458,20 @@ def fit_dependence(centerline: Centerline, train: Train, operation: Operation,
     # only the findings are read: no design aids, the margins left uncomputed
     ride = run_ride(centerline, train, operation, replace(options, smoothing_m=0.0))
     exact = evaluate(ride.histories, limits, case, keep_signals=True, aids=False)
-    smoothed_rules = {f.rule for f in evaluation.findings if f.kind != "stall"}
+    smoothed = {f.rule for f in evaluation.findings if f.kind != "stall"}
+    worst: dict[str, Finding] = {}  # each rule's most severe finding through every sample
+    for f in exact.findings:
+        worst.setdefault(f.rule, f)
+    decides = "the fit decides this rule; check it with a finer export of the track"
     notes = []
-    for f in exact.findings:  # most severe first: one note per rule
-        if f.kind == "stall" or f.rule in smoothed_rules:
-            continue
-        smoothed_rules.add(f.rule)
-        where = f" at station {f.s_worst_m:.1f} m" if f.s_worst_m is not None else ""
-        notes.append(f"{f.rule} passes with the rounded coordinates smoothed but fails with "
-                     f"the curve through every sample (margin {f.margin:.3g} {f.unit}, seat "
-                     f"{f.seat}{where}): the fit decides this rule; check it with a finer "
-                     "export of the track")
-    exact_rules = {f.rule for f in exact.findings}
-    for rule in sorted({f.rule for f in evaluation.findings if f.kind != "stall"}
-                       - exact_rules):
-        notes.append(f"{rule} fails with the rounded coordinates smoothed but passes with the "
-                     "curve through every sample: the fit decides this rule; check it with a "
-                     "finer export of the track")
+    for rule, f in worst.items():
+        if rule not in smoothed:
+            where = f" at station {f.s_worst_m:.1f} m" if f.s_worst_m is not None else ""
+            notes.append(f"{rule} passes with the rounded coordinates smoothed but fails with "
+                         f"the curve through every sample (margin {f.margin:.3g} {f.unit}, "
+                         f"seat {f.seat}{where}): {decides}")
+    notes += [f"{rule} fails with the rounded coordinates smoothed but passes with the curve "
+              f"through every sample: {decides}" for rule in sorted(smoothed - worst.keys())]
     return notes
 
 

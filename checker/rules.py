@@ -287,6 +287,12 @@ class SeatResult:
         """FAIL when any rule is exceeded at this seat in this case, else PASS."""
         return verdict_of(bool(self.findings))
 
+    @property
+    def outcome(self) -> str:
+        """As the documents mark it: ``"stall"`` when the train stalled (a stall finding),
+        else the verdict (``"pass"`` or ``"fail"``)."""
+        return "stall" if any(f.kind == "stall" for f in self.findings) else self.verdict
+
     def without_signals(self) -> SeatResult:
         """The same result without the filtered signal and times.
 

@@ -140,9 +140,7 @@ class Sweep:
         """
         cases = [o.case for o in self.outcomes]
         seats = [s.seat for s in self.outcomes[0].evaluation.seats] if self.outcomes else []
-        cells = {(s.seat, o.case): ("stall" if any(f.kind == "stall" for f in s.findings)
-                                    else s.verdict)
-                 for o in self.outcomes for s in o.evaluation.seats}
+        cells = {(s.seat, o.case): s.outcome for o in self.outcomes for s in o.evaluation.seats}
         return seats, cases, cells
 
 

@@ -13,7 +13,7 @@ from ..documents import change_head, change_text, margin_text
 from ..rules import seat_exposures
 from ..terminal import shorten
 from . import figures
-from .document import PAGE_SIZES, _env, css_string, start_figure_jobs
+from .document import PAGE_SIZES, _env, css_string, limit_name, start_figure_jobs
 from .pdf import ASSET_SCHEME, TemplatesOnlyFetcher, render_pdf
 from .placing import PdfFigure
 
@@ -90,8 +90,7 @@ def comparison_pdf(comparison: Comparison, focus: dict, meta: dict) -> bytes:
                                                         rule.durations_s[-1])),
                        "limit_levels": np.append(rule.levels_g, rule.levels_g[-1]),
                        "step": rule.interpolation == "step",
-                       "limit_label": ("illustrative limit" if meta["limits"].illustrative
-                                       else "limit")})
+                       "limit_label": limit_name(meta["limits"])})
     if curves:
         jobs.append((figures.exposure_curves, (curves, ""), figures.exposure_curves_height(False)))
     # drawn in a worker while weasyprint lays the document out

@@ -171,12 +171,27 @@ def css_string(text: str, limit: int = 90) -> str:
     return markupsafe.Markup(flat)
 
 
+def limit_name(limits) -> str:
+    """What a figure's legend calls a limit: ``"illustrative limit"`` for an example set.
+
+    Parameters
+    ----------
+    limits : LimitSet
+        The limit set drawn.
+
+    Returns
+    -------
+    str
+        ``"illustrative limit"`` or ``"limit"``.
+    """
+    return "illustrative limit" if limits.illustrative else "limit"
+
+
 def _seat_section(result, worst: bool, recorded: bool) -> dict:
     """The template context of one seat's page, its figures still to be drawn."""
     who = result.seat if recorded else f"{result.seat}, case {result.case}"
-    stalled = any(f.kind == "stall" for f in result.findings)
     return {"seat": result.seat, "case": result.case, "count": len(result.findings),
-            "verdict": "stall" if stalled else result.verdict, "worst": worst,
+            "verdict": result.outcome, "worst": worst,
             "captions": {"histories": HISTORIES_CAPTION.format(seat=who),
                          "exposure": EXPOSURE_CAPTION, "combined": COMBINED_CAPTION}}
 
@@ -211,7 +226,7 @@ def _exposure_figure(result, limits) -> bytes:
                                                         rule.durations_s[-1])),
                        "limit_levels": np.append(rule.levels_g, rule.levels_g[-1]),
                        "step": rule.interpolation == "step",
-                       "limit_label": "illustrative limit" if limits.illustrative else "limit"})
+                       "limit_label": limit_name(limits)})
     return figures.exposure_curves(curves, "")
 
 
@@ -515,7 +530,7 @@ def _event_figure_job(event: Event, evaluation: Evaluation, signals: dict):
     raw = np.asarray(raw_signal.g) if raw_signal is not None else None
     axes = [AXES.index(a) for a in g.axis.split("+") if a in AXES]
     span = (g.t_start, g.t_end)
-    name = "illustrative limit" if evaluation.limits.illustrative else "limit"
+    name = limit_name(evaluation.limits)
     limits = [(f"{name} {g.limit_g:.2f} g for {g.duration_s:.3g} s", g.limit_g)] \
         if event.kind == "duration" else []
     onset = None
@@ -567,8 +582,7 @@ def build_html(evaluation: Evaluation, signals: dict, ride, meta: ReportMeta,
     seat_names = sorted({s.seat for s in evaluation.seats})
     case_names = sorted({s.case for s in evaluation.seats})
     seat_rows = [{"seat": s.seat, "case": s.case, "count": len(s.findings),
-                  "verdict": ("stall" if any(f.kind == "stall" for f in s.findings)
-                              else s.verdict)} for s in evaluation.seats]
+                  "verdict": s.outcome} for s in evaluation.seats]
     assets: dict[str, PdfFigure] = {}
 
     def asset(figure: PdfFigure | None) -> str:
